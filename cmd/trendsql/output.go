@@ -1,0 +1,224 @@
+package main
+
+import (
+	"database/sql"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+)
+
+// Output formats for query results.
+const (
+	FormatTable = "table"
+	FormatCSV   = "csv"
+	FormatJSON  = "json"
+)
+
+// nullMark is how the table format shows SQL NULL, distinct from any text.
+const nullMark = "∅"
+
+// maxCell is the widest a table cell is drawn; longer text is cut with "…".
+const maxCell = 60
+
+func validFormat(f string) bool { return f == FormatTable || f == FormatCSV || f == FormatJSON }
+
+// writeRows renders a result set in the chosen format and returns the row count.
+func writeRows(w io.Writer, rows *sql.Rows, format string) (int, error) {
+	cols, err := rows.Columns()
+	if err != nil {
+		return 0, err
+	}
+	vals := make([]any, len(cols))
+	ptrs := make([]any, len(cols))
+	for i := range vals {
+		ptrs[i] = &vals[i]
+	}
+	var n int
+	switch format {
+	case FormatCSV:
+		cw := csv.NewWriter(w)
+		if len(cols) > 0 {
+			cw.Write(cols)
+		}
+		rec := make([]string, len(cols))
+		for rows.Next() {
+			if err := rows.Scan(ptrs...); err != nil {
+				return n, err
+			}
+			for i, v := range vals {
+				rec[i] = plain(v, true)
+			}
+			cw.Write(rec)
+			n++
+		}
+		cw.Flush()
+		if err := cw.Error(); err != nil {
+			return n, err
+		}
+	case FormatJSON:
+		// One JSON array of objects; column order kept.
+		fmt.Fprint(w, "[")
+		for rows.Next() {
+			if err := rows.Scan(ptrs...); err != nil {
+				return n, err
+			}
+			if n > 0 {
+				fmt.Fprint(w, ",")
+			}
+			fmt.Fprint(w, "\n  {")
+			for i, c := range cols {
+				if i > 0 {
+					fmt.Fprint(w, ", ")
+				}
+				k, _ := json.Marshal(c)
+				fmt.Fprintf(w, "%s: %s", k, jsonValue(vals[i]))
+			}
+			fmt.Fprint(w, "}")
+			n++
+		}
+		if n > 0 {
+			fmt.Fprint(w, "\n")
+		}
+		fmt.Fprintln(w, "]")
+	default:
+		var table [][]string
+		var numeric = make([]bool, len(cols))
+		for i := range numeric {
+			numeric[i] = true
+		}
+		for rows.Next() {
+			if err := rows.Scan(ptrs...); err != nil {
+				return n, err
+			}
+			rec := make([]string, len(cols))
+			for i, v := range vals {
+				rec[i] = cell(v)
+				switch v.(type) {
+				case int64, float64, nil:
+				default:
+					numeric[i] = false
+				}
+			}
+			table = append(table, rec)
+			n++
+		}
+		if err := rows.Err(); err != nil {
+			return n, err
+		}
+		if len(cols) > 0 {
+			drawTable(w, cols, table, numeric)
+			fmt.Fprintf(w, "(%d row%s)\n", n, plural(n))
+		}
+	}
+	return n, rows.Err()
+}
+
+func plural(n int) string {
+	if n == 1 {
+		return ""
+	}
+	return "s"
+}
+
+func drawTable(w io.Writer, cols []string, table [][]string, numeric []bool) {
+	width := make([]int, len(cols))
+	for i, c := range cols {
+		width[i] = utf8.RuneCountInString(c)
+	}
+	for _, r := range table {
+		for i, c := range r {
+			if l := utf8.RuneCountInString(c); l > width[i] {
+				width[i] = l
+			}
+		}
+	}
+	line := func(r []string, header bool) {
+		var b strings.Builder
+		for i, c := range r {
+			if i > 0 {
+				b.WriteString("  ")
+			}
+			pad := strings.Repeat(" ", width[i]-utf8.RuneCountInString(c))
+			if numeric[i] && !header {
+				b.WriteString(pad + c)
+			} else if i == len(r)-1 {
+				b.WriteString(c)
+			} else {
+				b.WriteString(c + pad)
+			}
+		}
+		fmt.Fprintln(w, strings.TrimRight(b.String(), " "))
+	}
+	line(cols, true)
+	rule := make([]string, len(cols))
+	for i := range cols {
+		rule[i] = strings.Repeat("─", width[i])
+	}
+	line(rule, true)
+	for _, r := range table {
+		line(r, false)
+	}
+}
+
+// cell renders a value for the table format.
+func cell(v any) string {
+	switch x := v.(type) {
+	case nil:
+		return nullMark
+	case float64:
+		return strconv.FormatFloat(x, 'g', 10, 64)
+	}
+	s := plain(v, false)
+	s = strings.ReplaceAll(s, "\n", "⏎")
+	if utf8.RuneCountInString(s) > maxCell {
+		r := []rune(s)
+		s = string(r[:maxCell-1]) + "…"
+	}
+	return s
+}
+
+// plain renders a value at full precision; NULL is empty in CSV.
+func plain(v any, csvNull bool) string {
+	switch x := v.(type) {
+	case nil:
+		if csvNull {
+			return ""
+		}
+		return nullMark
+	case int64:
+		return strconv.FormatInt(x, 10)
+	case float64:
+		return strconv.FormatFloat(x, 'g', -1, 64)
+	case []byte:
+		return fmt.Sprintf("x'%x'", x)
+	case string:
+		return x
+	default:
+		return fmt.Sprint(x)
+	}
+}
+
+func jsonValue(v any) string {
+	switch x := v.(type) {
+	case nil:
+		return "null"
+	case float64:
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return "null"
+		}
+		return strconv.FormatFloat(x, 'g', -1, 64)
+	case int64:
+		return strconv.FormatInt(x, 10)
+	case []byte:
+		b, _ := json.Marshal(fmt.Sprintf("%x", x))
+		return string(b)
+	default:
+		b, _ := json.Marshal(fmt.Sprint(x))
+		return string(b)
+	}
+}

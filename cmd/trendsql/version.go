@@ -1,0 +1,45 @@
+package main
+
+import (
+	"fmt"
+	"runtime"
+	"runtime/debug"
+
+	"github.com/spf13/cobra"
+)
+
+// Version is the trendsql release; set with -ldflags "-X main.Version=...".
+var Version = "0.1.0-dev"
+
+// versionString is the tool version recorded in reports and summary runs.
+func versionString() string {
+	v := Version
+	if bi, ok := debug.ReadBuildInfo(); ok {
+		for _, s := range bi.Settings {
+			if s.Key == "vcs.revision" && len(s.Value) >= 12 {
+				v += "+" + s.Value[:12]
+			}
+		}
+	}
+	return v
+}
+
+func newVersionCmd(e *env) *cobra.Command {
+	return &cobra.Command{
+		Use:   "version",
+		Short: "Print the trendsql version",
+		Args:  exactArgs(0),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			sqliteVersion := "?"
+			if bi, ok := debug.ReadBuildInfo(); ok {
+				for _, d := range bi.Deps {
+					if d.Path == "modernc.org/sqlite" {
+						sqliteVersion = d.Version
+					}
+				}
+			}
+			fmt.Fprintf(e.out, "trendsql %s (%s, modernc.org/sqlite %s, %s/%s)\n", versionString(), runtime.Version(), sqliteVersion, runtime.GOOS, runtime.GOARCH)
+			return nil
+		},
+	}
+}

@@ -1,0 +1,164 @@
+package sqlfuncs
+
+// Table-valued functions.
+//
+// modernc.org/sqlite registers virtual-table modules but does not make them
+// eponymous, so a module cannot be called as a table-valued function
+// directly. All the plumbing for that lives here: each table-valued function
+// is registered as a module named "<name>_module", and a connection hook
+// creates "temp.<name>" USING that module on every new connection. Its
+// declared schema has the function arguments as HIDDEN columns, so
+// `FROM t, name(t.col)` works as in SQLite's own table-valued functions.
+
+import (
+	"context"
+	"database/sql/driver"
+	"fmt"
+
+	"modernc.org/sqlite"
+	"modernc.org/sqlite/vtab"
+)
+
+// tableDef is a table-valued function: schema is the CREATE TABLE statement
+// declared to SQLite (argument columns HIDDEN), nargs the number of hidden
+// argument columns (they are the last columns), and rows produces the output
+// rows (without the hidden columns) for the given arguments.
+type tableDef struct {
+	doc    Doc
+	schema string
+	ncols  int // visible columns
+	nargs  int
+	rows   func(args []driver.Value) ([][]driver.Value, error)
+}
+
+// defineTable records a table-valued function for registration.
+func defineTable(t tableDef) {
+	mu.Lock()
+	defer mu.Unlock()
+	if registered {
+		panic("sqlfuncs: defineTable after Register: " + t.doc.Name)
+	}
+	if _, dup := definitions[t.doc.Name]; dup {
+		panic("sqlfuncs: duplicate function " + t.doc.Name)
+	}
+	if _, dup := tables[t.doc.Name]; dup {
+		panic("sqlfuncs: duplicate function " + t.doc.Name)
+	}
+	tables[t.doc.Name] = t
+}
+
+func registerTables() error {
+	if len(tables) == 0 {
+		return nil
+	}
+	names := make([]string, 0, len(tables))
+	for name, t := range tables {
+		if err := vtab.RegisterModule(nil, name+"_module", &tfModule{def: t}); err != nil {
+			return fmt.Errorf("register table-valued function %s: %w", name, err)
+		}
+		names = append(names, name)
+	}
+	sqlite.RegisterConnectionHook(func(conn sqlite.ExecQuerierContext, dsn string) error {
+		for _, name := range names {
+			q := fmt.Sprintf("CREATE VIRTUAL TABLE IF NOT EXISTS temp.%s USING %s_module", name, name)
+			if _, err := conn.ExecContext(context.Background(), q, nil); err != nil {
+				return fmt.Errorf("create table-valued function %s: %w", name, err)
+			}
+		}
+		return nil
+	})
+	return nil
+}
+
+type tfModule struct{ def tableDef }
+
+func (m *tfModule) Create(ctx vtab.Context, args []string) (vtab.Table, error) {
+	return m.Connect(ctx, args)
+}
+
+func (m *tfModule) Connect(ctx vtab.Context, args []string) (vtab.Table, error) {
+	if err := ctx.Declare(m.def.schema); err != nil {
+		return nil, fmt.Errorf("%s: declare schema: %w", m.def.doc.Name, err)
+	}
+	return &tfTable{def: m.def}, nil
+}
+
+type tfTable struct{ def tableDef }
+
+// BestIndex requires an equality constraint on every hidden argument column
+// and passes them, in column order, to Filter.
+func (t *tfTable) BestIndex(info *vtab.IndexInfo) error {
+	have := make([]int, t.def.nargs) // constraint index per arg, -1 if none
+	for i := range have {
+		have[i] = -1
+	}
+	for i, c := range info.Constraints {
+		arg := c.Column - t.def.ncols
+		if arg < 0 || arg >= t.def.nargs || c.Op != vtab.OpEQ || !c.Usable {
+			continue
+		}
+		have[arg] = i
+	}
+	mask := 0
+	for a, ci := range have {
+		if ci >= 0 {
+			mask |= 1 << a
+		}
+	}
+	if mask != (1<<t.def.nargs)-1 {
+		// Not all arguments bound: make this plan very expensive so that
+		// SQLite picks one that binds them, and fail in Filter otherwise.
+		info.EstimatedCost = 1e30
+		info.IdxNum = int64(mask)
+		return nil
+	}
+	for a, ci := range have {
+		info.Constraints[ci].ArgIndex = a
+		info.Constraints[ci].Omit = true
+	}
+	info.IdxNum = int64(mask)
+	info.EstimatedCost = 10
+	info.EstimatedRows = 50
+	return nil
+}
+
+func (t *tfTable) Open() (vtab.Cursor, error) { return &tfCursor{def: t.def}, nil }
+func (t *tfTable) Disconnect() error         { return nil }
+func (t *tfTable) Destroy() error            { return nil }
+
+type tfCursor struct {
+	def  tableDef
+	args []driver.Value
+	rows [][]driver.Value
+	i    int
+}
+
+func (c *tfCursor) Filter(idxNum int, idxStr string, vals []vtab.Value) (err error) {
+	defer recoverInto(c.def.doc.Name, &err)
+	if idxNum != (1<<c.def.nargs)-1 {
+		return fmt.Errorf("%s: every argument must be given, as in %s", c.def.doc.Name, c.def.doc.Signature)
+	}
+	c.args = make([]driver.Value, len(vals))
+	for i, v := range vals {
+		switch x := v.(type) {
+		case []byte:
+			c.args[i] = append([]byte(nil), x...)
+		default:
+			c.args[i] = x
+		}
+	}
+	c.rows, err = c.def.rows(c.args)
+	c.i = 0
+	return err
+}
+
+func (c *tfCursor) Next() error { c.i++; return nil }
+func (c *tfCursor) Eof() bool   { return c.i >= len(c.rows) }
+func (c *tfCursor) Column(col int) (vtab.Value, error) {
+	if col >= c.def.ncols {
+		return c.args[col-c.def.ncols], nil
+	}
+	return c.rows[c.i][col], nil
+}
+func (c *tfCursor) Rowid() (int64, error) { return int64(c.i + 1), nil }
+func (c *tfCursor) Close() error          { return nil }

@@ -1,0 +1,216 @@
+// Package store owns a trendsql store: opening it with the right pragmas,
+// its schema (applied from package migrations) and every SQL statement the
+// tool itself issues. Commands in cmd/ call this package and never build
+// SQL of their own.
+package store
+
+import (
+	"context"
+	"database/sql"
+	"errors"
+	"fmt"
+	"net/url"
+	"os"
+	"time"
+
+	_ "modernc.org/sqlite" // registers the "sqlite" driver
+
+	"trendsql/migrations"
+	"trendsql/sqlfuncs"
+)
+
+// DefaultPath is the store used when neither --db nor TRENDSQL_DB is given.
+const DefaultPath = "readings.db"
+
+// EnvDB names the environment variable that selects the store.
+const EnvDB = "TRENDSQL_DB"
+
+// BusyTimeout is how long a connection waits for another writer.
+const BusyTimeout = 10 * time.Second
+
+// ErrNoStore is returned when a read-only open finds no store file.
+var ErrNoStore = errors.New("no store at this path (create one with `trendsql init` or `trendsql demo`)")
+
+// ResolvePath picks the store path: the flag value, else $TRENDSQL_DB, else
+// ./readings.db.
+func ResolvePath(flag string) string {
+	if flag != "" {
+		return flag
+	}
+	if env := os.Getenv(EnvDB); env != "" {
+		return env
+	}
+	return DefaultPath
+}
+
+// Options controls Open.
+type Options struct {
+	// ReadOnly opens the file read-only (mode=ro plus PRAGMA query_only):
+	// any statement that would write fails.
+	ReadOnly bool
+}
+
+// Store is an open trendsql store.
+type Store struct {
+	DB       *sql.DB
+	Path     string
+	ReadOnly bool
+}
+
+// DSN builds the driver connection string for path.
+func DSN(path string, readOnly bool) string {
+	q := url.Values{}
+	q.Add("_pragma", fmt.Sprintf("busy_timeout(%d)", BusyTimeout.Milliseconds()))
+	q.Add("_pragma", "foreign_keys(1)")
+	if readOnly {
+		q.Add("mode", "ro")
+		q.Add("_pragma", "query_only(1)")
+	} else {
+		q.Add("_pragma", "journal_mode(WAL)")
+		q.Add("_pragma", "synchronous(NORMAL)")
+		q.Add("_txlock", "immediate")
+	}
+	return "file:" + (&url.URL{Path: path}).EscapedPath() + "?" + q.Encode()
+}
+
+// Open opens (and for a writable open, creates) the store at path and
+// registers trendsql's SQL functions. A writable open also applies pending
+// migrations; a read-only open requires the store to exist and be current.
+func Open(ctx context.Context, path string, opt Options) (*Store, error) {
+	if err := sqlfuncs.Register(); err != nil {
+		return nil, err
+	}
+	if opt.ReadOnly {
+		if _, err := os.Stat(path); err != nil {
+			return nil, fmt.Errorf("open %s: %w", path, ErrNoStore)
+		}
+	}
+	db, err := sql.Open("sqlite", DSN(path, opt.ReadOnly))
+	if err != nil {
+		return nil, fmt.Errorf("open %s: %w", path, err)
+	}
+	if err := db.PingContext(ctx); err != nil {
+		db.Close()
+		return nil, fmt.Errorf("open %s: %w", path, err)
+	}
+	s := &Store{DB: db, Path: path, ReadOnly: opt.ReadOnly}
+	if !opt.ReadOnly {
+		if _, err := s.Migrate(ctx); err != nil {
+			db.Close()
+			return nil, err
+		}
+	} else {
+		cur, latest, err := s.SchemaVersion(ctx)
+		if err != nil {
+			db.Close()
+			return nil, err
+		}
+		if cur < latest {
+			db.Close()
+			return nil, fmt.Errorf("open %s: store schema is version %d, this trendsql needs %d: run `trendsql init --db %s` to migrate", path, cur, latest, path)
+		}
+	}
+	return s, nil
+}
+
+// Close closes the store.
+func (s *Store) Close() error { return s.DB.Close() }
+
+// SchemaVersion returns the applied and the latest known schema versions.
+func (s *Store) SchemaVersion(ctx context.Context) (current, latest int, err error) {
+	all, err := migrations.All()
+	if err != nil {
+		return 0, 0, err
+	}
+	if len(all) > 0 {
+		latest = all[len(all)-1].Version
+	}
+	var exists int
+	if err := s.DB.QueryRowContext(ctx, `SELECT count(*) FROM sqlite_schema WHERE type='table' AND name='schema_migrations'`).Scan(&exists); err != nil {
+		return 0, 0, fmt.Errorf("read schema version: %w", err)
+	}
+	if exists == 0 {
+		return 0, latest, nil
+	}
+	if err := s.DB.QueryRowContext(ctx, `SELECT coalesce(max(version), 0) FROM schema_migrations`).Scan(&current); err != nil {
+		return 0, 0, fmt.Errorf("read schema version: %w", err)
+	}
+	return current, latest, nil
+}
+
+// Migrate applies every migration newer than the store's schema version, each
+// in its own transaction, and returns the versions applied. Re-running it on a
+// current store does nothing.
+func (s *Store) Migrate(ctx context.Context) ([]int, error) {
+	all, err := migrations.All()
+	if err != nil {
+		return nil, err
+	}
+	if _, err := s.DB.ExecContext(ctx, `CREATE TABLE IF NOT EXISTS schema_migrations (
+		version    INTEGER PRIMARY KEY,
+		name       TEXT NOT NULL,
+		applied_at TEXT NOT NULL)`); err != nil {
+		return nil, fmt.Errorf("create schema_migrations: %w", err)
+	}
+	var applied []int
+	for _, m := range all {
+		done, err := s.applyOne(ctx, m)
+		if err != nil {
+			return applied, err
+		}
+		if done {
+			applied = append(applied, m.Version)
+		}
+	}
+	return applied, nil
+}
+
+func (s *Store) applyOne(ctx context.Context, m migrations.Migration) (bool, error) {
+	tx, err := s.DB.BeginTx(ctx, nil)
+	if err != nil {
+		return false, fmt.Errorf("migration %s: begin: %w", m.Name, err)
+	}
+	defer tx.Rollback()
+	var n int
+	if err := tx.QueryRowContext(ctx, `SELECT count(*) FROM schema_migrations WHERE version = ?`, m.Version).Scan(&n); err != nil {
+		return false, fmt.Errorf("migration %s: %w", m.Name, err)
+	}
+	if n > 0 {
+		return false, nil
+	}
+	if _, err := tx.ExecContext(ctx, m.SQL); err != nil {
+		return false, fmt.Errorf("migration %s: %w", m.Name, err)
+	}
+	if _, err := tx.ExecContext(ctx, `INSERT INTO schema_migrations(version, name, applied_at) VALUES (?, ?, ?)`,
+		m.Version, m.Name, time.Now().UTC().Format(time.RFC3339)); err != nil {
+		return false, fmt.Errorf("migration %s: record: %w", m.Name, err)
+	}
+	if err := tx.Commit(); err != nil {
+		return false, fmt.Errorf("migration %s: commit: %w", m.Name, err)
+	}
+	return true, nil
+}
+
+// IntegrityCheck runs PRAGMA integrity_check and returns nil when it says ok.
+func (s *Store) IntegrityCheck(ctx context.Context) error {
+	rows, err := s.DB.QueryContext(ctx, `PRAGMA integrity_check`)
+	if err != nil {
+		return fmt.Errorf("integrity check: %w", err)
+	}
+	defer rows.Close()
+	var msgs []string
+	for rows.Next() {
+		var m string
+		if err := rows.Scan(&m); err != nil {
+			return err
+		}
+		msgs = append(msgs, m)
+	}
+	if err := rows.Err(); err != nil {
+		return err
+	}
+	if len(msgs) == 1 && msgs[0] == "ok" {
+		return nil
+	}
+	return fmt.Errorf("integrity check failed: %v", msgs)
+}
