@@ -1,0 +1,76 @@
+package stats
+
+// SummaryOptions selects the models of a per-series summary.
+type SummaryOptions struct {
+	PeriodS    float64 // seasonal period in seconds; 0 = no seasonal model
+	Harmonics  int     // sine/cosine pairs when PeriodS > 0
+	Seasons    int     // seasons per period for the seasonal Kendall test
+	MaxLag     int     // residual correlogram lags 1..MaxLag
+	LBLags     int     // Ljung–Box lag on the residuals; 0 = default rule
+	Alpha      float64 // significance level for the flags (e.g. 0.05)
+	Confidence float64 // Sen slope interval confidence (e.g. 0.95)
+	MinN       int     // minimum readings for a summary (insufficient_data below)
+}
+
+// CorrelogramRow is one lag of a stored residual correlogram.
+type CorrelogramRow struct {
+	Lag        int
+	ACVF, ACF  float64
+	PACF       float64
+	Band       float64
+	LBQ, LBP   float64
+	HasPACF    bool
+	HasLjungBx bool
+}
+
+// SeriesSummary is every figure `trendsql summarize` stores for one series.
+// Pointer fields are nil when the figure is undefined for the series (too
+// short, constant, ...); they are stored as SQL NULL.
+type SeriesSummary struct {
+	Problem string
+
+	N              int
+	TFirst, TLast  int64
+	Years          float64
+	StepS          *float64
+	GridSlots      *int
+	MissingShare   *float64
+	NQualified     int
+	QualifierCount map[string]int
+	Mean           *float64
+
+	TrendModelJSON string
+	SlopePerYear   *float64
+	SlopeSE        *float64
+	SlopeP         *float64
+	HACSlopeSE     *float64
+	HACLags        *int
+	HACP           *float64
+	NEff           *float64
+	NEffP          *float64
+	R2             *float64
+	PctPerDecade   *float64
+
+	MKMethod           string
+	MKS, MKVarS        *float64
+	MKZ, MKP, MKTau    *float64
+	MKCorrectionFactor *float64
+	SenSlopePerYear    *float64
+	SenLower, SenUpper *float64
+	SenConfidence      float64
+
+	ResidACF1   *float64
+	LBLags      *int
+	LBDF        *int
+	LBQ, LBP    *float64
+	Correlogram []CorrelogramRow
+
+	PettittK       *int
+	PettittTChange *int64
+	PettittU       *float64
+	PettittP       *float64
+
+	InsufficientData    bool
+	ResidualDependence  *bool
+	StepChangeSuspected *bool
+}

@@ -1,0 +1,589 @@
+package store
+
+// Scheduled per-series summaries (trendsql summarize).
+//
+// A run: take the summarize lock (a file lock next to the store, released by
+// the OS even if the process is killed), mark runs left 'running' by a dead
+// process as 'interrupted', record the run as 'running', compute every
+// selected series in parallel goroutines (each reads its own series on its
+// own read connection, so peak memory is bounded by the largest series times
+// the worker count, not by the archive), then write all results and flip the
+// run to 'ok' in ONE transaction. Readers in other processes therefore see
+// either the previous results or the complete new run, never a mix. On any
+// error the transaction is rolled back and the run row is marked 'failed'
+// with the error; earlier runs are untouched.
+
+import (
+	"context"
+	"database/sql"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"runtime"
+	"sort"
+	"strings"
+	"sync"
+	"syscall"
+	"time"
+
+	"trendsql/sqlfuncs/stats"
+	"trendsql/sqlfuncs/timefmt"
+)
+
+// ErrBusy is returned when another summarize run holds the store's lock and
+// the caller did not ask to wait.
+var ErrBusy = errors.New("another summarize run is in progress on this store (use --wait to wait for it)")
+
+// ErrNothingToDo is returned when the selection (after --changed-only) is empty.
+var ErrNothingToDo = errors.New("nothing to summarize")
+
+// SummarizeOptions selects series and models for a run.
+type SummarizeOptions struct {
+	Stations    []string // station ids; empty = all
+	Variables   []string // variables; empty = all
+	Where       string   // extra SQL condition on stations (alias st) / series (alias s)
+	Since       *int64   // unix seconds, inclusive
+	Until       *int64   // unix seconds, inclusive
+	Model       stats.SummaryOptions
+	ChangedOnly bool
+	Wait        bool
+	Workers     int // 0 = runtime.NumCPU()
+	ToolVersion string
+	// Progress, if set, is called after each series is computed.
+	Progress func(done, total int)
+	// Analyze computes one series' figures (injected so the numerical core
+	// stays free of SQL). Required.
+	Analyze func(t, y []float64, opts stats.SummaryOptions) stats.SeriesSummary
+}
+
+// SummarizeResult reports a finished run.
+type SummarizeResult struct {
+	RunID    int64
+	Selected int
+	Computed int
+	Skipped  int
+	Problems int
+	Trending int
+	Elapsed  time.Duration
+}
+
+// runParameters is what makes two runs comparable for --changed-only; it is
+// stored as the run's parameters JSON.
+type runParameters struct {
+	Stations   []string `json:"stations,omitempty"`
+	Variables  []string `json:"variables,omitempty"`
+	Where      string   `json:"where,omitempty"`
+	Since      *int64   `json:"since,omitempty"`
+	Until      *int64   `json:"until,omitempty"`
+	PeriodS    float64  `json:"period_s"`
+	Harmonics  int      `json:"harmonics"`
+	Seasons    int      `json:"seasons"`
+	MaxLag     int      `json:"max_lag"`
+	LBLags     int      `json:"ljung_box_lags"`
+	Alpha      float64  `json:"alpha"`
+	Confidence float64  `json:"confidence"`
+	MinN       int      `json:"min_n"`
+}
+
+func (o SummarizeOptions) parameters() runParameters {
+	return runParameters{
+		Stations: o.Stations, Variables: o.Variables, Where: o.Where, Since: o.Since, Until: o.Until,
+		PeriodS: o.Model.PeriodS, Harmonics: o.Model.Harmonics, Seasons: o.Model.Seasons,
+		MaxLag: o.Model.MaxLag, LBLags: o.Model.LBLags, Alpha: o.Model.Alpha,
+		Confidence: o.Model.Confidence, MinN: o.Model.MinN,
+	}
+}
+
+// lockSummarize takes the store's summarize lock.
+func lockSummarize(path string, wait bool) (release func(), err error) {
+	f, err := os.OpenFile(path+".summarize-lock", os.O_CREATE|os.O_RDWR, 0o644)
+	if err != nil {
+		return nil, fmt.Errorf("summarize lock: %w", err)
+	}
+	how := syscall.LOCK_EX
+	if !wait {
+		how |= syscall.LOCK_NB
+	}
+	if err := syscall.Flock(int(f.Fd()), how); err != nil {
+		f.Close()
+		if errors.Is(err, syscall.EWOULDBLOCK) {
+			return nil, ErrBusy
+		}
+		return nil, fmt.Errorf("summarize lock: %w", err)
+	}
+	return func() { syscall.Flock(int(f.Fd()), syscall.LOCK_UN); f.Close() }, nil
+}
+
+type seriesRef struct {
+	id   int64
+	unit string
+}
+
+// Summarize runs one summary run. It returns ErrBusy, ErrNothingToDo, or the
+// run's error (the run row then records it).
+func (s *Store) Summarize(ctx context.Context, o SummarizeOptions) (*SummarizeResult, error) {
+	if s.ReadOnly {
+		return nil, errors.New("summarize: store is open read-only")
+	}
+	if o.Analyze == nil {
+		return nil, errors.New("summarize: no analyzer")
+	}
+	start := time.Now()
+	release, err := lockSummarize(s.Path, o.Wait)
+	if err != nil {
+		return nil, err
+	}
+	defer release()
+
+	// We hold the lock, so any run still 'running' belongs to a dead process.
+	if _, err := s.DB.ExecContext(ctx, `UPDATE summary_runs SET status = 'interrupted',
+		error = coalesce(error, 'process ended before the run finished'), finished_at = coalesce(finished_at, ?)
+		WHERE status = 'running'`, nowISO()); err != nil {
+		return nil, fmt.Errorf("summarize: %w", err)
+	}
+
+	selected, err := s.selectSeries(ctx, o)
+	if err != nil {
+		return nil, err
+	}
+	params := o.parameters()
+	pjson, _ := json.Marshal(params)
+	var highWater int64
+	if err := s.DB.QueryRowContext(ctx, `SELECT coalesce(max(id), 0) FROM import_batches`).Scan(&highWater); err != nil {
+		return nil, fmt.Errorf("summarize: %w", err)
+	}
+	todo := selected
+	if o.ChangedOnly {
+		todo, err = s.changedSince(ctx, selected, string(pjson))
+		if err != nil {
+			return nil, err
+		}
+	}
+	res := &SummarizeResult{Selected: len(selected), Skipped: len(selected) - len(todo)}
+	if len(todo) == 0 {
+		res.Elapsed = time.Since(start)
+		return res, ErrNothingToDo
+	}
+
+	r, err := s.DB.ExecContext(ctx, `INSERT INTO summary_runs(started_at, status, parameters, tool_version, batch_high_water, series_selected)
+		VALUES (?, 'running', ?, ?, ?, ?)`, nowISO(), string(pjson), o.ToolVersion, highWater, len(selected))
+	if err != nil {
+		return nil, fmt.Errorf("summarize: record run: %w", err)
+	}
+	res.RunID, _ = r.LastInsertId()
+
+	fail := func(runErr error) (*SummarizeResult, error) {
+		status := "failed"
+		if errors.Is(runErr, context.Canceled) {
+			status = "interrupted"
+		}
+		// Record the failure even if ctx was cancelled.
+		_, _ = s.DB.ExecContext(context.Background(), `UPDATE summary_runs SET status = ?, error = ?, finished_at = ? WHERE id = ?`,
+			status, runErr.Error(), nowISO(), res.RunID)
+		res.Elapsed = time.Since(start)
+		return res, runErr
+	}
+
+	results, err := s.computeAll(ctx, todo, o)
+	if err != nil {
+		return fail(err)
+	}
+	adjustFDR(results, o.Model.Alpha)
+	for _, sr := range results {
+		if sr.sum.Problem != "" {
+			res.Problems++
+		}
+		if sr.trendDetected != nil && *sr.trendDetected {
+			res.Trending++
+		}
+	}
+	res.Computed = len(results)
+	if err := s.writeRun(ctx, res, results); err != nil {
+		return fail(err)
+	}
+	res.Elapsed = time.Since(start)
+	return res, nil
+}
+
+func nowISO() string { return time.Now().UTC().Format("2006-01-02T15:04:05.000Z") }
+
+// selectSeries returns the series matching the run's selection, by id.
+func (s *Store) selectSeries(ctx context.Context, o SummarizeOptions) ([]seriesRef, error) {
+	q := `SELECT s.id, coalesce(s.unit, '') FROM series s JOIN stations st ON st.id = s.station_id WHERE 1=1`
+	var args []any
+	if len(o.Stations) > 0 {
+		q += ` AND s.station_id IN (` + placeholders(len(o.Stations)) + `)`
+		for _, x := range o.Stations {
+			args = append(args, x)
+		}
+	}
+	if len(o.Variables) > 0 {
+		q += ` AND s.variable IN (` + placeholders(len(o.Variables)) + `)`
+		for _, x := range o.Variables {
+			args = append(args, x)
+		}
+	}
+	if strings.TrimSpace(o.Where) != "" {
+		q += ` AND (` + o.Where + `)`
+	}
+	q += ` ORDER BY s.id`
+	rows, err := s.DB.QueryContext(ctx, q, args...)
+	if err != nil {
+		return nil, fmt.Errorf("summarize: select series (check --where): %w", err)
+	}
+	defer rows.Close()
+	var out []seriesRef
+	for rows.Next() {
+		var r seriesRef
+		if err := rows.Scan(&r.id, &r.unit); err != nil {
+			return nil, err
+		}
+		out = append(out, r)
+	}
+	return out, rows.Err()
+}
+
+func placeholders(n int) string { return strings.TrimSuffix(strings.Repeat("?,", n), ",") }
+
+// changedSince keeps the series that have no successful summary with the
+// same parameters, or that an import batch touched after that summary's run
+// started (import batches newer than the run's high-water mark).
+func (s *Store) changedSince(ctx context.Context, in []seriesRef, params string) ([]seriesRef, error) {
+	rows, err := s.DB.QueryContext(ctx, `
+		SELECT ss.series_id, max(r.batch_high_water)
+		FROM series_summaries ss JOIN summary_runs r ON r.id = ss.run_id
+		WHERE r.status = 'ok' AND r.parameters = ?
+		GROUP BY ss.series_id`, params)
+	if err != nil {
+		return nil, fmt.Errorf("summarize: previous runs: %w", err)
+	}
+	last := map[int64]int64{}
+	for rows.Next() {
+		var id, hw int64
+		if err := rows.Scan(&id, &hw); err != nil {
+			rows.Close()
+			return nil, err
+		}
+		last[id] = hw
+	}
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	newest := map[int64]int64{}
+	rows, err = s.DB.QueryContext(ctx, `SELECT series_id, max(batch_id) FROM series_batches GROUP BY series_id`)
+	if err != nil {
+		return nil, fmt.Errorf("summarize: import batches: %w", err)
+	}
+	for rows.Next() {
+		var id, b int64
+		if err := rows.Scan(&id, &b); err != nil {
+			rows.Close()
+			return nil, err
+		}
+		newest[id] = b
+	}
+	rows.Close()
+	var out []seriesRef
+	for _, r := range in {
+		hw, done := last[r.id]
+		if !done || newest[r.id] > hw {
+			out = append(out, r)
+		}
+	}
+	return out, rows.Err()
+}
+
+type seriesResult struct {
+	ref           seriesRef
+	sum           stats.SeriesSummary
+	pFDR          *float64
+	trendDetected *bool
+}
+
+// computeAll reads and analyses the series with o.Workers goroutines.
+func (s *Store) computeAll(ctx context.Context, todo []seriesRef, o SummarizeOptions) ([]*seriesResult, error) {
+	workers := o.Workers
+	if workers <= 0 {
+		workers = runtime.NumCPU()
+	}
+	if workers > len(todo) {
+		workers = len(todo)
+	}
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	jobs := make(chan int)
+	results := make([]*seriesResult, len(todo))
+	var (
+		wg       sync.WaitGroup
+		errOnce  sync.Once
+		firstErr error
+		mu       sync.Mutex
+		done     int
+	)
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			var buf seriesBuffer
+			for i := range jobs {
+				ref := todo[i]
+				if err := s.loadSeries(ctx, ref.id, o.Since, o.Until, &buf); err != nil {
+					errOnce.Do(func() { firstErr = err; cancel() })
+					return
+				}
+				sum := analyzeSafely(o.Analyze, buf.t, buf.y, o.Model)
+				sum.NQualified = buf.nQualified
+				sum.QualifierCount = buf.quals
+				results[i] = &seriesResult{ref: ref, sum: sum}
+				mu.Lock()
+				done++
+				if o.Progress != nil {
+					o.Progress(done, len(todo))
+				}
+				mu.Unlock()
+			}
+		}()
+	}
+feed:
+	for i := range todo {
+		select {
+		case jobs <- i:
+		case <-ctx.Done():
+			break feed
+		}
+	}
+	close(jobs)
+	wg.Wait()
+	if firstErr != nil {
+		return nil, firstErr
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	return results, nil
+}
+
+// analyzeSafely turns a panic in the numerical core into a per-series problem.
+func analyzeSafely(f func(t, y []float64, o stats.SummaryOptions) stats.SeriesSummary, t, y []float64, o stats.SummaryOptions) (sum stats.SeriesSummary) {
+	defer func() {
+		if r := recover(); r != nil {
+			sum = stats.SeriesSummary{N: len(t), InsufficientData: true, Problem: fmt.Sprintf("internal error: %v", r)}
+		}
+	}()
+	return f(t, y, o)
+}
+
+type seriesBuffer struct {
+	t, y       []float64
+	nQualified int
+	quals      map[string]int
+}
+
+func (s *Store) loadSeries(ctx context.Context, id int64, since, until *int64, b *seriesBuffer) error {
+	lo, hi := int64(math.MinInt64), int64(math.MaxInt64)
+	if since != nil {
+		lo = *since
+	}
+	if until != nil {
+		hi = *until
+	}
+	rows, err := s.DB.QueryContext(ctx, `SELECT t, value, qualifier FROM readings WHERE series_id = ? AND t BETWEEN ? AND ? ORDER BY t`, id, lo, hi)
+	if err != nil {
+		return fmt.Errorf("summarize: read series %d: %w", id, err)
+	}
+	defer rows.Close()
+	b.t, b.y = b.t[:0], b.y[:0]
+	b.nQualified = 0
+	b.quals = nil
+	for rows.Next() {
+		var t int64
+		var v float64
+		var q sql.NullString
+		if err := rows.Scan(&t, &v, &q); err != nil {
+			return fmt.Errorf("summarize: read series %d: %w", id, err)
+		}
+		b.t = append(b.t, float64(t))
+		b.y = append(b.y, v)
+		if q.Valid && q.String != "" {
+			b.nQualified++
+			if b.quals == nil {
+				b.quals = map[string]int{}
+			}
+			b.quals[q.String]++
+		}
+	}
+	return rows.Err()
+}
+
+// adjustFDR sets the Benjamini–Hochberg adjusted p-value of the rank trend
+// test across the run's series and the trend_detected flag from it
+// (Benjamini & Hochberg 1995, J. R. Statist. Soc. B 57(1):289–300; for
+// field significance in geoscience see Wilks 2016, BAMS 97(12):2263–2273):
+// with the m available p-values sorted, p_(i) adjusted = min over j ≥ i of
+// m·p_(j)/j, capped at 1.
+func adjustFDR(results []*seriesResult, alpha float64) {
+	var idx []int
+	for i, r := range results {
+		if r.sum.MKP != nil && !math.IsNaN(*r.sum.MKP) {
+			idx = append(idx, i)
+		}
+	}
+	sort.SliceStable(idx, func(a, b int) bool { return *results[idx[a]].sum.MKP < *results[idx[b]].sum.MKP })
+	m := float64(len(idx))
+	adj := make([]float64, len(idx))
+	minSoFar := 1.0
+	for k := len(idx) - 1; k >= 0; k-- {
+		v := *results[idx[k]].sum.MKP * m / float64(k+1)
+		if v < minSoFar {
+			minSoFar = v
+		}
+		adj[k] = minSoFar
+	}
+	for k, i := range idx {
+		p := adj[k]
+		det := p <= alpha
+		results[i].pFDR = &p
+		results[i].trendDetected = &det
+	}
+}
+
+// writeRun stores every result and marks the run ok, in one transaction.
+func (s *Store) writeRun(ctx context.Context, res *SummarizeResult, results []*seriesResult) error {
+	tx, err := s.DB.BeginTx(ctx, nil)
+	if err != nil {
+		return fmt.Errorf("summarize: begin write: %w", err)
+	}
+	defer tx.Rollback()
+	ins, err := tx.PrepareContext(ctx, `INSERT INTO series_summaries(
+		run_id, series_id, problem, n, t_first, t_last, time_first, time_last, years, step_s, grid_slots, missing_share,
+		n_qualified, qualifier_counts, mean, unit,
+		trend_model, slope_per_year, slope_se, slope_p, hac_slope_se, hac_lags, hac_p, n_eff, n_eff_p, r2, pct_per_decade,
+		mk_method, mk_s, mk_var_s, mk_z, mk_p, mk_tau, mk_correction_factor,
+		sen_slope_per_year, sen_lower, sen_upper, sen_confidence, trend_p_fdr,
+		resid_acf1, lb_lags, lb_df, lb_q, lb_p,
+		pettitt_k, pettitt_t_change, pettitt_time_change, pettitt_u, pettitt_p,
+		insufficient_data, trend_detected, residual_dependence, step_change_suspected)
+		VALUES (?,?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?, ?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?,?, ?,?,?,?,?, ?,?,?,?)`)
+	if err != nil {
+		return fmt.Errorf("summarize: prepare: %w", err)
+	}
+	defer ins.Close()
+	cg, err := tx.PrepareContext(ctx, `INSERT INTO series_correlograms(run_id, series_id, lag, acvf, acf, pacf, band, ljung_box_q, ljung_box_p)
+		VALUES (?,?,?,?,?,?,?,?,?)`)
+	if err != nil {
+		return fmt.Errorf("summarize: prepare: %w", err)
+	}
+	defer cg.Close()
+	for _, r := range results {
+		m := r.sum
+		var tFirst, tLast, timeFirst, timeLast any
+		if m.N > 0 {
+			tFirst, tLast = m.TFirst, m.TLast
+			timeFirst, timeLast = timefmt.FormatUTC(m.TFirst), timefmt.FormatUTC(m.TLast)
+		}
+		var quals any
+		if len(m.QualifierCount) > 0 {
+			b, _ := json.Marshal(m.QualifierCount)
+			quals = string(b)
+		}
+		var model any
+		if m.TrendModelJSON != "" {
+			model = m.TrendModelJSON
+		}
+		var pChange, pTime any
+		if m.PettittTChange != nil {
+			pChange = *m.PettittTChange
+			pTime = timefmt.FormatUTC(*m.PettittTChange)
+		}
+		var unit any
+		if r.ref.unit != "" {
+			unit = r.ref.unit
+		}
+		var mkMethod any
+		if m.MKMethod != "" {
+			mkMethod = m.MKMethod
+		}
+		var senConf any
+		if m.SenSlopePerYear != nil {
+			senConf = m.SenConfidence
+		}
+		if _, err := ins.ExecContext(ctx,
+			res.RunID, r.ref.id, nullStr(m.Problem), m.N, tFirst, tLast, timeFirst, timeLast, m.Years, f(m.StepS), i(m.GridSlots), f(m.MissingShare),
+			m.NQualified, quals, f(m.Mean), unit,
+			model, f(m.SlopePerYear), f(m.SlopeSE), f(m.SlopeP), f(m.HACSlopeSE), i(m.HACLags), f(m.HACP), f(m.NEff), f(m.NEffP), f(m.R2), f(m.PctPerDecade),
+			mkMethod, f(m.MKS), f(m.MKVarS), f(m.MKZ), f(m.MKP), f(m.MKTau), f(m.MKCorrectionFactor),
+			f(m.SenSlopePerYear), f(m.SenLower), f(m.SenUpper), senConf, f(r.pFDR),
+			f(m.ResidACF1), i(m.LBLags), i(m.LBDF), f(m.LBQ), f(m.LBP),
+			i(m.PettittK), pChange, pTime, f(m.PettittU), f(m.PettittP),
+			b2i(m.InsufficientData), bp(r.trendDetected), bp(m.ResidualDependence), bp(m.StepChangeSuspected),
+		); err != nil {
+			return fmt.Errorf("summarize: write series %d: %w", r.ref.id, err)
+		}
+		for _, c := range m.Correlogram {
+			var pacf, q, p any
+			if c.HasPACF {
+				pacf = fin(c.PACF)
+			}
+			if c.HasLjungBx {
+				q, p = fin(c.LBQ), fin(c.LBP)
+			}
+			if _, err := cg.ExecContext(ctx, res.RunID, r.ref.id, c.Lag, fin(c.ACVF), fin(c.ACF), pacf, fin(c.Band), q, p); err != nil {
+				return fmt.Errorf("summarize: write correlogram of series %d: %w", r.ref.id, err)
+			}
+		}
+	}
+	if _, err := tx.ExecContext(ctx, `UPDATE summary_runs SET status = 'ok', finished_at = ?, series_computed = ?, series_skipped = ?, series_with_problems = ? WHERE id = ?`,
+		nowISO(), res.Computed, res.Skipped, res.Problems, res.RunID); err != nil {
+		return fmt.Errorf("summarize: finish run: %w", err)
+	}
+	if err := tx.Commit(); err != nil {
+		return fmt.Errorf("summarize: commit: %w", err)
+	}
+	return nil
+}
+
+func nullStr(s string) any {
+	if s == "" {
+		return nil
+	}
+	return s
+}
+
+// f converts an optional float to a SQL value; NaN and infinities become NULL.
+func f(p *float64) any {
+	if p == nil {
+		return nil
+	}
+	return fin(*p)
+}
+
+func fin(v float64) any {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return v
+}
+
+func i(p *int) any {
+	if p == nil {
+		return nil
+	}
+	return *p
+}
+
+func bp(p *bool) any {
+	if p == nil {
+		return nil
+	}
+	return b2i(*p)
+}
+
+func b2i(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
+}
