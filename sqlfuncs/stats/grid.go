@@ -35,6 +35,8 @@ const (
 	// (30.4375 d). Calendar-monthly readings lie within ±2 d of a grid with
 	// this step anchored at the first reading.
 	MonthStep = timefmt.SecondsPerYear / 12
+	// QuarterStep is a quarter of the 365.25-day year (91.3125 d).
+	QuarterStep = timefmt.SecondsPerYear / 4
 	// YearStep is 365.25 d.
 	YearStep = timefmt.SecondsPerYear
 )
@@ -46,13 +48,15 @@ const MaxGridSlots = 1 << 22
 
 // spacingClass maps a spacing (seconds) to the value it is counted as by
 // InferStep: spacings of 28–31 days count as one calendar month (MonthStep),
-// 365–366 days as one year (YearStep), anything else is rounded to the
-// nearest millisecond.
+// 89–92 days as one quarter (QuarterStep), 365–366 days as one year
+// (YearStep), anything else is rounded to the nearest millisecond.
 func spacingClass(d float64) float64 {
 	const day = 86400.0
 	switch {
 	case d >= 28*day && d <= 31*day:
 		return MonthStep
+	case d >= 89*day && d <= 92*day:
+		return QuarterStep
 	case d >= 365*day && d <= 366*day:
 		return YearStep
 	}
@@ -61,7 +65,8 @@ func spacingClass(d float64) float64 {
 
 // InferStep returns the most common spacing between consecutive times of a
 // sorted series t (seconds). Spacings are counted by class: 28–31 days count
-// as one calendar month (MonthStep = 30.4375 d), 365–366 days as one year
+// as one calendar month (MonthStep = 30.4375 d), 89–92 days as one quarter
+// (QuarterStep = 91.3125 d), 365–366 days as one year
 // (YearStep = 365.25 d), and all others are rounded to the nearest
 // millisecond. When several classes are equally common the smallest spacing
 // wins (tie-break). ok is false when t has fewer than two times or no
