@@ -1,0 +1,213 @@
+package stats
+
+// Ordinary least squares by Householder QR, with the classical and the
+// Newey–West (HAC) covariance of the coefficients.
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// ErrRankDeficient is returned by OLS when the columns of the design matrix
+// are (numerically) linearly dependent, so the coefficients are not
+// determined by the data.
+var ErrRankDeficient = errors.New("design matrix is rank-deficient")
+
+// MaxCondition is the largest condition number (LAPACK 1-norm estimate, after
+// scaling every column to unit Euclidean norm) that OLS accepts. Beyond it
+// the coefficients would carry fewer than about 4 correct digits, so OLS
+// reports ErrRankDeficient instead of printing noise.
+const MaxCondition = 1e12
+
+// OLSFit is the least-squares solution b of y ≈ X b.
+type OLSFit struct {
+	N, P  int
+	Coef  []float64 // b, length P
+	Resid []float64 // e = y − X b, length N, in row order
+	SSR   float64   // Σ e_i²
+	// XtXInv is (XᵀX)⁻¹, P×P row-major. The classical covariance of b is
+	// σ̂² (XᵀX)⁻¹ with σ̂² = SSR/(N−P).
+	XtXInv []float64
+	// Cond is the condition-number estimate of the column-scaled design.
+	Cond float64
+}
+
+// OLS solves min ‖y − X b‖₂ for the n×p matrix x (row-major, x[i*p+j]) by
+// Householder QR (Golub & Van Loan, Matrix Computations, 4th ed., 2013,
+// §5.3.3 "the QR method for least squares"); the normal equations are never
+// formed. Columns are first scaled to unit norm (an exact change of
+// parameterisation, undone afterwards) so the rank test does not depend on
+// units. It needs n ≥ p ≥ 1 and returns ErrRankDeficient (wrapped, with the
+// condition estimate) when the scaled design's condition number exceeds
+// MaxCondition or a column is all zero.
+func OLS(x []float64, n, p int, y []float64) (*OLSFit, error) {
+	if p < 1 || n < p || len(x) != n*p || len(y) != n {
+		return nil, fmt.Errorf("ols: bad dimensions n=%d p=%d len(x)=%d len(y)=%d", n, p, len(x), len(y))
+	}
+	scale := make([]float64, p)
+	for j := 0; j < p; j++ {
+		s := 0.0
+		for i := 0; i < n; i++ {
+			s += x[i*p+j] * x[i*p+j]
+		}
+		s = math.Sqrt(s)
+		if s == 0 || math.IsNaN(s) || math.IsInf(s, 0) {
+			return nil, fmt.Errorf("%w (column %d is all zero or not finite)", ErrRankDeficient, j+1)
+		}
+		scale[j] = s
+	}
+	xs := make([]float64, n*p)
+	for i := 0; i < n; i++ {
+		for j := 0; j < p; j++ {
+			xs[i*p+j] = x[i*p+j] / scale[j]
+		}
+	}
+	a := mat.NewDense(n, p, xs)
+	var qr mat.QR
+	qr.Factorize(a)
+	cond := qr.Cond()
+	if !(cond <= MaxCondition) {
+		return nil, fmt.Errorf("%w (condition number %.3g)", ErrRankDeficient, cond)
+	}
+	var bs mat.VecDense
+	if err := qr.SolveVecTo(&bs, false, mat.NewVecDense(n, append([]float64(nil), y...))); err != nil {
+		return nil, fmt.Errorf("%w (%v)", ErrRankDeficient, err)
+	}
+	// R is the leading p×p block of the n×p upper-trapezoidal factor.
+	var rFull mat.Dense
+	qr.RTo(&rFull)
+	r := mat.NewTriDense(p, mat.Upper, nil)
+	for i := 0; i < p; i++ {
+		for j := i; j < p; j++ {
+			r.SetTri(i, j, rFull.At(i, j))
+		}
+	}
+	var rinv mat.TriDense
+	if err := rinv.InverseTri(r); err != nil {
+		return nil, fmt.Errorf("%w (%v)", ErrRankDeficient, err)
+	}
+	// (XsᵀXs)⁻¹ = R⁻¹ R⁻ᵀ, then (XᵀX)⁻¹ = D⁻¹ (XsᵀXs)⁻¹ D⁻¹ with D = diag(scale).
+	inv := make([]float64, p*p)
+	for i := 0; i < p; i++ {
+		for j := 0; j < p; j++ {
+			s := 0.0
+			for k := max(i, j); k < p; k++ {
+				s += rinv.At(i, k) * rinv.At(j, k)
+			}
+			inv[i*p+j] = s / (scale[i] * scale[j])
+		}
+	}
+	coef := make([]float64, p)
+	for j := 0; j < p; j++ {
+		coef[j] = bs.AtVec(j) / scale[j]
+	}
+	resid := make([]float64, n)
+	ssr := 0.0
+	for i := 0; i < n; i++ {
+		f := 0.0
+		for j := 0; j < p; j++ {
+			f += x[i*p+j] * coef[j]
+		}
+		e := y[i] - f
+		resid[i] = e
+		ssr += e * e
+	}
+	return &OLSFit{N: n, P: p, Coef: coef, Resid: resid, SSR: ssr, XtXInv: inv, Cond: cond}, nil
+}
+
+// HACVariance returns the Newey–West heteroskedasticity-and-autocorrelation
+// consistent variance of the linear combination cᵀb, for the design x used
+// in fit (rows in time order):
+//
+//	h  = (XᵀX)⁻¹ c,   z_i = (x_iᵀ h) e_i
+//	Ŝ  = Σ_i z_i² + 2 Σ_{j=1}^{L} w_j Σ_{i=j+1}^{n} z_i z_{i−j},   w_j = 1 − j/(L+1)
+//	V  = Ŝ · n/(n−p)   when correction is true, else Ŝ.
+//
+// This is cᵀ (XᵀX)⁻¹ Ω̂ (XᵀX)⁻¹ c with the Bartlett-kernel estimate Ω̂ of
+// Newey & West (1987), Econometrica 55(3):703–708, eq. (2)–(3); the optional
+// factor n/(n−p) is the degrees-of-freedom correction that statsmodels 0.13.5
+// applies with cov_kwds={'use_correction': True} (common practice: the
+// HC1-style small-sample correction). Lags count rows, not time: a gap in
+// the series is treated as adjacent rows. The weights always use the given
+// L; lags j ≥ n contribute nothing (there are no such pairs), which is also
+// what statsmodels does.
+func HACVariance(fit *OLSFit, x []float64, c []float64, lags int, correction bool) float64 {
+	n, p := fit.N, fit.P
+	h := make([]float64, p)
+	for i := 0; i < p; i++ {
+		s := 0.0
+		for j := 0; j < p; j++ {
+			s += fit.XtXInv[i*p+j] * c[j]
+		}
+		h[i] = s
+	}
+	z := make([]float64, n)
+	for i := 0; i < n; i++ {
+		s := 0.0
+		for j := 0; j < p; j++ {
+			s += x[i*p+j] * h[j]
+		}
+		z[i] = s * fit.Resid[i]
+	}
+	if lags < 0 {
+		lags = 0
+	}
+	v := 0.0
+	for i := 0; i < n; i++ {
+		v += z[i] * z[i]
+	}
+	for j := 1; j <= lags && j < n; j++ {
+		w := 1 - float64(j)/float64(lags+1)
+		s := 0.0
+		for i := j; i < n; i++ {
+			s += z[i] * z[i-j]
+		}
+		v += 2 * w * s
+	}
+	if correction {
+		v *= float64(n) / float64(n-p)
+	}
+	return v
+}
+
+// DefaultHACLags is the Newey–West rule-of-thumb truncation lag
+// floor(4·(n/100)^(2/9)) (Newey & West 1994, Rev. Econ. Stud. 61(4):631–653,
+// the Bartlett-kernel plug-in rule with its usual constant 4; common
+// practice).
+func DefaultHACLags(n int) int {
+	if n <= 0 {
+		return 0
+	}
+	return int(math.Floor(4 * math.Pow(float64(n)/100, 2.0/9.0)))
+}
+
+// lag1ACF is the lag-1 sample autocorrelation of e in the given order with
+// the sample mean removed and divisor n in both numerator and denominator
+// (the package convention, see doc.go): Σ_{i=1}^{n−1} (e_i−ē)(e_{i+1}−ē) /
+// Σ (e_i−ē)². It is NaN when n < 2 or the denominator is 0.
+func lag1ACF(e []float64) float64 {
+	n := len(e)
+	if n < 2 {
+		return math.NaN()
+	}
+	m := 0.0
+	for _, v := range e {
+		m += v
+	}
+	m /= float64(n)
+	num, den := 0.0, 0.0
+	for i, v := range e {
+		d := v - m
+		den += d * d
+		if i > 0 {
+			num += (e[i-1] - m) * d
+		}
+	}
+	if den == 0 {
+		return math.NaN()
+	}
+	return num / den
+}
