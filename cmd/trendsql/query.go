@@ -75,20 +75,55 @@ type statement struct {
 	offset int // byte offset of text within the whole input
 }
 
-// splitStatements splits SQL text at semicolons outside quotes, comments and
-// CREATE TRIGGER bodies are not special-cased (a trigger body must be sent
-// with --write through the shell one statement at a time).
+// splitStatements splits SQL text at semicolons that end a statement: not
+// inside quotes, identifiers in [], “ or "", comments, or the body of a
+// CREATE TRIGGER (which ends at "END;"). Empty and comment-only pieces are
+// dropped.
 func splitStatements(s string) []statement {
-	var out []statement
-	start := 0
-	i := 0
+	sc := scanSQL(s)
+	return sc.stmts
+}
+
+// statementComplete reports whether text ends with a terminated statement:
+// after its last terminating semicolon only whitespace and comments follow,
+// and no quote or comment is left open (the shell's multi-line input).
+func statementComplete(text string) bool {
+	sc := scanSQL(text)
+	return sc.terminated && !sc.open && !sc.tailSignificant
+}
+
+// sqlScan is the result of scanSQL.
+type sqlScan struct {
+	stmts           []statement
+	terminated      bool // at least one statement ended with a semicolon
+	open            bool // text ends inside a quote or block comment
+	tailSignificant bool // something other than comments follows the last terminator
+}
+
+// scanSQL walks SQL text once, tracking quotes, comments and trigger bodies.
+func scanSQL(s string) sqlScan {
+	var sc sqlScan
+	start := 0         // start of the current statement
+	sig := false       // current statement has a significant character
+	var words []string // first words of the current statement, upper case
+	last := ""         // last word seen in the current statement, upper case
 	flush := func(end int) {
-		t := strings.TrimSpace(s[start:end])
-		if t != "" && !onlyComments(t) {
-			off := start + strings.Index(s[start:end], t)
-			out = append(out, statement{text: t, offset: off})
+		if sig {
+			seg := s[start:end]
+			t := strings.TrimSpace(seg)
+			sc.stmts = append(sc.stmts, statement{text: t, offset: start + strings.Index(seg, t)})
 		}
 	}
+	inTrigger := func() bool {
+		if len(words) >= 2 && words[0] == "CREATE" {
+			if words[1] == "TRIGGER" {
+				return true
+			}
+			return len(words) >= 3 && (words[1] == "TEMP" || words[1] == "TEMPORARY") && words[2] == "TRIGGER"
+		}
+		return false
+	}
+	i := 0
 	for i < len(s) {
 		c := s[i]
 		switch {
@@ -97,77 +132,65 @@ func splitStatements(s string) []statement {
 			if c == '[' {
 				closeCh = ']'
 			}
-			i++
-			for i < len(s) && s[i] != closeCh {
-				i++
+			sig = true
+			j := strings.IndexByte(s[i+1:], closeCh)
+			if j < 0 {
+				sc.open = true
+				i = len(s)
+				continue
 			}
-			i++
+			i += j + 2 // a doubled quote is read as two adjacent literals: same effect
 		case c == '-' && i+1 < len(s) && s[i+1] == '-':
-			for i < len(s) && s[i] != '\n' {
-				i++
+			j := strings.IndexByte(s[i:], '\n')
+			if j < 0 {
+				i = len(s)
+			} else {
+				i += j
 			}
 		case c == '/' && i+1 < len(s) && s[i+1] == '*':
 			j := strings.Index(s[i+2:], "*/")
 			if j < 0 {
+				sc.open = true
 				i = len(s)
 			} else {
 				i += j + 4
 			}
 		case c == ';':
+			if inTrigger() && last != "END" {
+				i++
+				continue
+			}
 			flush(i)
+			sc.terminated = true
 			i++
-			start = i
+			start, sig, words, last = i, false, nil, ""
+		case isWordByte(c):
+			j := i
+			for j < len(s) && isWordByte(s[j]) {
+				j++
+			}
+			w := strings.ToUpper(s[i:j])
+			if len(words) < 3 {
+				words = append(words, w)
+			}
+			last = w
+			sig = true
+			i = j
 		default:
+			if c != ' ' && c != '\t' && c != '\n' && c != '\r' {
+				sig = true
+				last = ""
+			}
 			i++
 		}
 	}
-	if start < len(s) {
-		flush(len(s))
-	}
-	return out
+	flush(len(s))
+	sc.tailSignificant = sig
+	return sc
 }
 
-// statementComplete reports whether text ends with a semicolon outside
-// quotes and comments (used by the shell for multi-line input).
-func statementComplete(text string) bool {
-	t := strings.TrimSpace(text)
-	if !strings.HasSuffix(t, ";") {
-		return false
-	}
-	// Re-split: if the trailing part after the last split is empty, the final
-	// semicolon was a real terminator.
-	in := false
-	var q byte
-	for i := 0; i < len(t); i++ {
-		c := t[i]
-		if in {
-			if c == q {
-				in = false
-			}
-			continue
-		}
-		switch c {
-		case '\'', '"', '`':
-			in, q = true, c
-		case '-':
-			if i+1 < len(t) && t[i+1] == '-' {
-				for i < len(t) && t[i] != '\n' {
-					i++
-				}
-			}
-		}
-	}
-	return !in && strings.HasSuffix(t, ";")
-}
-
-func onlyComments(t string) bool {
-	for _, line := range strings.Split(t, "\n") {
-		l := strings.TrimSpace(line)
-		if l != "" && !strings.HasPrefix(l, "--") {
-			return false
-		}
-	}
-	return true
+func isWordByte(c byte) bool {
+	return c == '_' || c == '$' || c >= 0x80 || ('0' <= c && c <= '9') || ('a' <= c && c <= 'z') || ('A' <= c && c <= 'Z')
 }
 
 var nearRE = regexp.MustCompile(`near "([^"]*)"`)

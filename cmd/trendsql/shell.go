@@ -1,0 +1,384 @@
+package main
+
+import (
+	"bufio"
+	"context"
+	"database/sql"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"strings"
+
+	"github.com/chzyer/readline"
+	"github.com/spf13/cobra"
+
+	"trendsql/sqlfuncs"
+	"trendsql/store"
+)
+
+// shellHelp lists the shell's own commands. They start with a colon, which
+// no SQL statement can start with.
+const shellHelp = `Statements end with ';' and may span several lines.
+Shell commands (one per line, not ended by ';'):
+  :tables             list the tables and views of the store
+  :columns NAME       list the columns of a table or view
+  :format [FORMAT]    show or set the result format: table, csv or json
+  :functions [TEXT]   list trendsql's SQL functions (only those mentioning TEXT)
+  :help               show this list
+  :quit               leave the shell (Ctrl-D does too)`
+
+func newShellCmd(e *env) *cobra.Command {
+	var (
+		write  bool
+		format string
+	)
+	c := &cobra.Command{
+		Use:   "shell",
+		Short: "Interactive SQL on the store, with line editing and history (read-only unless --write)",
+		Long: `Run SQL statements against the store interactively. Statements end with ';'
+and may span several lines; results are printed as a table (or CSV or JSON).
+Lines starting with ':' are shell commands; ':help' lists them.
+
+When standard input is not a terminal, statements are read from it without
+prompts, e.g.  echo 'SELECT count(*) FROM stations;' | trendsql shell
+A failing statement prints its error and the shell carries on; piped input
+then ends with exit code 1.
+
+History is kept in the user cache directory (trendsql/history).
+The store is opened read-only unless --write is given.`,
+		Args: exactArgs(0),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if !validFormat(format) {
+				return usageErr("shell: --format must be table, csv or json, got %q", format)
+			}
+			s, err := e.open(cmd.Context(), !write)
+			if err != nil {
+				return err
+			}
+			defer s.Close()
+			conn, err := s.DB.Conn(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer conn.Close()
+			sh := &shell{conn: conn, store: s, out: e.out, errw: e.errw, format: format, ctx: cmd.Context()}
+			if f, ok := e.in.(*os.File); ok && readline.IsTerminal(int(f.Fd())) {
+				return sh.interactive(f)
+			}
+			return sh.piped(e.in)
+		},
+	}
+	c.Flags().BoolVar(&write, "write", false, "open the store writable so statements may change it")
+	c.Flags().StringVar(&format, "format", FormatTable, "initial result format: table, csv or json")
+	return c
+}
+
+func init() { extraCommands = append(extraCommands, newShellCmd) }
+
+// shell runs statements on one connection, so transactions and temporary
+// tables last across statements.
+type shell struct {
+	ctx       context.Context
+	conn      *sql.Conn
+	store     *store.Store
+	out, errw io.Writer
+	format    string
+	tty       bool
+	ran       int // statements and commands run
+	failed    int // of which failed
+}
+
+var errQuit = errors.New("quit")
+
+// piped reads statements from a non-terminal input without prompts.
+func (sh *shell) piped(in io.Reader) error {
+	sc := bufio.NewScanner(in)
+	sc.Buffer(make([]byte, 64*1024), 16*1024*1024)
+	var buf strings.Builder
+	lineNo, bufLine := 0, 0
+	for sc.Scan() {
+		lineNo++
+		line := sc.Text()
+		if buf.Len() == 0 {
+			if isShellCommand(line) {
+				if err := sh.command(line); err != nil {
+					if errors.Is(err, errQuit) {
+						return sh.result()
+					}
+					fmt.Fprintf(sh.errw, "input line %d: %v\n", lineNo, err)
+				}
+				continue
+			}
+			bufLine = lineNo
+		}
+		buf.WriteString(line)
+		buf.WriteByte('\n')
+		if statementComplete(buf.String()) {
+			sh.run(sh.ctx, buf.String(), bufLine)
+			buf.Reset()
+		}
+	}
+	if err := sc.Err(); err != nil {
+		return fmt.Errorf("shell: reading input: %w", err)
+	}
+	// A last statement without its ';' is still run.
+	if strings.TrimSpace(buf.String()) != "" {
+		sh.run(sh.ctx, buf.String(), bufLine)
+	}
+	return sh.result()
+}
+
+func (sh *shell) result() error {
+	if sh.failed > 0 {
+		return &exitError{code: ExitFailed, err: fmt.Errorf("shell: %d of %d statements or commands failed", sh.failed, sh.ran)}
+	}
+	return nil
+}
+
+// interactive runs the line-editing loop on a terminal.
+func (sh *shell) interactive(in *os.File) error {
+	sh.tty = true
+	name := filepath.Base(sh.store.Path)
+	mode := "read-only"
+	if !sh.store.ReadOnly {
+		mode = "writable"
+	}
+	prompt := fmt.Sprintf("%s %s › ", name, map[bool]string{true: "ro", false: "rw"}[sh.store.ReadOnly])
+	cont := strings.Repeat(" ", len([]rune(prompt))-2) + "┆ "
+	rl, err := readline.NewEx(&readline.Config{
+		Prompt:          prompt,
+		HistoryFile:     historyFile(),
+		HistoryLimit:    5000,
+		InterruptPrompt: "^C",
+		EOFPrompt:       "",
+		Stdin:           in,
+		Stdout:          sh.out,
+		Stderr:          sh.errw,
+	})
+	if err != nil {
+		return fmt.Errorf("shell: %w", err)
+	}
+	defer rl.Close()
+	fmt.Fprintf(sh.out, "trendsql shell on %s (%s). End statements with ';'. :help lists shell commands, :quit leaves.\n", sh.store.Path, mode)
+	var buf strings.Builder
+	for {
+		if buf.Len() == 0 {
+			rl.SetPrompt(prompt)
+		} else {
+			rl.SetPrompt(cont)
+		}
+		line, err := rl.Readline()
+		if errors.Is(err, readline.ErrInterrupt) {
+			if buf.Len() == 0 {
+				fmt.Fprintln(sh.errw, "(:quit or Ctrl-D leaves the shell)")
+			}
+			buf.Reset()
+			continue
+		}
+		if errors.Is(err, io.EOF) {
+			fmt.Fprintln(sh.out)
+			return nil
+		}
+		if err != nil {
+			return fmt.Errorf("shell: %w", err)
+		}
+		if buf.Len() == 0 {
+			if strings.TrimSpace(line) == "" {
+				continue
+			}
+			if isShellCommand(line) {
+				if err := sh.command(line); err != nil {
+					if errors.Is(err, errQuit) {
+						return nil
+					}
+					fmt.Fprintln(sh.errw, "error:", err)
+				}
+				continue
+			}
+		}
+		buf.WriteString(line)
+		buf.WriteByte('\n')
+		if statementComplete(buf.String()) {
+			sh.runInterruptible(buf.String())
+			buf.Reset()
+		}
+	}
+}
+
+// runInterruptible runs statements so that Ctrl-C cancels the running
+// statement and returns to the prompt instead of ending the shell.
+func (sh *shell) runInterruptible(text string) {
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	sig := make(chan os.Signal, 1)
+	signal.Notify(sig, os.Interrupt)
+	defer signal.Stop(sig)
+	go func() {
+		select {
+		case <-sig:
+			cancel()
+		case <-ctx.Done():
+		}
+	}()
+	sh.run(ctx, text, 0)
+}
+
+// historyFile is where the shell keeps its history; "" (no history) when the
+// cache directory cannot be made.
+func historyFile() string {
+	dir, err := os.UserCacheDir()
+	if err != nil {
+		return ""
+	}
+	dir = filepath.Join(dir, "trendsql")
+	if err := os.MkdirAll(dir, 0o700); err != nil {
+		return ""
+	}
+	return filepath.Join(dir, "history")
+}
+
+func isShellCommand(line string) bool { return strings.HasPrefix(strings.TrimSpace(line), ":") }
+
+// run executes every statement of text, printing results and errors.
+// firstLine (>0 for piped input) is the input line the text starts on.
+func (sh *shell) run(ctx context.Context, text string, firstLine int) {
+	for _, st := range splitStatements(text) {
+		sh.ran++
+		if err := sh.runOne(ctx, text, st); err != nil {
+			sh.failed++
+			if ctx.Err() != nil {
+				err = errors.New("statement cancelled")
+			}
+			if firstLine > 0 {
+				fmt.Fprintf(sh.errw, "statement starting on input line %d: %v\n", firstLine+strings.Count(text[:st.offset], "\n"), err)
+			} else {
+				fmt.Fprintln(sh.errw, "error:", err)
+			}
+		}
+	}
+}
+
+func (sh *shell) runOne(ctx context.Context, text string, st statement) error {
+	var before int64
+	if sh.tty {
+		before, _ = store.TotalChanges(ctx, sh.conn)
+	}
+	rows, err := sh.conn.QueryContext(ctx, st.text)
+	if err != nil {
+		return sqlError(text, st, err)
+	}
+	defer rows.Close()
+	cols, err := rows.Columns()
+	if err != nil {
+		return sqlError(text, st, err)
+	}
+	if len(cols) == 0 {
+		// A statement without a result (INSERT, CREATE, BEGIN...): step it.
+		for rows.Next() {
+		}
+		if err := rows.Err(); err != nil {
+			return sqlError(text, st, err)
+		}
+		rows.Close()
+		if sh.tty {
+			if after, err := store.TotalChanges(ctx, sh.conn); err == nil && after > before {
+				fmt.Fprintf(sh.out, "ok, %d row%s changed\n", after-before, plural(int(after-before)))
+			} else {
+				fmt.Fprintln(sh.out, "ok")
+			}
+		}
+		return nil
+	}
+	if _, err := writeRows(sh.out, rows, sh.format); err != nil {
+		return sqlError(text, st, err)
+	}
+	return nil
+}
+
+// command runs one shell command line.
+func (sh *shell) command(line string) error {
+	sh.ran++
+	err := sh.dispatch(line)
+	if err != nil && !errors.Is(err, errQuit) {
+		sh.failed++
+	}
+	if errors.Is(err, errQuit) {
+		sh.ran--
+	}
+	return err
+}
+
+func (sh *shell) dispatch(line string) error {
+	fields := strings.Fields(strings.TrimSpace(line))
+	name, args := strings.ToLower(fields[0]), fields[1:]
+	ctx := sh.ctx
+	if sh.tty {
+		ctx = context.Background()
+	}
+	argN := func(min, max int) error {
+		if len(args) < min || len(args) > max {
+			return fmt.Errorf("%s: wrong number of arguments (see :help)", name)
+		}
+		return nil
+	}
+	switch name {
+	case ":help":
+		fmt.Fprintln(sh.out, shellHelp)
+	case ":quit":
+		return errQuit
+	case ":tables":
+		if err := argN(0, 0); err != nil {
+			return err
+		}
+		rows, err := store.TablesQuery(ctx, sh.conn)
+		if err != nil {
+			return err
+		}
+		defer rows.Close()
+		_, err = writeRows(sh.out, rows, sh.format)
+		return err
+	case ":columns":
+		if err := argN(1, 1); err != nil {
+			return err
+		}
+		rows, err := store.ColumnsQuery(ctx, sh.conn, strings.Trim(args[0], `"'[]`+"`"))
+		if err != nil {
+			return fmt.Errorf(":columns: %w", err)
+		}
+		defer rows.Close()
+		_, err = writeRows(sh.out, rows, sh.format)
+		return err
+	case ":format":
+		if err := argN(0, 1); err != nil {
+			return err
+		}
+		if len(args) == 0 {
+			fmt.Fprintf(sh.out, "format: %s\n", sh.format)
+			return nil
+		}
+		f := strings.ToLower(args[0])
+		if !validFormat(f) {
+			return fmt.Errorf(":format: expected table, csv or json, got %q", args[0])
+		}
+		sh.format = f
+	case ":functions":
+		var docs []sqlfuncs.Doc
+		pat := strings.ToLower(strings.Join(args, " "))
+		for _, d := range sqlfuncs.List() {
+			if pat == "" || strings.Contains(strings.ToLower(d.Name+" "+d.Summary), pat) {
+				docs = append(docs, d)
+			}
+		}
+		if len(docs) == 0 && pat != "" {
+			fmt.Fprintf(sh.out, "(no SQL function mentions %q)\n", pat)
+			return nil
+		}
+		writeFunctionList(&env{out: sh.out}, docs)
+	default:
+		return fmt.Errorf("unknown shell command %s (:help lists them)", fields[0])
+	}
+	return nil
+}

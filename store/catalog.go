@@ -1,0 +1,47 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"fmt"
+)
+
+// Querier is what catalog queries run on: a *sql.DB, *sql.Conn or *sql.Tx.
+type Querier interface {
+	QueryContext(ctx context.Context, query string, args ...any) (*sql.Rows, error)
+	QueryRowContext(ctx context.Context, query string, args ...any) *sql.Row
+}
+
+// TablesQuery lists the tables and views of every attached schema (SQLite's
+// own internal tables left out), with their column counts.
+func TablesQuery(ctx context.Context, q Querier) (*sql.Rows, error) {
+	return q.QueryContext(ctx, `SELECT name, type, ncol AS columns, schema
+FROM pragma_table_list
+WHERE name NOT LIKE 'sqlite\_%' ESCAPE '\'
+ORDER BY schema = 'main' DESC, schema, type, name`)
+}
+
+// ColumnsQuery lists the columns of a table or view: position, name, declared
+// type, NOT NULL, default and primary-key position. It returns an error naming
+// the table when there is no table or view of that name.
+func ColumnsQuery(ctx context.Context, q Querier, table string) (*sql.Rows, error) {
+	var n int
+	if err := q.QueryRowContext(ctx, `SELECT count(*) FROM pragma_table_list WHERE name = ? COLLATE NOCASE`, table).Scan(&n); err != nil {
+		return nil, err
+	}
+	if n == 0 {
+		return nil, fmt.Errorf("no table or view named %q", table)
+	}
+	return q.QueryContext(ctx, `SELECT cid + 1 AS position, name, type, "notnull" = 1 AS not_null,
+       dflt_value AS default_value, pk AS primary_key_position
+FROM pragma_table_xinfo(?)
+ORDER BY cid`, table)
+}
+
+// TotalChanges returns SQLite's total_changes() for the connection: rows
+// inserted, updated or deleted since it opened. Run on a *sql.Conn.
+func TotalChanges(ctx context.Context, q Querier) (int64, error) {
+	var n int64
+	err := q.QueryRowContext(ctx, `SELECT total_changes()`).Scan(&n)
+	return n, err
+}
