@@ -1,0 +1,112 @@
+package stats
+
+import (
+	"math"
+	"math/rand/v2"
+	"slices"
+	"testing"
+)
+
+// bruteSlopes lists every within-block pair slope, sorted by the exact
+// comparator (independent of the selection machinery: no cuts, no sampling).
+func bruteOrder(t, y []float64, blocks []int) (*senData, []slopeRef) {
+	d := newSenData(t, y, blocks)
+	var ps []slopeRef
+	for b := 0; b+1 < len(blocks); b++ {
+		for i := blocks[b]; i < blocks[b+1]; i++ {
+			for j := i + 1; j < blocks[b+1]; j++ {
+				ps = append(ps, slopeRef{int32(i), int32(j)})
+			}
+		}
+	}
+	d.sortSlopes(ps)
+	return d, ps
+}
+
+// bruteFloat is the textbook O(n²) reference: float slopes, sorted.
+func bruteFloat(t, y []float64) []float64 {
+	var s []float64
+	for i := range t {
+		for j := i + 1; j < len(t); j++ {
+			s = append(s, (y[j]-y[i])/(t[j]-t[i]))
+		}
+	}
+	slices.Sort(s)
+	return s
+}
+
+func randSeries(rng *rand.Rand, n int, kind int) (t, y []float64) {
+	t = make([]float64, n)
+	y = make([]float64, n)
+	tt := 1.6e9
+	for i := 0; i < n; i++ {
+		switch kind % 3 {
+		case 0: // regular daily steps
+			tt += 86400
+		default: // irregular whole seconds
+			tt += float64(1 + rng.IntN(200000))
+		}
+		t[i] = tt
+		switch kind {
+		case 0, 1: // continuous values
+			y[i] = rng.NormFloat64()*3 + float64(i)*0.001
+		case 2, 3: // quantised to 0.25 (many ties; dyadic so differences are exact)
+			y[i] = math.Round((rng.NormFloat64()*2+float64(i)*0.002)*4) / 4
+		case 4: // heavily tied small integers
+			y[i] = float64(rng.IntN(4))
+		default: // decimal-quantised (0.01), not dyadic
+			y[i] = math.Round((rng.NormFloat64()+float64(i%50)*0.1)*100) / 100
+		}
+	}
+	return
+}
+
+func TestSenSelectionMatchesBruteForce(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 11))
+	sizes := []int{2, 3, 4, 5, 7, 10, 31, 64, 129, 200, 257, 500, 999, 1500}
+	if !testing.Short() {
+		sizes = append(sizes, 3000)
+	}
+	for _, n := range sizes {
+		for kind := 0; kind < 6; kind++ {
+			tt, yy := randSeries(rng, n, kind)
+			d, order := bruteOrder(tt, yy, []int{0, n})
+			N := int64(len(order))
+			// check several ranks, including the extremes and median
+			ranks := []int64{1, N, (N + 1) / 2, N/2 + 1}
+			for i := 0; i < 3; i++ {
+				ranks = append(ranks, 1+rng.Int64N(N))
+			}
+			fast := newSenData(tt, yy, []int{0, n})
+			var cache []cut
+			for _, k := range ranks {
+				got := fast.selectRank(k, &cache)
+				want := order[k-1]
+				if d.cmpSlopes(got, want, d.slopeF(got), d.slopeF(want)) != 0 {
+					t.Fatalf("n=%d kind=%d rank %d: selected slope %v (pair %v), brute force %v (pair %v)",
+						n, kind, k, d.slopeF(got), got, d.slopeF(want), want)
+				}
+			}
+			// dyadic/integer data: float brute force is exact, compare bitwise
+			if kind >= 2 && kind <= 4 {
+				fl := bruteFloat(tt, yy)
+				r, err := SenSlope(tt, yy, 0.95)
+				if err != nil {
+					t.Fatal(err)
+				}
+				var med float64
+				if N%2 == 1 {
+					med = fl[N/2]
+				} else {
+					med = (fl[N/2-1] + fl[N/2]) / 2
+				}
+				if r.Slope != med {
+					t.Fatalf("n=%d kind=%d: Sen slope %v, float brute force %v", n, kind, r.Slope, med)
+				}
+				if r.Lower != fl[r.LowerRank-1] || r.Upper != fl[r.UpperRank-1] {
+					t.Fatalf("n=%d kind=%d: interval [%v, %v], brute force [%v, %v]", n, kind, r.Lower, r.Upper, fl[r.LowerRank-1], fl[r.UpperRank-1])
+				}
+			}
+		}
+	}
+}
