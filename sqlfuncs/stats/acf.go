@@ -148,6 +148,34 @@ func SampleACVFDirect(x []float64, maxLag int) Autocov {
 	return a
 }
 
+// ACVFAtLag returns γ̂(0) and γ̂(h) of the gridded series x (NaN = missing)
+// and the pair count m(h), in O(N): the same sums as SampleACVFDirect for
+// those two lags. gh is NaN when h ≥ N or m(h) = 0; g0 is NaN when no value
+// is present.
+func ACVFAtLag(x []float64, h int) (g0, gh float64, pairs int) {
+	_, z, mask := newAutocov(x, 0)
+	N := len(x)
+	sum := func(lag int) (float64, int) {
+		s, m := 0.0, 0
+		for i := 0; i+lag < N; i++ {
+			s += z[i] * z[i+lag]
+			if mask == nil || (mask[i] != 0 && mask[i+lag] != 0) {
+				m++
+			}
+		}
+		if m == 0 {
+			return math.NaN(), 0
+		}
+		return s / float64(m+lag), m
+	}
+	g0, _ = sum(0)
+	if h < 0 || h >= N {
+		return g0, math.NaN(), 0
+	}
+	gh, pairs = sum(h)
+	return g0, gh, pairs
+}
+
 // fftSize returns the smallest integer ≥ n whose only prime factors are 2,
 // 3 and 5 (sizes gonum's real FFT handles fastest).
 func fftSize(n int) int {

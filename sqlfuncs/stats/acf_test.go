@@ -340,3 +340,14 @@ func BenchmarkACVF(b *testing.B) {
 		}
 	}
 }
+
+func TestACVFAtLag(t *testing.T) {
+	x := randomGapped(rand.New(rand.NewSource(9)), 300, 0.15)
+	a := SampleACVFDirect(x, 310)
+	for h := 0; h <= 310; h++ {
+		g0, gh, m := ACVFAtLag(x, h)
+		if g0 != a.ACVF[0] || m != a.Pairs[h] || !(gh == a.ACVF[h] || math.IsNaN(gh) && math.IsNaN(a.ACVF[h])) {
+			t.Fatalf("lag %d: %v %v %d vs %v %v %d", h, g0, gh, m, a.ACVF[0], a.ACVF[h], a.Pairs[h])
+		}
+	}
+}

@@ -24,6 +24,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
 	"strings"
 
 	"trendsql/sqlfuncs/timefmt"
@@ -323,4 +324,26 @@ func Regularize(t, y []float64, step float64) (Grid, []float64, error) {
 		return Grid{}, nil, err
 	}
 	return g, g.Fill(y), nil
+}
+
+// FormatStep renders a step in seconds as a duration text that
+// timefmt.ParseDuration reads back exactly: the first of y, w, d, h, min
+// giving a value ≥ 1 with at most four decimals (or a whole number of
+// quarters of a year), else seconds. E.g. 1y, 0.25y, 30.4375d, 1w, 15min.
+func FormatStep(sec float64) string {
+	units := []struct {
+		name string
+		v    float64
+	}{{"y", YearStep}, {"w", 7 * 86400}, {"d", 86400}, {"h", 3600}, {"min", 60}}
+	for _, u := range units {
+		v := sec / u.v
+		r := math.Round(v * 1e4)
+		if math.Abs(v*1e4-r) > 1e-6 {
+			continue
+		}
+		if v >= 1 || (u.name == "y" && math.Abs(v*4-math.Round(v*4)) < 1e-9 && v > 0) {
+			return strconv.FormatFloat(r/1e4, 'f', -1, 64) + u.name
+		}
+	}
+	return strconv.FormatFloat(sec, 'f', -1, 64) + "s"
 }

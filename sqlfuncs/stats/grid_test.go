@@ -5,6 +5,8 @@ import (
 	"math"
 	"strings"
 	"testing"
+
+	"trendsql/sqlfuncs/timefmt"
 )
 
 func TestInferStep(t *testing.T) {
@@ -112,5 +114,20 @@ func TestRegularize(t *testing.T) {
 	g, y, err = Regularize(nil, nil, 0)
 	if err != nil || g.NSlots != 0 || len(y) != 0 {
 		t.Fatalf("empty: %+v %v %v", g, y, err)
+	}
+}
+
+func TestFormatStep(t *testing.T) {
+	for _, c := range []struct {
+		s    float64
+		want string
+	}{{YearStep, "1y"}, {QuarterStep, "0.25y"}, {MonthStep, "30.4375d"}, {86400, "1d"}, {7 * 86400, "1w"}, {3600, "1h"}, {900, "15min"}, {90, "1.5min"}, {1, "1s"}, {0.5, "0.5s"}} {
+		got := FormatStep(c.s)
+		if got != c.want {
+			t.Errorf("FormatStep(%v) = %q, want %q", c.s, got, c.want)
+		}
+		if back, err := timefmt.ParseDuration(got); err != nil || back != c.s {
+			t.Errorf("ParseDuration(%q) = %v, %v; want %v", got, back, err, c.s)
+		}
 	}
 }
