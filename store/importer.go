@@ -1,0 +1,970 @@
+package store
+
+// Import of stations and readings from delimited text files.
+//
+// Both imports read the whole file inside ONE transaction: either the batch
+// is recorded in import_batches together with its counts and every rejected
+// row in import_rejects, or (on an I/O error, a cancelled context, a
+// duplicate under OnDuplicate "error" or a database error) nothing changes.
+//
+// Accounting, the same for both kinds: every data record (non-blank line or
+// multi-line quoted record after the header) is read, and ends up in exactly
+// one of stored, rejected or duplicate, so
+//
+//	rows_read = rows_stored + rows_rejected + rows_duplicate
+//
+// rows_replaced counts the duplicates that overwrote what was there before
+// (so rows_replaced <= rows_duplicate).
+//
+// Readings (ImportReadings):
+//   - Columns are found by header name (case-insensitive, surrounding blanks
+//     ignored): station (StationCol, default "station"), time (TimeCol,
+//     default "time"), value (ValueCol, default "value"), qualifier
+//     (QualifierCol; default "qualifier" when the header has it), and the
+//     variable either from a column (VariableCol; default "variable" when the
+//     header has it and no fixed Variable is given) or fixed for the whole
+//     file (Variable). Other columns are ignored.
+//   - Station id, variable and time are trimmed of surrounding blanks; the
+//     qualifier text is stored exactly as in the file, an empty cell as NULL.
+//   - A station that is not in the stations table is created with its id
+//     only (its other fields can be filled later by a stations import, which
+//     merges) and counted in ImportResult.StationsCreated.
+//   - A series (station, variable) is created as needed with Unit. If the
+//     stored series has no unit, Unit fills it; if it has a different unit,
+//     every row of that series is rejected with the reason "unit conflict".
+//   - Times are parsed by timefmt.ParseTime; zone-less local times are
+//     resolved in the TZ location (default UTC), and a local time that does
+//     not exist or exists twice in that zone is rejected.
+//   - Values: a decimal number (optional sign, digits, point, exponent), or
+//     with DecimalComma a comma instead of the point (then a point is not
+//     accepted: no thousands separators). Empty, NA, NaN, infinite, hex or
+//     other non-numeric text is rejected with the reason; nothing is ever
+//     turned into a number by guessing.
+//   - Duplicates: a (series, time) that is already stored, or that appears
+//     earlier in the same file, is a duplicate. OnDuplicate "error" (the
+//     default) fails the whole import naming both places; "keep-first" keeps
+//     the reading that was there first and counts the row as duplicate;
+//     "replace" overwrites it and counts the row as duplicate and replaced.
+//   - series_batches gets one row per series whose readings this batch
+//     wrote (stored or replaced), with that number of rows.
+//
+// Stations (ImportStations): see ImportStations.
+//
+// Rejected rows go to import_rejects with the source line number (of the
+// record's first line), the raw record text (cut at 64 KiB) and the reason.
+// Blank lines are skipped: they offer no row.
+
+import (
+	"context"
+	"crypto/sha256"
+	"database/sql"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"hash"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	"trendsql/sqlfuncs/timefmt"
+)
+
+// OnDuplicate says what a readings import does with a (series, time) that is
+// already stored or appeared earlier in the same file.
+type OnDuplicate string
+
+const (
+	DupError     OnDuplicate = "error"      // fail the whole import, change nothing
+	DupKeepFirst OnDuplicate = "keep-first" // keep the earlier reading, count the row as duplicate
+	DupReplace   OnDuplicate = "replace"    // overwrite, count the row as duplicate and replaced
+)
+
+// ParseOnDuplicate checks an OnDuplicate name; "" means DupError.
+func ParseOnDuplicate(s string) (OnDuplicate, error) {
+	switch OnDuplicate(s) {
+	case "", DupError:
+		return DupError, nil
+	case DupKeepFirst, DupReplace:
+		return OnDuplicate(s), nil
+	}
+	return "", fmt.Errorf("on-duplicate must be error, keep-first or replace, got %q", s)
+}
+
+// Progress is reported while a file is read.
+type Progress struct {
+	Rows       int64 // data records read so far
+	Bytes      int64 // bytes of the file read so far
+	TotalBytes int64 // size of the file, or -1 if unknown
+}
+
+// ReadingsOptions controls ImportReadings.
+type ReadingsOptions struct {
+	StationCol   string // default "station"
+	TimeCol      string // default "time"
+	ValueCol     string // default "value"
+	QualifierCol string // default: "qualifier" if the header has it, else none
+	VariableCol  string // column holding the variable name; excludes Variable
+	Variable     string // fixed variable name for every row; excludes VariableCol
+	Unit         string // unit of the series; "" leaves it unstated
+	TZ           string // IANA zone for zone-less times; "" means UTC
+	DecimalComma bool   // values use a comma as decimal separator
+	Delimiter    byte   // field separator; 0 means ','
+	OnDuplicate  OnDuplicate
+	// Progress, if set, is called now and then while the file is read, and
+	// once at its end, from the importing goroutine.
+	Progress func(Progress)
+}
+
+// StationsOptions controls ImportStations.
+type StationsOptions struct {
+	DecimalComma bool // latitude, longitude and elevation use a decimal comma
+	Delimiter    byte // field separator; 0 means ','
+	Progress     func(Progress)
+}
+
+// ImportResult is the accounting of one import batch.
+type ImportResult struct {
+	BatchID       int64
+	Kind          string // "stations" or "readings"
+	File          string // the path as given
+	Source        string // the absolute path recorded in import_batches
+	SHA256        string
+	RowsRead      int64
+	RowsStored    int64
+	RowsRejected  int64
+	RowsDuplicate int64
+	RowsReplaced  int64
+	// Readings only.
+	StationsCreated int64 // stations created with their id only
+	SeriesCreated   int64
+	SeriesWritten   int64 // series with rows in series_batches for this batch
+}
+
+// InputError is a problem with the input file that stops the import; the
+// message names the file and, where there is one, the line.
+type InputError struct {
+	File string
+	Line int // 0 when the problem is not tied to a line
+	Msg  string
+}
+
+func (e *InputError) Error() string {
+	if e.Line > 0 {
+		return fmt.Sprintf("%s line %d: %s", e.File, e.Line, e.Msg)
+	}
+	return fmt.Sprintf("%s: %s", e.File, e.Msg)
+}
+
+// ErrDuplicate is wrapped by the error of an import that found a duplicate
+// under OnDuplicate "error".
+var ErrDuplicate = errors.New("duplicate reading")
+
+// dupError is an InputError that also matches ErrDuplicate.
+type dupError struct{ InputError }
+
+func (e *dupError) Unwrap() error { return ErrDuplicate }
+
+// progressEvery is how many records pass between progress reports and
+// context checks.
+const progressEvery = 4096
+
+// input is an opened import file with hashing and byte counting.
+type input struct {
+	f     io.ReadCloser
+	name  string
+	abs   string
+	size  int64
+	h     hash.Hash
+	bytes int64
+}
+
+func (in *input) Read(p []byte) (int, error) {
+	n, err := in.f.Read(p)
+	if n > 0 {
+		in.h.Write(p[:n])
+		in.bytes += int64(n)
+	}
+	return n, err
+}
+
+func openInput(path string) (*input, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	in := &input{f: f, name: path, abs: path, size: -1, h: sha256.New()}
+	if st, err := f.Stat(); err == nil {
+		if st.IsDir() {
+			f.Close()
+			return nil, &InputError{File: path, Msg: "is a directory, not a file"}
+		}
+		in.size = st.Size()
+	}
+	if abs, err := filepath.Abs(path); err == nil {
+		in.abs = abs
+	}
+	return in, nil
+}
+
+// batch holds what every import kind shares: the transaction, the batch row,
+// the reject writer and the counts.
+type batch struct {
+	tx      *sql.Tx
+	in      *input
+	res     ImportResult
+	rejects []any
+	nrej    int
+	prog    func(Progress)
+}
+
+const rejectsPerInsert = 200
+
+func (s *Store) beginBatch(ctx context.Context, kind string, in *input, options any, prog func(Progress)) (*batch, error) {
+	opts, err := json.Marshal(options)
+	if err != nil {
+		return nil, err
+	}
+	tx, err := s.DB.BeginTx(ctx, nil)
+	if err != nil {
+		return nil, fmt.Errorf("import %s: begin: %w", in.name, err)
+	}
+	b := &batch{tx: tx, in: in, prog: prog}
+	b.res.Kind, b.res.File, b.res.Source = kind, in.name, in.abs
+	r, err := tx.ExecContext(ctx, `INSERT INTO import_batches(kind, source, started_at, options) VALUES (?, ?, ?, ?)`,
+		kind, in.abs, nowText(), string(opts))
+	if err == nil {
+		b.res.BatchID, err = r.LastInsertId()
+	}
+	if err != nil {
+		tx.Rollback()
+		return nil, fmt.Errorf("import %s: record batch: %w", in.name, err)
+	}
+	return b, nil
+}
+
+func nowText() string { return time.Now().UTC().Format("2006-01-02T15:04:05.000Z") }
+
+// reject records one rejected record.
+func (b *batch) reject(ctx context.Context, rec *csvRecord, reason string) error {
+	b.res.RowsRejected++
+	b.rejects = append(b.rejects, b.res.BatchID, rec.line, capRaw(rec.raw), reason)
+	b.nrej++
+	if b.nrej == rejectsPerInsert {
+		return b.flushRejects(ctx)
+	}
+	return nil
+}
+
+func (b *batch) flushRejects(ctx context.Context) error {
+	if b.nrej == 0 {
+		return nil
+	}
+	q := "INSERT INTO import_rejects(batch_id, line, raw, reason) VALUES " +
+		strings.TrimSuffix(strings.Repeat("(?,?,?,?),", b.nrej), ",")
+	if _, err := b.tx.ExecContext(ctx, q, b.rejects...); err != nil {
+		return fmt.Errorf("import %s: record rejects: %w", b.in.name, err)
+	}
+	b.rejects = b.rejects[:0]
+	b.nrej = 0
+	return nil
+}
+
+func (b *batch) progress(ctx context.Context) error {
+	if b.prog != nil {
+		b.prog(Progress{Rows: b.res.RowsRead, Bytes: b.in.bytes, TotalBytes: b.in.size})
+	}
+	if err := ctx.Err(); err != nil {
+		return fmt.Errorf("import %s: stopped at line %d, nothing was imported: %w", b.in.name, b.res.RowsRead, err)
+	}
+	return nil
+}
+
+// finish writes the counts and commits.
+func (b *batch) finish(ctx context.Context) error {
+	if err := b.flushRejects(ctx); err != nil {
+		return err
+	}
+	if err := b.progress(ctx); err != nil {
+		return err
+	}
+	b.res.SHA256 = hex.EncodeToString(b.in.h.Sum(nil))
+	r := &b.res
+	if _, err := b.tx.ExecContext(ctx, `UPDATE import_batches SET source_sha256 = ?, finished_at = ?,
+		rows_read = ?, rows_stored = ?, rows_rejected = ?, rows_duplicate = ?, rows_replaced = ? WHERE id = ?`,
+		r.SHA256, nowText(), r.RowsRead, r.RowsStored, r.RowsRejected, r.RowsDuplicate, r.RowsReplaced, r.BatchID); err != nil {
+		return fmt.Errorf("import %s: record counts: %w", b.in.name, err)
+	}
+	if err := b.tx.Commit(); err != nil {
+		return fmt.Errorf("import %s: commit: %w", b.in.name, err)
+	}
+	return nil
+}
+
+// header maps column names (case-insensitive, trimmed) to indexes.
+type header struct {
+	names []string
+	idx   map[string]int
+	dup   map[string]bool
+}
+
+func newHeader(fields []string) *header {
+	h := &header{idx: map[string]int{}, dup: map[string]bool{}}
+	for i, f := range fields {
+		n := strings.TrimSpace(f)
+		h.names = append(h.names, n)
+		k := strings.ToLower(n)
+		if n == "" {
+			continue
+		}
+		if _, ok := h.idx[k]; ok {
+			h.dup[k] = true
+		}
+		h.idx[k] = i
+	}
+	return h
+}
+
+// find returns the index of column name, -1 if absent, or an error if the
+// header has it twice.
+func (h *header) find(name string) (int, error) {
+	k := strings.ToLower(strings.TrimSpace(name))
+	i, ok := h.idx[k]
+	if !ok {
+		return -1, nil
+	}
+	if h.dup[k] {
+		return -1, fmt.Errorf("column %q appears more than once in the header", name)
+	}
+	return i, nil
+}
+
+func (h *header) list() string {
+	q := make([]string, len(h.names))
+	for i, n := range h.names {
+		q[i] = strconv.Quote(n)
+	}
+	return strings.Join(q, ", ")
+}
+
+// readHeader reads the header record.
+func readHeader(cr *csvReader, name string) (*header, error) {
+	rec, err := cr.next()
+	if err != nil {
+		return nil, &InputError{File: name, Msg: "read: " + err.Error()}
+	}
+	if rec == nil {
+		return nil, &InputError{File: name, Msg: "file is empty: a header line with column names is needed"}
+	}
+	if rec.bad != "" {
+		return nil, &InputError{File: name, Line: rec.line, Msg: "header: " + rec.bad}
+	}
+	return newHeader(rec.fields), nil
+}
+
+// checkWidth returns a reject reason when a record is malformed or its field
+// count differs from the header's, or when a column without a header name
+// holds text.
+func checkWidth(rec *csvRecord, h *header) string {
+	if rec.bad != "" {
+		return "malformed record: " + rec.bad
+	}
+	if len(rec.fields) != len(h.names) {
+		return fmt.Sprintf("record has %d fields, the header has %d", len(rec.fields), len(h.names))
+	}
+	for i, n := range h.names {
+		if n == "" && strings.TrimSpace(rec.fields[i]) != "" {
+			return fmt.Sprintf("field %d has text %q but its column has no name in the header", i+1, rec.fields[i])
+		}
+	}
+	return ""
+}
+
+func delimOf(d byte) byte {
+	if d == 0 {
+		return ','
+	}
+	return d
+}
+
+// parseValue parses a reading value. It returns a reject reason when the
+// text is not a finite decimal number.
+func parseValue(raw string, decimalComma bool) (float64, string) {
+	s := strings.TrimSpace(raw)
+	if s == "" {
+		return 0, "empty value"
+	}
+	switch strings.ToLower(s) {
+	case "na", "n/a":
+		return 0, fmt.Sprintf("value %q is a missing-value marker", s)
+	case "nan", "+nan", "-nan":
+		return 0, fmt.Sprintf("value %q is not a number (NaN)", s)
+	case "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity":
+		return 0, fmt.Sprintf("value %q is infinite", s)
+	}
+	num := s
+	if decimalComma {
+		if strings.IndexByte(s, '.') >= 0 {
+			return 0, fmt.Sprintf("value %q has a point, but decimal comma is set (thousands separators are not accepted)", s)
+		}
+		num = strings.Replace(s, ",", ".", 1)
+	}
+	if !isDecimal(num) {
+		if !decimalComma && strings.Count(s, ",") == 1 && isDecimal(strings.Replace(s, ",", ".", 1)) {
+			return 0, fmt.Sprintf("value %q is not a number (a decimal comma? use the decimal comma option)", s)
+		}
+		return 0, fmt.Sprintf("value %q is not a number", s)
+	}
+	v, err := strconv.ParseFloat(num, 64)
+	if err != nil || math.IsInf(v, 0) {
+		return 0, fmt.Sprintf("value %q is out of range (would be infinite)", s)
+	}
+	return v, ""
+}
+
+// isDecimal accepts [+-]digits[.digits][(e|E)[+-]digits] with at least one
+// mantissa digit, and nothing else.
+func isDecimal(s string) bool {
+	i, n := 0, len(s)
+	if i < n && (s[i] == '+' || s[i] == '-') {
+		i++
+	}
+	digits := 0
+	for i < n && s[i] >= '0' && s[i] <= '9' {
+		i++
+		digits++
+	}
+	if i < n && s[i] == '.' {
+		i++
+		for i < n && s[i] >= '0' && s[i] <= '9' {
+			i++
+			digits++
+		}
+	}
+	if digits == 0 {
+		return false
+	}
+	if i < n && (s[i] == 'e' || s[i] == 'E') {
+		i++
+		if i < n && (s[i] == '+' || s[i] == '-') {
+			i++
+		}
+		ed := 0
+		for i < n && s[i] >= '0' && s[i] <= '9' {
+			i++
+			ed++
+		}
+		if ed == 0 {
+			return false
+		}
+	}
+	return i == n
+}
+
+// ---------------------------------------------------------------------------
+// Readings
+
+type seriesKey struct{ station, variable string }
+
+// seriesState is what a readings import knows about one series.
+type seriesState struct {
+	id       int64
+	station  string
+	variable string
+	reject   string // non-empty: every row of this series is rejected with this reason
+
+	hasStored  bool  // the series had readings before this import
+	smin, smax int64 // their time range
+
+	// Times of this file's rows, for duplicate detection within the file:
+	// while they arrive in ascending order they are kept in ts/lines; on the
+	// first row out of order they move into the map set.
+	n     int
+	lastT int64
+	ts    []int64
+	lines []int32
+	set   map[int64]int32
+
+	written int64 // rows this batch wrote to the series
+}
+
+// track notes that t arrived on line, and returns the line of an earlier
+// row of this file with the same t, or 0.
+func (ss *seriesState) track(t int64, line int) int {
+	l32 := int32(line)
+	if line > math.MaxInt32 {
+		l32 = math.MaxInt32
+	}
+	switch {
+	case ss.set != nil:
+		if prev, ok := ss.set[t]; ok {
+			return int(prev)
+		}
+		ss.set[t] = l32
+	case ss.n == 0 || t > ss.lastT:
+		ss.ts = append(ss.ts, t)
+		ss.lines = append(ss.lines, l32)
+		ss.lastT = t
+	case t == ss.lastT:
+		return int(ss.lines[len(ss.lines)-1])
+	default:
+		i := sort.Search(len(ss.ts), func(i int) bool { return ss.ts[i] >= t })
+		if ss.ts[i] == t {
+			return int(ss.lines[i])
+		}
+		ss.set = make(map[int64]int32, 2*len(ss.ts))
+		for j, x := range ss.ts {
+			ss.set[x] = ss.lines[j]
+		}
+		ss.set[t] = l32
+		ss.ts, ss.lines = nil, nil
+	}
+	ss.n++
+	return 0
+}
+
+// pendingRow is a valid row waiting for the stored-duplicate check.
+type pendingRow struct {
+	ser     *seriesState
+	t       int64
+	v       float64
+	q       *string
+	line    int
+	dupLine int  // earlier line of this file with the same series and time
+	probe   bool // may collide with a stored reading
+}
+
+type storedKey struct {
+	sid int64
+	t   int64
+}
+
+type storedVal struct {
+	v float64
+	q sql.NullString
+}
+
+// pendingRows is how many rows are checked against stored readings at once.
+const pendingRows = 2048
+
+type readingsImporter struct {
+	*batch
+	opt     ReadingsOptions
+	loc     *time.Location
+	w       *ReadingWriter
+	byKey   map[seriesKey]*seriesState
+	last    *seriesState
+	order   []*seriesState
+	pending []pendingRow
+	probes  map[*seriesState][]int64
+	found   map[storedKey]storedVal
+
+	stFindSeries, stFindStation, stAddStation, stAddSeries, stRange, stSetUnit *sql.Stmt
+}
+
+// readingsOptionsRecord is the options JSON of a readings batch.
+type readingsOptionsRecord struct {
+	StationCol   string `json:"station_col"`
+	TimeCol      string `json:"time_col"`
+	ValueCol     string `json:"value_col"`
+	QualifierCol string `json:"qualifier_col"`
+	VariableCol  string `json:"variable_col,omitempty"`
+	Variable     string `json:"variable,omitempty"`
+	Unit         string `json:"unit,omitempty"`
+	TZ           string `json:"tz"`
+	DecimalComma bool   `json:"decimal_comma"`
+	Delimiter    string `json:"delimiter"`
+	OnDuplicate  string `json:"on_duplicate"`
+}
+
+// ImportReadings imports a readings file (see the top of this file for the
+// rules) and returns its accounting. On error nothing is changed.
+func (s *Store) ImportReadings(ctx context.Context, path string, opt ReadingsOptions) (*ImportResult, error) {
+	var err error
+	if opt.OnDuplicate, err = ParseOnDuplicate(string(opt.OnDuplicate)); err != nil {
+		return nil, err
+	}
+	if opt.Variable != "" && opt.VariableCol != "" {
+		return nil, fmt.Errorf("import %s: give a fixed variable or a variable column, not both", path)
+	}
+	loc := time.UTC
+	if opt.TZ != "" {
+		if loc, err = time.LoadLocation(opt.TZ); err != nil {
+			return nil, fmt.Errorf("import %s: time zone %q: %w", path, opt.TZ, err)
+		}
+	}
+	in, err := openInput(path)
+	if err != nil {
+		return nil, fmt.Errorf("import: %w", err)
+	}
+	defer in.f.Close()
+	return s.importReadings(ctx, in, opt, loc)
+}
+
+func (s *Store) importReadings(ctx context.Context, in *input, opt ReadingsOptions, loc *time.Location) (*ImportResult, error) {
+	cr := newCSVReader(in, delimOf(opt.Delimiter))
+	h, err := readHeader(cr, in.name)
+	if err != nil {
+		return nil, err
+	}
+	col := func(flag, name, def string, required bool) (int, string, error) {
+		given := name != ""
+		if !given {
+			name = def
+		}
+		i, err := h.find(name)
+		if err != nil {
+			return -1, name, &InputError{File: in.name, Line: 1, Msg: err.Error()}
+		}
+		if i < 0 && (required || given) {
+			hint := ""
+			if !given {
+				hint = fmt.Sprintf("; name the column with %s", flag)
+			}
+			return -1, name, &InputError{File: in.name, Line: 1, Msg: fmt.Sprintf("no column %q in the header (columns: %s)%s", name, h.list(), hint)}
+		}
+		return i, name, nil
+	}
+	iStation, stationCol, err := col("--station-col", opt.StationCol, "station", true)
+	if err != nil {
+		return nil, err
+	}
+	iTime, timeCol, err := col("--time-col", opt.TimeCol, "time", true)
+	if err != nil {
+		return nil, err
+	}
+	iValue, valueCol, err := col("--value-col", opt.ValueCol, "value", true)
+	if err != nil {
+		return nil, err
+	}
+	iQual, qualCol, err := col("--qualifier-col", opt.QualifierCol, "qualifier", false)
+	if err != nil {
+		return nil, err
+	}
+	if iQual < 0 {
+		qualCol = ""
+	}
+	iVar, varCol := -1, ""
+	if opt.Variable == "" {
+		iVar, varCol, err = col("--variable-col", opt.VariableCol, "variable", false)
+		if err != nil {
+			return nil, err
+		}
+		if iVar < 0 {
+			return nil, &InputError{File: in.name, Line: 1, Msg: fmt.Sprintf("no variable: the header has no \"variable\" column (columns: %s); give a fixed variable name (--variable) or the column that holds it (--variable-col)", h.list())}
+		}
+	}
+
+	rec := readingsOptionsRecord{StationCol: stationCol, TimeCol: timeCol, ValueCol: valueCol, QualifierCol: qualCol,
+		VariableCol: varCol, Variable: opt.Variable, Unit: opt.Unit, TZ: loc.String(), DecimalComma: opt.DecimalComma,
+		Delimiter: string(rune(delimOf(opt.Delimiter))), OnDuplicate: string(opt.OnDuplicate)}
+	b, err := s.beginBatch(ctx, "readings", in, rec, opt.Progress)
+	if err != nil {
+		return nil, err
+	}
+	defer b.tx.Rollback()
+
+	im := &readingsImporter{batch: b, opt: opt, loc: loc, byKey: map[seriesKey]*seriesState{},
+		probes: map[*seriesState][]int64{}, found: map[storedKey]storedVal{}}
+	if err := im.prepare(ctx); err != nil {
+		return nil, err
+	}
+	defer im.closeStmts()
+
+	for {
+		r, err := cr.next()
+		if err != nil {
+			return nil, fmt.Errorf("import %s: read after line %d: %w", in.name, cr.nextLine-1, err)
+		}
+		if r == nil {
+			break
+		}
+		b.res.RowsRead++
+		if b.res.RowsRead%progressEvery == 0 {
+			if err := b.progress(ctx); err != nil {
+				return nil, err
+			}
+		}
+		if reason := checkWidth(r, h); reason != "" {
+			if err := b.reject(ctx, r, reason); err != nil {
+				return nil, err
+			}
+			continue
+		}
+		reason, err := im.row(ctx, r, iStation, iVar, iTime, iValue, iQual)
+		if err != nil {
+			return nil, err
+		}
+		if reason != "" {
+			if err := b.reject(ctx, r, reason); err != nil {
+				return nil, err
+			}
+		}
+	}
+	if err := im.resolve(ctx); err != nil {
+		return nil, err
+	}
+	affected, err := im.w.Flush(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("import %s: %w", in.name, err)
+	}
+	if opt.OnDuplicate != DupReplace && affected != b.res.RowsStored {
+		return nil, fmt.Errorf("import %s: internal error: %d readings inserted, %d expected", in.name, affected, b.res.RowsStored)
+	}
+	for _, ss := range im.order {
+		if ss.written == 0 {
+			continue
+		}
+		if _, err := b.tx.ExecContext(ctx, `INSERT INTO series_batches(series_id, batch_id, rows) VALUES (?, ?, ?)`,
+			ss.id, b.res.BatchID, ss.written); err != nil {
+			return nil, fmt.Errorf("import %s: record series_batches: %w", in.name, err)
+		}
+		b.res.SeriesWritten++
+	}
+	if err := b.finish(ctx); err != nil {
+		return nil, err
+	}
+	res := b.res
+	return &res, nil
+}
+
+func (im *readingsImporter) prepare(ctx context.Context) error {
+	conflict := ConflictError
+	if im.opt.OnDuplicate == DupReplace {
+		conflict = ConflictReplace
+	}
+	var err error
+	if im.w, err = NewReadingWriter(ctx, im.tx, conflict); err != nil {
+		return err
+	}
+	for _, p := range []struct {
+		st **sql.Stmt
+		q  string
+	}{
+		{&im.stFindSeries, `SELECT id, unit FROM series WHERE station_id = ? AND variable = ?`},
+		{&im.stFindStation, `SELECT count(*) FROM stations WHERE id = ?`},
+		{&im.stAddStation, `INSERT INTO stations(id) VALUES (?)`},
+		{&im.stAddSeries, `INSERT INTO series(station_id, variable, unit) VALUES (?, ?, ?)`},
+		{&im.stRange, `SELECT min(t), max(t) FROM readings WHERE series_id = ?`},
+		{&im.stSetUnit, `UPDATE series SET unit = ? WHERE id = ?`},
+	} {
+		st, err := im.tx.PrepareContext(ctx, p.q)
+		if err != nil {
+			return fmt.Errorf("import %s: prepare: %w", im.in.name, err)
+		}
+		*p.st = st
+	}
+	return nil
+}
+
+func (im *readingsImporter) closeStmts() {
+	for _, st := range []*sql.Stmt{im.stFindSeries, im.stFindStation, im.stAddStation, im.stAddSeries, im.stRange, im.stSetUnit} {
+		if st != nil {
+			st.Close()
+		}
+	}
+}
+
+// row handles one well-formed record; it returns a reject reason, or queues
+// the row.
+func (im *readingsImporter) row(ctx context.Context, r *csvRecord, iStation, iVar, iTime, iValue, iQual int) (string, error) {
+	f := r.fields
+	station := strings.TrimSpace(f[iStation])
+	if station == "" {
+		return "missing station", nil
+	}
+	variable := im.opt.Variable
+	if iVar >= 0 {
+		if variable = strings.TrimSpace(f[iVar]); variable == "" {
+			return "missing variable", nil
+		}
+	}
+	if strings.TrimSpace(f[iTime]) == "" {
+		return "missing time", nil
+	}
+	t, err := timefmt.ParseTime(f[iTime], im.loc)
+	if err != nil {
+		return "bad time: " + err.Error(), nil
+	}
+	v, reason := parseValue(f[iValue], im.opt.DecimalComma)
+	if reason != "" {
+		return reason, nil
+	}
+	var q *string
+	if iQual >= 0 && f[iQual] != "" {
+		s := f[iQual]
+		q = &s
+	}
+	ss, err := im.series(ctx, station, variable)
+	if err != nil {
+		return "", err
+	}
+	if ss.reject != "" {
+		return ss.reject, nil
+	}
+	p := pendingRow{ser: ss, t: t, v: v, q: q, line: r.line}
+	p.dupLine = ss.track(t, r.line)
+	if p.dupLine == 0 && ss.hasStored && t >= ss.smin && t <= ss.smax {
+		p.probe = true
+		im.probes[ss] = append(im.probes[ss], t)
+	}
+	im.pending = append(im.pending, p)
+	if len(im.pending) >= pendingRows {
+		return "", im.resolve(ctx)
+	}
+	return "", nil
+}
+
+// series finds or creates the series of (station, variable).
+func (im *readingsImporter) series(ctx context.Context, station, variable string) (*seriesState, error) {
+	if l := im.last; l != nil && l.station == station && l.variable == variable {
+		return l, nil
+	}
+	if ss, ok := im.byKey[seriesKey{station, variable}]; ok {
+		im.last = ss
+		return ss, nil
+	}
+	ss := &seriesState{station: strings.Clone(station), variable: strings.Clone(variable)}
+	fail := func(err error) (*seriesState, error) {
+		return nil, fmt.Errorf("import %s: series %q/%q: %w", im.in.name, station, variable, err)
+	}
+	var unit sql.NullString
+	err := im.stFindSeries.QueryRowContext(ctx, station, variable).Scan(&ss.id, &unit)
+	switch {
+	case err == nil:
+		if im.opt.Unit != "" {
+			if !unit.Valid || unit.String == "" {
+				if _, err := im.stSetUnit.ExecContext(ctx, im.opt.Unit, ss.id); err != nil {
+					return fail(err)
+				}
+			} else if unit.String != im.opt.Unit {
+				ss.reject = fmt.Sprintf("unit conflict: station %q variable %q is stored in %q, this import gives %q", station, variable, unit.String, im.opt.Unit)
+			}
+		}
+		var lo, hi sql.NullInt64
+		if err := im.stRange.QueryRowContext(ctx, ss.id).Scan(&lo, &hi); err != nil {
+			return fail(err)
+		}
+		if lo.Valid {
+			ss.hasStored, ss.smin, ss.smax = true, lo.Int64, hi.Int64
+		}
+	case errors.Is(err, sql.ErrNoRows):
+		var n int
+		if err := im.stFindStation.QueryRowContext(ctx, station).Scan(&n); err != nil {
+			return fail(err)
+		}
+		if n == 0 {
+			if _, err := im.stAddStation.ExecContext(ctx, station); err != nil {
+				return fail(err)
+			}
+			im.res.StationsCreated++
+		}
+		var u any
+		if im.opt.Unit != "" {
+			u = im.opt.Unit
+		}
+		r, err := im.stAddSeries.ExecContext(ctx, station, variable, u)
+		if err != nil {
+			return fail(err)
+		}
+		if ss.id, err = r.LastInsertId(); err != nil {
+			return fail(err)
+		}
+		im.res.SeriesCreated++
+	default:
+		return fail(err)
+	}
+	im.byKey[seriesKey{ss.station, ss.variable}] = ss
+	im.order = append(im.order, ss)
+	im.last = ss
+	return ss, nil
+}
+
+// resolve checks the pending rows against stored readings and writes them.
+func (im *readingsImporter) resolve(ctx context.Context) error {
+	for ss, ts := range im.probes {
+		for len(ts) > 0 {
+			n := min(len(ts), 500)
+			if err := im.lookupStored(ctx, ss.id, ts[:n]); err != nil {
+				return err
+			}
+			ts = ts[n:]
+		}
+	}
+	clear(im.probes)
+	mode := im.opt.OnDuplicate
+	for i := range im.pending {
+		p := &im.pending[i]
+		ss := p.ser
+		dup, write := false, true
+		if p.dupLine != 0 {
+			if mode == DupError {
+				return &dupError{InputError{File: im.in.name, Line: p.line, Msg: fmt.Sprintf(
+					"duplicate reading: station %q variable %q at %s also appears on line %d; nothing was imported (to keep the first or the last of such rows, choose keep-first or replace for duplicates)",
+					ss.station, ss.variable, timefmt.FormatUTC(p.t), p.dupLine)}}
+			}
+			dup = true
+		} else if p.probe {
+			if sv, ok := im.found[storedKey{ss.id, p.t}]; ok {
+				if mode == DupError {
+					same := "a different value"
+					if sv.v == p.v {
+						same = "the same value"
+					}
+					return &dupError{InputError{File: im.in.name, Line: p.line, Msg: fmt.Sprintf(
+						"duplicate reading: station %q variable %q at %s is already stored (with %s: %s); nothing was imported (to keep the stored or the new readings, choose keep-first or replace for duplicates)",
+						ss.station, ss.variable, timefmt.FormatUTC(p.t), same, strconv.FormatFloat(sv.v, 'g', -1, 64))}}
+				}
+				dup = true
+			}
+		}
+		if dup {
+			im.res.RowsDuplicate++
+			if mode == DupKeepFirst {
+				write = false
+			} else {
+				im.res.RowsReplaced++
+			}
+		} else {
+			im.res.RowsStored++
+		}
+		if write {
+			ss.written++
+			if err := im.w.Add(ctx, Reading{SeriesID: ss.id, T: p.t, Value: p.v, Qualifier: p.q}); err != nil {
+				return fmt.Errorf("import %s near line %d: %w", im.in.name, p.line, err)
+			}
+		}
+	}
+	im.pending = im.pending[:0]
+	clear(im.found)
+	return nil
+}
+
+func (im *readingsImporter) lookupStored(ctx context.Context, sid int64, ts []int64) error {
+	args := make([]any, 0, len(ts)+1)
+	args = append(args, sid)
+	for _, t := range ts {
+		args = append(args, t)
+	}
+	q := "SELECT t, value, qualifier FROM readings WHERE series_id = ? AND t IN (" +
+		strings.TrimSuffix(strings.Repeat("?,", len(ts)), ",") + ")"
+	rows, err := im.tx.QueryContext(ctx, q, args...)
+	if err != nil {
+		return fmt.Errorf("import %s: look up stored readings: %w", im.in.name, err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var t int64
+		var sv storedVal
+		if err := rows.Scan(&t, &sv.v, &sv.q); err != nil {
+			return err
+		}
+		im.found[storedKey{sid, t}] = sv
+	}
+	return rows.Err()
+}
