@@ -21,11 +21,21 @@ package sqlfuncs
 // NULL for the rest. x and y must be numbers (INTEGER, REAL or numeric TEXT);
 // non-numeric text, NaN or infinity is an error naming the function.
 //
-// The sums are updated one row at a time with the co-moment recurrences of
-// Welford (1962) as generalised by Chan, Golub & LeVeque (1983), so no sum
-// of squares of raw values is formed: x values near 1.7e9 (unix seconds)
-// keep full relative precision. WindowInverse applies the exact reverse
-// update, so sliding window frames cost O(1) per row.
+// Numerics. The state is n, a shift (x₀, y₀) = the first pair added since
+// the state was last empty, and the sums Σd, Σe, Σd², Σe², Σde of the
+// shifted values d = x − x₀, e = y − y₀, each kept as an unevaluated sum of
+// two float64 (double-double, ≈106 bits; Dekker 1971, Numer. Math.
+// 18:224–242, with the FMA-based exact product). The centred sums are formed
+// only when a value is asked for, e.g. Sxx = Σd² − (Σd)²/n in double-double.
+// No sum of squares of raw values is formed, so x near 1.7e9 (unix seconds)
+// with a spread of a few seconds keeps full relative precision. (For times
+// within a factor 2 of each other d is exact by Sterbenz's lemma.)
+// WindowInverse subtracts exactly the terms Step added, so a sliding frame
+// costs O(1) per row and does not drift: after k updates the error of a
+// centred sum is about k·2⁻¹⁰⁶ times the largest shifted sum of squares. A
+// centred sum of squares below 1e-24 of its raw shifted sum is rounding
+// noise (e.g. a constant x in a frame whose shift came from a removed row)
+// and is treated as exactly 0.
 //
 // Example (demo store): SELECT regr_slope(value, t) * 31557600 FROM readings
 // WHERE series_id = 1 — the least-squares slope per year (1y = 365.25 d).
@@ -38,7 +48,10 @@ import (
 type comoments struct {
 	fn            string
 	n             int64
-	mx, my        float64
+	x0, y0        float64 // shift: the first pair added since the state was empty
+	sd, se        dd      // Σd, Σe
+	sdd, see, sde dd      // Σd², Σe², Σde
+	mx, my        float64 // derived by finish()
 	sxx, syy, sxy float64
 }
 
@@ -54,20 +67,26 @@ func (c *comoments) pair(args []driver.Value) (y, x float64, ok bool, err error)
 	return y, x, okx && oky, nil
 }
 
+func (c *comoments) update(y, x float64, sign float64) {
+	d, e := x-c.x0, y-c.y0
+	c.sd = c.sd.add(ddFrom(sign * d))
+	c.se = c.se.add(ddFrom(sign * e))
+	c.sdd = c.sdd.add(twoProd(sign*d, d))
+	c.see = c.see.add(twoProd(sign*e, e))
+	c.sde = c.sde.add(twoProd(sign*d, e))
+}
+
 func (c *comoments) add(args []driver.Value) error {
 	y, x, ok, err := c.pair(args)
 	if err != nil || !ok {
 		return err
 	}
+	if c.n == 0 {
+		*c = comoments{fn: c.fn, x0: x, y0: y}
+	}
 	c.n++
-	n := float64(c.n)
-	dx := x - c.mx
-	dy := y - c.my
-	c.mx += dx / n
-	c.my += dy / n
-	c.sxx += dx * (x - c.mx)
-	c.syy += dy * (y - c.my)
-	c.sxy += dx * (y - c.my)
+	c.update(y, x, 1)
+	c.finish()
 	return nil
 }
 
@@ -81,21 +100,85 @@ func (c *comoments) remove(args []driver.Value) error {
 		return nil
 	}
 	c.n--
+	c.update(y, x, -1)
+	c.finish()
+	return nil
+}
+
+// finish derives the means and centred sums from the shifted sums.
+func (c *comoments) finish() {
+	if c.n == 0 {
+		return
+	}
 	n := float64(c.n)
-	dx := x - c.mx
-	dy := y - c.my
-	c.mx -= dx / n
-	c.my -= dy / n
-	c.sxx -= dx * (x - c.mx)
-	c.syy -= dy * (y - c.my)
-	c.sxy -= dx * (y - c.my)
-	if c.sxx < 0 {
+	md, me := c.sd.divF(n), c.se.divF(n)
+	c.mx = ddFrom(c.x0).add(md).float()
+	c.my = ddFrom(c.y0).add(me).float()
+	centred := func(sqq, sp, sq dd) float64 {
+		// Σpq − (Σp)(Σq)/n
+		v := sqq.add(sp.mul(sq).divF(n).neg()).float()
+		return v
+	}
+	c.sxx = centred(c.sdd, c.sd, c.sd)
+	c.syy = centred(c.see, c.se, c.se)
+	c.sxy = centred(c.sde, c.sd, c.se)
+	if c.sxx <= 1e-24*c.sdd.float() {
 		c.sxx = 0
 	}
-	if c.syy < 0 {
+	if c.syy <= 1e-24*c.see.float() {
 		c.syy = 0
 	}
-	return nil
+	if c.sxx == 0 || c.syy == 0 {
+		c.sxy = 0
+	}
+}
+
+// dd is a double-double number hi + lo with |lo| ≤ ulp(hi)/2 (Dekker 1971).
+type dd struct{ hi, lo float64 }
+
+func ddFrom(x float64) dd { return dd{x, 0} }
+
+func (a dd) float() float64 { return a.hi + a.lo }
+
+func (a dd) neg() dd { return dd{-a.hi, -a.lo} }
+
+// twoSum returns s = fl(a+b) and the exact error (Knuth's TwoSum).
+func twoSum(a, b float64) (s, e float64) {
+	s = a + b
+	bb := s - a
+	e = (a - (s - bb)) + (b - bb)
+	return
+}
+
+// twoProd returns a·b exactly as a double-double (using FMA).
+func twoProd(a, b float64) dd {
+	p := a * b
+	return dd{p, math.FMA(a, b, -p)}
+}
+
+func (a dd) add(b dd) dd {
+	s, e := twoSum(a.hi, b.hi)
+	t, f := twoSum(a.lo, b.lo)
+	e += t
+	s, e = twoSum(s, e)
+	e += f
+	s, e = twoSum(s, e)
+	return dd{s, e}
+}
+
+func (a dd) mul(b dd) dd {
+	p := twoProd(a.hi, b.hi)
+	p.lo += a.hi*b.lo + a.lo*b.hi
+	s, e := twoSum(p.hi, p.lo)
+	return dd{s, e}
+}
+
+func (a dd) divF(b float64) dd {
+	q1 := a.hi / b
+	r := a.add(twoProd(q1, b).neg())
+	q2 := r.hi / b
+	s, e := twoSum(q1, q2)
+	return dd{s, e}
 }
 
 type regrFunc struct {

@@ -530,7 +530,7 @@ func TestTrendFitDocExample(t *testing.T) {
 
 // ----- benchmarks -----
 
-func benchStore(b *testing.B, n int) *store.Store {
+func trendBenchStore(b *testing.B, n int) *store.Store {
 	s := openTrendStore(b)
 	var tt, yy []any
 	rng := rand.New(rand.NewPCG(5, 6))
@@ -557,7 +557,7 @@ func timeQuery(b *testing.B, db *sql.DB, q string) float64 {
 // same rows in the same process (metric x_avg).
 func BenchmarkTrendSQL(b *testing.B) {
 	for _, n := range []int{1000, 10000, 100000} {
-		s := benchStore(b, n)
+		s := trendBenchStore(b, n)
 		for _, q := range []struct{ name, sql string }{
 			{"trend_slope", `SELECT trend_slope(t, y) FROM obs WHERE g = 1`},
 			{"trend_fit", `SELECT trend_fit(t, y) FROM obs WHERE g = 1`},
