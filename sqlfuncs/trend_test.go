@@ -530,6 +530,8 @@ func TestTrendFitDocExample(t *testing.T) {
 
 // ----- benchmarks -----
 
+// trendBenchStore returns a store in b.TempDir() whose obs table holds n
+// hourly rows in group 1.
 func trendBenchStore(b *testing.B, n int) *store.Store {
 	s := openTrendStore(b)
 	var tt, yy []any
@@ -552,26 +554,45 @@ func timeQuery(b *testing.B, db *sql.DB, q string) float64 {
 	return time.Since(start).Seconds()
 }
 
-// BenchmarkTrendSQL runs trend_fit (default and seasonal) and trend_slope
-// over n rows through SQL and reports the time relative to avg(y) over the
-// same rows in the same process (metric x_avg).
-func BenchmarkTrendSQL(b *testing.B) {
+// benchTrendQuery times q and avg(y) over the same rows alternately and
+// reports x_avg (q's time over avg's) and ns/row.
+func benchTrendQuery(b *testing.B, s *store.Store, n int, q string) {
+	timeQuery(b, s.DB, q) // warm up
+	b.ResetTimer()
+	var tf, ta float64
+	for i := 0; i < b.N; i++ {
+		ta += timeQuery(b, s.DB, `SELECT avg(y) FROM obs WHERE g = 1`)
+		tf += timeQuery(b, s.DB, q)
+	}
+	b.ReportMetric(tf/ta, "x_avg")
+	b.ReportMetric(tf/float64(b.N)/float64(n)*1e9, "ns/row")
+}
+
+// BenchmarkTrendSlopeStep: trend_slope through SQL, per row, relative to
+// avg(y) over the same rows in the same process.
+func BenchmarkTrendSlopeStep(b *testing.B) {
 	for _, n := range []int{1000, 10000, 100000} {
-		s := trendBenchStore(b, n)
-		for _, q := range []struct{ name, sql string }{
-			{"trend_slope", `SELECT trend_slope(t, y) FROM obs WHERE g = 1`},
-			{"trend_fit", `SELECT trend_fit(t, y) FROM obs WHERE g = 1`},
-			{"trend_fit_seasonal", `SELECT trend_fit(t, y, 'degree=2, period=1y, harmonics=2') FROM obs WHERE g = 1`},
-		} {
-			b.Run(fmt.Sprintf("%s/n=%d", q.name, n), func(b *testing.B) {
-				var tf, ta float64
-				for i := 0; i < b.N; i++ {
-					ta += timeQuery(b, s.DB, `SELECT avg(y) FROM obs WHERE g = 1`)
-					tf += timeQuery(b, s.DB, q.sql)
-				}
-				b.ReportMetric(tf/ta, "x_avg")
-				b.ReportMetric(tf/float64(b.N)/float64(n)*1e9, "ns/row")
+		b.Run(fmt.Sprintf("n=%d", n), func(b *testing.B) {
+			s := trendBenchStore(b, n)
+			b.Run("sql", func(b *testing.B) {
+				benchTrendQuery(b, s, n, `SELECT trend_slope(t, y) FROM obs WHERE g = 1`)
 			})
-		}
+		})
+	}
+}
+
+// BenchmarkTrendFit: trend_fit (linear; quadratic with two annual
+// harmonics) through SQL relative to avg(y). The kernel alone is
+// BenchmarkFitTrendKernel in package stats.
+func BenchmarkTrendFit(b *testing.B) {
+	for _, n := range []int{1000, 10000, 100000} {
+		b.Run(fmt.Sprintf("n=%d", n), func(b *testing.B) {
+			s := trendBenchStore(b, n)
+			for _, spec := range []string{"degree=1", "degree=2, period=1y, harmonics=2"} {
+				b.Run(strings.ReplaceAll(spec, " ", ""), func(b *testing.B) {
+					benchTrendQuery(b, s, n, `SELECT trend_fit(t, y, '`+spec+`') FROM obs WHERE g = 1`)
+				})
+			}
+		})
 	}
 }

@@ -388,3 +388,51 @@ func TestFitTrendLiveStatsmodels(t *testing.T) {
 		checkTrendAgainstRef(t, label, m, res.Results[i])
 	}
 }
+
+func trendBenchSeries(n int) (t, y []float64) {
+	rng := rand.New(rand.NewPCG(1, uint64(n)))
+	for i := 0; i < n; i++ {
+		t = append(t, 1.6e9+float64(i)*3600)
+		y = append(y, 100+float64(i)*1e-4+rng.NormFloat64())
+	}
+	return
+}
+
+// BenchmarkFitTrendKernel: FitTrend alone (no SQL) at n = 1k, 10k, 100k.
+func BenchmarkFitTrendKernel(b *testing.B) {
+	for _, n := range []int{1000, 10000, 100000} {
+		t, y := trendBenchSeries(n)
+		for _, sp := range []struct {
+			name string
+			spec TrendSpec
+		}{
+			{"degree=1", TrendSpec{Degree: 1, HACLags: -1}},
+			{"degree=2,period=1y,harmonics=2", TrendSpec{Degree: 2, Period: SecondsPerYear, Harmonics: 2, HACLags: -1}},
+		} {
+			b.Run(fmt.Sprintf("n=%d/%s", n, sp.name), func(b *testing.B) {
+				b.ReportAllocs()
+				for i := 0; i < b.N; i++ {
+					if m, err := FitTrend(t, y, sp.spec); err != nil || m == nil {
+						b.Fatal(err)
+					}
+				}
+				b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(n), "ns/row")
+			})
+		}
+	}
+}
+
+// BenchmarkTrendSlopeKernel: TrendSlope alone at n = 1k, 10k, 100k.
+func BenchmarkTrendSlopeKernel(b *testing.B) {
+	for _, n := range []int{1000, 10000, 100000} {
+		t, y := trendBenchSeries(n)
+		b.Run(fmt.Sprintf("n=%d", n), func(b *testing.B) {
+			for i := 0; i < b.N; i++ {
+				if math.IsNaN(TrendSlope(t, y)) {
+					b.Fatal("NaN")
+				}
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(n), "ns/row")
+		})
+	}
+}
