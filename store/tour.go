@@ -6,15 +6,18 @@ package store
 type TourStep struct {
 	Explain string
 	SQL     string
-	// Needs lists trendsql SQL functions the step calls; a step is shown only
-	// when the binary registers all of them.
+	// Needs lists trendsql SQL functions the step calls; the step is shown
+	// only when the binary registers all of them.
 	Needs []string
+	// Unless lists functions whose presence makes the step redundant (a
+	// later step shows the same thing better); the step is then left out.
+	Unless []string
 }
 
 // TourCaution closes the tour.
 const TourCaution = "Statistical trends are not causal findings; agency procedures and qualified review govern decisions."
 
-// Tour is the demo tour, in order.
+// Tour is the demo tour, in order. TourFor picks the steps a binary can run.
 var Tour = []TourStep{
 	{
 		Explain: "What the store holds: stations, series and readings per station type.",
@@ -29,22 +32,25 @@ GROUP BY station_type
 ORDER BY readings DESC;`,
 	},
 	{
-		Explain: "Qualifier flags are kept verbatim from the source; unflagged readings show as ∅ (NULL).",
-		SQL: `SELECT qualifier, count(*) AS readings
-FROM readings
-GROUP BY qualifier
-ORDER BY readings DESC;`,
-	},
-	{
-		Explain: "Manual dip readings come at irregular times; readings_view shows them with ISO 8601 UTC times.",
-		SQL: `SELECT station_id, variable, time_utc, value, unit
+		Explain: "readings_view gives ISO 8601 UTC times; flags are kept verbatim (∅ = no flag): nitrate samples of a manually read well.",
+		SQL: `SELECT station_id, time_utc, value, unit, qualifier
 FROM readings_view
-WHERE station_id = 'VOR-M03' AND variable = 'groundwater_level'
+WHERE station_id = 'VOR-M07' AND variable = 'nitrate_n'
 ORDER BY t DESC
-LIMIT 5;`,
+LIMIT 6;`,
 	},
 	{
-		Explain: "Straight-line slope of every logged well in metres per year, steepest decline first (raw readings; seasonality and autocorrelation not modelled).",
+		Explain: "A river gauge's seasonal cycle: mean stage by calendar month.",
+		SQL: `SELECT strftime('%m', t, 'unixepoch') AS month,
+       round(avg(value), 3)              AS mean_stage_m,
+       count(*)                          AS readings
+FROM readings_view
+WHERE station_id = 'VOR-G04'
+GROUP BY month
+ORDER BY month;`,
+	},
+	{
+		Explain: "Straight-line slope of every logged well in metres per year, steepest decline first (seasonality and autocorrelation not modelled).",
 		SQL: `SELECT s.station_id,
        json_extract(st.metadata, '$.aquifer')  AS aquifer,
        json_extract(st.metadata, '$.land_use') AS land_use,
@@ -58,6 +64,7 @@ WHERE s.variable = 'groundwater_level'
 GROUP BY s.id
 ORDER BY m_per_year
 LIMIT 8;`,
+		Unless: []string{"trend_fit"},
 	},
 	{
 		Explain: "Site metadata joins like any column: mean straight-line slope of the well levels by land use.",
@@ -73,6 +80,54 @@ SELECT json_extract(st.metadata, '$.land_use') AS land_use,
 FROM slopes JOIN stations st ON st.id = slopes.station_id
 GROUP BY land_use
 ORDER BY mean_m_per_year;`,
+		Unless: []string{"trend_fit"},
+	},
+	{
+		Explain: "Well trends with the seasonal cycle fitted (two harmonics) beside the plain straight line; hac_p is the slope p-value with Newey–West errors.",
+		SQL: `WITH fits AS (
+  SELECT s.station_id,
+         regr_slope(r.value, r.t) * 31557600                 AS straight_line,
+         trend_fit(r.t, r.value, 'period=1y, harmonics=2')   AS fit
+  FROM readings r JOIN series s ON s.id = r.series_id
+  WHERE s.variable = 'groundwater_level'
+  GROUP BY s.id)
+SELECT f.station_id,
+       json_extract(st.metadata, '$.aquifer')  AS aquifer,
+       json_extract(st.metadata, '$.land_use') AS land_use,
+       round(f.straight_line, 3)               AS straight_m_yr,
+       round(f.fit ->> '$.slope_per_year', 3)  AS seasonal_fit_m_yr,
+       CASE WHEN f.fit ->> '$.hac_p' < 0.0001 THEN '< 0.0001'
+            ELSE printf('%.4f', f.fit ->> '$.hac_p') END AS hac_p
+FROM fits f JOIN stations st ON st.id = f.station_id
+WHERE json_extract(st.metadata, '$.station_type') = 'groundwater_well'
+ORDER BY seasonal_fit_m_yr
+LIMIT 8;`,
+		Needs: []string{"trend_fit"},
+	},
+	{
+		Explain: "Dependence left in the residuals of that fit: sample lag-1 autocorrelation and Ljung–Box over 10 daily lags (small p: evidence against white noise).",
+		SQL: `WITH models AS (
+  SELECT series_id, trend_fit(t, value, 'period=1y, harmonics=2') AS model
+  FROM readings
+  WHERE series_id IN (SELECT id FROM series
+                      WHERE station_id IN ('VOR-W03', 'VOR-W09', 'VOR-W16', 'VOR-W20'))
+  GROUP BY series_id),
+resid AS (
+  SELECT r.series_id, r.t, trend_residual(m.model, r.t, r.value) AS e
+  FROM readings r JOIN models m USING (series_id)),
+lb AS (
+  SELECT series_id,
+         sample_acf(t, e, 1)          AS acf1,
+         ljung_box(t, e, 10) ->> '$.q' AS q,
+         ljung_box_p(t, e, 10)        AS p
+  FROM resid GROUP BY series_id)
+SELECT s.station_id,
+       round(lb.acf1, 3) AS resid_acf1,
+       round(lb.q)       AS ljung_box_q,
+       CASE WHEN lb.p < 0.0001 THEN '< 0.0001' ELSE printf('%.4f', lb.p) END AS p
+FROM lb JOIN series s ON s.id = lb.series_id
+ORDER BY s.station_id;`,
+		Needs: []string{"trend_fit", "trend_residual", "sample_acf", "ljung_box", "ljung_box_p"},
 	},
 	{
 		Explain: "Well VOR-W09 had its sensor replaced (date in its metadata): mean level in the year before and the year after.",
@@ -91,27 +146,18 @@ WHERE abs(t - swap) < 31557600
 GROUP BY period
 ORDER BY min(t);`,
 	},
-	{
-		Explain: "Seasonal cycle of a river gauge: mean stage and number of readings by calendar month.",
-		SQL: `SELECT strftime('%m', t, 'unixepoch') AS month,
-       round(avg(value), 3)              AS mean_stage_m,
-       count(*)                          AS readings
-FROM readings_view
-WHERE station_id = 'VOR-G04'
-GROUP BY month
-ORDER BY month;`,
-	},
 }
 
-// TourFor returns the tour steps whose functions are all available.
+// TourFor returns the tour steps a binary with the given functions shows.
 func TourFor(have func(name string) bool) []TourStep {
 	var out []TourStep
 	for _, st := range Tour {
 		ok := true
 		for _, n := range st.Needs {
-			if !have(n) {
-				ok = false
-			}
+			ok = ok && have(n)
+		}
+		for _, n := range st.Unless {
+			ok = ok && !have(n)
 		}
 		if ok {
 			out = append(out, st)
