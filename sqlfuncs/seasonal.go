@@ -1,0 +1,159 @@
+package sqlfuncs
+
+// Seasonal Kendall trend test with the seasonal Sen slope.
+//
+//	seasonal_kendall(t, y, period [, seasons])   aggregate/window → TEXT (JSON) or NULL
+//
+// Arguments. t: INTEGER/REAL unix seconds (UTC) or TEXT time (args.go). y:
+// INTEGER, REAL or numeric TEXT. period: TEXT duration ('1y', '7d', '24h';
+// s, min, h, d, w, y with 1y = 365.25 d) or INTEGER/REAL seconds, or the
+// TEXT 'calendar-month'. seasons: INTEGER 1..1000, default 12.
+//
+// Seasons. With a duration period P and m seasons, the season of t is
+//
+//	floor(((t mod P) / P) · m),  t in unix seconds, mod taken into [0, P)
+//
+// i.e. m equal slices of the period counted from the unix epoch
+// 1970-01-01T00:00:00Z. For P = 1y and m = 12 these are twelfths of a
+// 365.25-day year (30.4375 d each, their boundaries drift against the
+// calendar by up to a day within each four-year cycle), not calendar months.
+// period = 'calendar-month' uses the UTC calendar month (January = season 0)
+// instead; seasons must then be 12 or omitted.
+//
+// NULL, short input, order. Rows with NULL y are skipped; a NULL t is an
+// error. Rows may come in any order; the series is sorted by t and two rows
+// with the same t are an error naming the time. Fewer than 2 rows → NULL.
+// A season with fewer than 2 values has no pairs and contributes nothing to
+// S, var_s or the slope (it is still listed in per_season). If no season has
+// 2 values, s = 0, var_s = 0 and z, p, the slope and its interval are null.
+// Also a window function with any frame.
+//
+// Formulas (stats/seasonal.go; Hirsch, Slack & Smith 1982, Water Resources
+// Research 18(1):107–121). Per season g, S_g and var(S_g) are the
+// Mann–Kendall statistic and its tie-corrected variance (see mann_kendall)
+// over that season's values in time order; then
+//
+//	s = Σ_g S_g,   var_s = Σ_g var(S_g)     (seasons treated as independent:
+//	                                         no between-season covariance term)
+//	z = (s − sgn s)/√var_s,  p = 2·P(N(0,1) > |z|)
+//	slope_per_year = median over all within-season pairs of
+//	                 (y_b − y_a)/(t_b − t_a) × 31 557 600 s
+//	lower, upper   = the sen_slope rank rule at 95 % confidence with N the
+//	                 number of within-season pairs and var_s as above
+//
+// JSON keys: n, period_s (null for calendar-month), season_definition
+// ("epoch-slices" or "calendar-month"), seasons, seasons_used (seasons with
+// ≥ 2 values), s, var_s, z, p, n_pairs, slope_per_year, lower, upper,
+// confidence, per_season: [{season, n, s, var_s}, ...].
+//
+// Example (demo store; numbers depend on the demo data):
+//
+//	SELECT series_id, seasonal_kendall(t, value, 'calendar-month')->>'p' AS p,
+//	       seasonal_kendall(t, value, 'calendar-month')->>'slope_per_year' AS per_year
+//	FROM readings GROUP BY series_id;
+
+import (
+	"database/sql/driver"
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+
+	"trendsql/sqlfuncs/stats"
+	"trendsql/sqlfuncs/timefmt"
+)
+
+func seasonalKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
+	const fn = "seasonal_kendall"
+	var period float64
+	calendar := false
+	switch v := opts[0].(type) {
+	case int64:
+		period = float64(v)
+	case float64:
+		period = v
+	case string:
+		if strings.EqualFold(strings.TrimSpace(v), "calendar-month") {
+			calendar = true
+		} else {
+			d, err := timefmt.ParseDuration(v)
+			if err != nil {
+				return nil, fmt.Errorf("%s: argument period: %v", fn, err)
+			}
+			period = d
+		}
+	default:
+		return nil, fmt.Errorf("%s: argument period must be a duration such as '1y' or 'calendar-month', got %s", fn, describe(opts[0]))
+	}
+	if !calendar && !(period > 0 && !math.IsInf(period, 0)) {
+		return nil, fmt.Errorf("%s: argument period = %s must be a positive duration", fn, describe(opts[0]))
+	}
+	seasons := int64(12)
+	if len(opts) > 1 && opts[1] != nil {
+		var err error
+		if seasons, err = argInt(fn, "seasons", opts[1], 1, 1000); err != nil {
+			return nil, err
+		}
+		if calendar && seasons != 12 {
+			return nil, fmt.Errorf("%s: period 'calendar-month' has 12 seasons, got seasons = %d", fn, seasons)
+		}
+	}
+	if r.Len() < 2 {
+		return nil, nil
+	}
+	season := make([]int, r.Len())
+	for i, t := range r.T {
+		if calendar {
+			season[i] = stats.CalendarMonth(t)
+		} else {
+			season[i] = stats.SeasonOf(t, period, int(seasons))
+		}
+	}
+	const conf = 0.95
+	res, err := stats.SeasonalKendall(r.T, r.Y, season, int(seasons), conf)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %v", fn, err)
+	}
+	const spy = timefmt.SecondsPerYear
+	var b mkObj
+	b.int("n", int64(res.N))
+	if calendar {
+		b.raw("period_s", "null")
+		b.str("season_definition", "calendar-month")
+	} else {
+		b.num("period_s", period)
+		b.str("season_definition", "epoch-slices")
+	}
+	b.int("seasons", seasons)
+	b.int("seasons_used", int64(res.SeasonsUsed))
+	b.int("s", res.S)
+	b.num("var_s", res.VarS)
+	b.num("z", res.Z)
+	b.num("p", res.P)
+	b.int("n_pairs", res.Pairs)
+	b.num("slope_per_year", res.Sen.Slope*spy)
+	b.num("lower", res.Sen.Lower*spy)
+	b.num("upper", res.Sen.Upper*spy)
+	b.num("confidence", conf)
+	var ps strings.Builder
+	ps.WriteByte('[')
+	for i, s := range res.PerSeason {
+		if i > 0 {
+			ps.WriteByte(',')
+		}
+		ps.WriteString(`{"season":` + strconv.Itoa(s.Season) + `,"n":` + strconv.Itoa(s.N) +
+			`,"s":` + strconv.FormatInt(s.S, 10) + `,"var_s":` + mkNum(s.VarS) + `}`)
+	}
+	ps.WriteByte(']')
+	b.raw("per_season", ps.String())
+	return b.String(), nil
+}
+
+func init() {
+	defineSeries(seriesSpec{
+		doc: Doc{Name: "seasonal_kendall", Signature: "seasonal_kendall(t, y, period [, seasons])", Kind: Aggregate,
+			Summary: "JSON {s, var_s, z, p, slope_per_year, lower, upper, per_season, ...}: seasonal Kendall test (Hirsch, Slack & Smith 1982) with seasons = equal slices of period from the unix epoch (or period 'calendar-month'), and the seasonal Sen slope"},
+		argNames: []string{"t", "y", "period", "seasons"}, values: 1, minOptions: 1, maxOptions: 2,
+		compute: seasonalKendallValue,
+	})
+}
