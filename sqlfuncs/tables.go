@@ -3,19 +3,31 @@ package sqlfuncs
 // Table-valued functions.
 //
 // modernc.org/sqlite registers virtual-table modules but does not make them
-// eponymous, so a module cannot be called as a table-valued function
-// directly. All the plumbing for that lives here: each table-valued function
-// is registered as a module named "<name>_module", and a connection hook
-// creates "temp.<name>" USING that module on every new connection. Its
-// declared schema has the function arguments as HIDDEN columns, so
-// `FROM t, name(t.col)` works as in SQLite's own table-valued functions.
+// eponymous (its xCreate and xConnect differ), so a module cannot be called
+// as a table-valued function directly. All the plumbing for that lives here:
+// each table-valued function is registered as a module named
+// "<name>_module", and every connection opened through OpenDB gets
+// "temp.<name>" created USING that module. Its declared schema has the
+// function arguments as HIDDEN columns, so `FROM t, name(t.col)` works as in
+// SQLite's own table-valued functions.
+//
+// The temp tables cannot be created from a driver connection hook: the
+// driver runs hooks before it installs the modules on a new connection, so
+// CREATE VIRTUAL TABLE would fail with "no such module". OpenDB therefore
+// wraps the driver in a driver.Connector that creates them right after the
+// driver has opened (and fully set up) each connection. Connections opened
+// with plain sql.Open("sqlite", ...) have every scalar and aggregate
+// function but not the table-valued ones.
 
 import (
 	"context"
+	"database/sql"
 	"database/sql/driver"
 	"fmt"
+	"sort"
+	"strings"
+	"sync"
 
-	"modernc.org/sqlite"
 	"modernc.org/sqlite/vtab"
 )
 
@@ -48,26 +60,114 @@ func defineTable(t tableDef) {
 }
 
 func registerTables() error {
-	if len(tables) == 0 {
-		return nil
-	}
-	names := make([]string, 0, len(tables))
 	for name, t := range tables {
 		if err := vtab.RegisterModule(nil, name+"_module", &tfModule{def: t}); err != nil {
 			return fmt.Errorf("register table-valued function %s: %w", name, err)
 		}
+	}
+	return nil
+}
+
+// tableNames returns the names of the table-valued functions, sorted.
+func tableNames() []string {
+	mu.Lock()
+	defer mu.Unlock()
+	names := make([]string, 0, len(tables))
+	for name := range tables {
 		names = append(names, name)
 	}
-	sqlite.RegisterConnectionHook(func(conn sqlite.ExecQuerierContext, dsn string) error {
-		for _, name := range names {
-			q := fmt.Sprintf("CREATE VIRTUAL TABLE IF NOT EXISTS temp.%s USING %s_module", name, name)
-			if _, err := conn.ExecContext(context.Background(), q, nil); err != nil {
-				return fmt.Errorf("create table-valued function %s: %w", name, err)
-			}
+	sort.Strings(names)
+	return names
+}
+
+var (
+	driverOnce sync.Once
+	sqliteDrv  driver.Driver
+)
+
+// sqliteDriver returns the driver registered as "sqlite" (sql.Open does not
+// connect, so this opens nothing).
+func sqliteDriver() driver.Driver {
+	driverOnce.Do(func() {
+		db, err := sql.Open("sqlite", "")
+		if err != nil {
+			panic("sqlfuncs: the sqlite driver is not registered: " + err.Error())
 		}
-		return nil
+		sqliteDrv = db.Driver()
+		db.Close()
 	})
-	return nil
+	return sqliteDrv
+}
+
+// OpenDB registers the functions (Register) and returns a database handle
+// on the "sqlite" driver for dsn whose every connection also has the
+// table-valued functions. Use it instead of sql.Open("sqlite", dsn).
+func OpenDB(dsn string) (*sql.DB, error) {
+	if err := Register(); err != nil {
+		return nil, err
+	}
+	return sql.OpenDB(&tfConnector{dsn: dsn, drv: sqliteDriver(), names: tableNames()}), nil
+}
+
+type tfConnector struct {
+	dsn   string
+	drv   driver.Driver
+	names []string
+}
+
+func (c *tfConnector) Driver() driver.Driver { return c.drv }
+
+// Connect opens a connection and creates the temp tables of the table-valued
+// functions on it. A read-only connection (PRAGMA query_only) has the pragma
+// lifted for the duration: the temp schema is private to the connection and
+// the database file is not written.
+func (c *tfConnector) Connect(ctx context.Context) (driver.Conn, error) {
+	conn, err := c.drv.Open(c.dsn)
+	if err != nil || len(c.names) == 0 {
+		return conn, err
+	}
+	ex, ok := conn.(driver.ExecerContext)
+	qr, ok2 := conn.(driver.QueryerContext)
+	if !ok || !ok2 {
+		conn.Close()
+		return nil, fmt.Errorf("sqlfuncs: the sqlite driver connection cannot execute statements")
+	}
+	queryOnly, err := pragmaInt(ctx, qr, "PRAGMA query_only")
+	if err != nil {
+		conn.Close()
+		return nil, err
+	}
+	stmts := []string{}
+	if queryOnly != 0 {
+		stmts = append(stmts, "PRAGMA query_only = 0")
+	}
+	for _, name := range c.names {
+		stmts = append(stmts, fmt.Sprintf("CREATE VIRTUAL TABLE IF NOT EXISTS temp.%s USING %s_module", name, name))
+	}
+	if queryOnly != 0 {
+		stmts = append(stmts, "PRAGMA query_only = 1")
+	}
+	for _, q := range stmts {
+		if _, err := ex.ExecContext(ctx, q, nil); err != nil {
+			conn.Close()
+			return nil, fmt.Errorf("create table-valued functions (%s): %w", strings.Join(c.names, ", "), err)
+		}
+	}
+	return conn, nil
+}
+
+func pragmaInt(ctx context.Context, qr driver.QueryerContext, q string) (int64, error) {
+	rows, err := qr.QueryContext(ctx, q, nil)
+	if err != nil {
+		return 0, err
+	}
+	defer rows.Close()
+	dest := make([]driver.Value, len(rows.Columns()))
+	if err := rows.Next(dest); err != nil || len(dest) == 0 {
+		return 0, fmt.Errorf("%s: no result", q)
+	}
+	v, _ := dest[0].(int64)
+	return v, nil
 }
 
 type tfModule struct{ def tableDef }
@@ -123,8 +223,8 @@ func (t *tfTable) BestIndex(info *vtab.IndexInfo) error {
 }
 
 func (t *tfTable) Open() (vtab.Cursor, error) { return &tfCursor{def: t.def}, nil }
-func (t *tfTable) Disconnect() error         { return nil }
-func (t *tfTable) Destroy() error            { return nil }
+func (t *tfTable) Disconnect() error          { return nil }
+func (t *tfTable) Destroy() error             { return nil }
 
 type tfCursor struct {
 	def  tableDef

@@ -85,7 +85,7 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 			return nil, fmt.Errorf("open %s: %w", path, ErrNoStore)
 		}
 	}
-	db, err := sql.Open("sqlite", DSN(path, opt.ReadOnly))
+	db, err := sqlfuncs.OpenDB(DSN(path, opt.ReadOnly))
 	if err != nil {
 		return nil, fmt.Errorf("open %s: %w", path, err)
 	}

@@ -1,0 +1,353 @@
+package sqlfuncs
+
+// Lag statistics of a time series: sample autocovariance and autocorrelation
+// by lag, the correlogram, and the Ljung–Box / Box–Pierce tests.
+//
+//	sample_acvf(t, y, lag [, options])          aggregate/window → REAL γ̂(lag)
+//	sample_acf(t, y, lag [, options])           aggregate/window → REAL ρ̂(lag)
+//	correlogram(t, y, max_lag [, options])      aggregate/window → JSON (below)
+//	ljung_box(t, y, lags [, fitdf [, options]]) aggregate/window → JSON {q, df, p, n, ...}
+//	box_pierce(t, y, lags [, fitdf [, options]]) aggregate/window → JSON {q, df, p, n, ...}
+//	ljung_box_p(t, y, lags [, fitdf [, options]]) aggregate/window → REAL p
+//	box_pierce_p(t, y, lags [, fitdf [, options]]) aggregate/window → REAL p
+//
+// Rows may come in any order; each group is sorted by t. NULL values are
+// skipped (missing observations); two rows with the same t are an error.
+//
+// The grid. Lag h means h sampling steps apart. The step is the option
+// "step=<duration>" (s, min, h, d, w, y; 1y = 365.25 d), or else it is
+// inferred as the most common spacing between consecutive readings
+// (spacings of 28–31 d count as one month = 1y/12, 89–92 d as one quarter =
+// 1y/4, 365–366 d as one year; ties go to the smaller spacing). Each
+// reading sits in slot round((t − t_first)/step); a reading half a step or
+// more from its slot, or two readings in one slot, is an error that names
+// the times and suggests a step. Slots without a reading are missing values.
+//
+// Formulas (n = readings present, N = grid slots, ȳ = mean of the present
+// values; S(h) = Σ (y_i − ȳ)(y_{i+h} − ȳ) over the m(h) pairs of slots h
+// apart with both readings present):
+//
+//	γ̂(h) = S(h) / (m(h) + h)
+//
+// Without missing slots m(h) + h = n for every lag: the usual divisor n,
+// not n − h (common practice; Brockwell & Davis, Introduction to Time Series
+// and Forecasting, 2nd ed., 2002, §1.4). With missing slots this is exactly
+// R's acf(x, type = "covariance", na.action = na.pass) (R 4.2.2); it is not
+// statsmodels' acovf(missing = "conservative"), which divides by n.
+//
+//	ρ̂(h) = γ̂(h) / γ̂(0), clamped to [−1, 1] as R does; NULL when γ̂(0) = 0.
+//	α̂(h) (PACF) = φ_hh of the Durbin–Levinson recursion on ρ̂ (Durbin 1960).
+//	Ljung–Box   Q = n(n+2) Σ_{k=1}^{h} ρ̂(k)²/(n−k)  (Ljung & Box 1978)
+//	Box–Pierce  Q = n Σ_{k=1}^{h} ρ̂(k)²            (Box & Pierce 1970)
+//	p = P(χ²_{h−fitdf} > Q); NULL when h − fitdf ≤ 0.
+//
+// n in Q and in the band 1.96/√n is the number of PRESENT readings, as in
+// R's Box.test. NULL results: no readings, lag ≥ N, a lag with no complete
+// pair, a constant series (for ρ̂, α̂ and Q), and for the tests lags ≥ n.
+//
+// correlogram JSON keys:
+//
+//	n              readings present
+//	n_slots        grid slots N (first to last reading)
+//	missing_slots  N − n
+//	step_s, step   the grid step in seconds and as text (e.g. "1d", "30.4375d");
+//	               null when there is a single reading and no step option
+//	step_inferred  true when the step was inferred, false when given
+//	t_first        time of the first reading (slot 0), ISO 8601 UTC
+//	mean           ȳ
+//	acvf0          γ̂(0)
+//	fitdf          degrees of freedom subtracted for the Ljung–Box p-values
+//	band           1.96/√n
+//	lags           one object per lag 1..max_lag:
+//	    lag, pairs (m(h)), acvf, acf, pacf, band,
+//	    q_lb (cumulative Ljung–Box Q over lags 1..lag), df_lb, p_lb
+//	    — null where undefined (including lags ≥ N).
+//
+// Examples (demo store):
+//
+//	SELECT series_id, sample_acf(t, value, 1) FROM readings GROUP BY series_id;
+//	SELECT series_id, correlogram(t, value, 24, 'step=1d') AS c FROM readings GROUP BY series_id;
+//	SELECT series_id, ljung_box(t, value, 10)->>'p' FROM readings GROUP BY series_id;
+
+import (
+	"database/sql/driver"
+	"encoding/json"
+	"fmt"
+	"math"
+	"strconv"
+
+	"trendsql/sqlfuncs/stats"
+	"trendsql/sqlfuncs/timefmt"
+)
+
+// maxLagArg bounds lag arguments.
+const maxLagArg = 1 << 20
+
+// acfNum is a float rendered as a JSON number, or null when NaN/Inf.
+type acfNum float64
+
+func (v acfNum) MarshalJSON() ([]byte, error) {
+	f := float64(v)
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return []byte("null"), nil
+	}
+	return strconv.AppendFloat(nil, f, 'g', -1, 64), nil
+}
+
+// lagOptions are the parsed trailing arguments of a lag function.
+type lagOptions struct {
+	step  float64 // 0 = infer
+	fitdf int
+}
+
+// parseLagOptions reads "step=<duration>" (and "fitdf=<k>" when allowFitdf).
+func parseLagOptions(fn string, v driver.Value, allowFitdf bool) (lagOptions, error) {
+	var o lagOptions
+	text, err := argText(fn, "options", v)
+	if err != nil {
+		return o, err
+	}
+	keys := []string{"step"}
+	if allowFitdf {
+		keys = append(keys, "fitdf")
+	}
+	m, err := parseSpec(fn, text, keys...)
+	if err != nil {
+		return o, err
+	}
+	if s, ok := m["step"]; ok {
+		d, err := timefmt.ParseDuration(s)
+		if err != nil {
+			return o, fmt.Errorf("%s: option step: %v", fn, err)
+		}
+		o.step = d
+	}
+	if s, ok := m["fitdf"]; ok {
+		k, err := strconv.Atoi(s)
+		if err != nil || k < 0 {
+			return o, fmt.Errorf("%s: option fitdf=%q must be a whole number ≥ 0", fn, s)
+		}
+		o.fitdf = k
+	}
+	return o, nil
+}
+
+// gridded places one group's rows on the grid.
+func gridded(fn string, r Rows, step float64) (stats.Grid, []float64, error) {
+	g, x, err := stats.Regularize(r.T, r.Y, step)
+	if err != nil {
+		return g, nil, fmt.Errorf("%s: %v", fn, err)
+	}
+	return g, x, nil
+}
+
+func nullIfNaN(v float64) driver.Value {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return v
+}
+
+// lagValue is the shared compute of sample_acvf and sample_acf.
+func lagValue(fn string, acf bool) func(r Rows, opts []driver.Value) (driver.Value, error) {
+	return func(r Rows, opts []driver.Value) (driver.Value, error) {
+		lag, err := argInt(fn, "lag", opts[0], 0, maxLagArg)
+		if err != nil {
+			return nil, err
+		}
+		var o lagOptions
+		if len(opts) > 1 {
+			if o, err = parseLagOptions(fn, opts[1], false); err != nil {
+				return nil, err
+			}
+		}
+		if r.Len() == 0 {
+			return nil, nil
+		}
+		_, x, err := gridded(fn, r, o.step)
+		if err != nil {
+			return nil, err
+		}
+		if int(lag) >= len(x) {
+			return nil, nil
+		}
+		g0, gh, _ := stats.ACVFAtLag(x, int(lag))
+		if !acf {
+			return nullIfNaN(gh), nil
+		}
+		return nullIfNaN(stats.ACF([]float64{g0, gh})[1]), nil
+	}
+}
+
+type correlogramLagJSON struct {
+	Lag   int    `json:"lag"`
+	Pairs int    `json:"pairs"`
+	ACVF  acfNum `json:"acvf"`
+	ACF   acfNum `json:"acf"`
+	PACF  acfNum `json:"pacf"`
+	Band  acfNum `json:"band"`
+	QLB   acfNum `json:"q_lb"`
+	DFLB  int    `json:"df_lb"`
+	PLB   acfNum `json:"p_lb"`
+}
+
+type correlogramJSON struct {
+	N            int                  `json:"n"`
+	NSlots       int                  `json:"n_slots"`
+	MissingSlots int                  `json:"missing_slots"`
+	StepS        *acfNum              `json:"step_s"`
+	Step         *string              `json:"step"`
+	StepInferred bool                 `json:"step_inferred"`
+	TFirst       string               `json:"t_first"`
+	Mean         acfNum               `json:"mean"`
+	ACVF0        acfNum               `json:"acvf0"`
+	Fitdf        int                  `json:"fitdf"`
+	Band         acfNum               `json:"band"`
+	Lags         []correlogramLagJSON `json:"lags"`
+}
+
+func formatTime(t float64) string {
+	if t == math.Trunc(t) {
+		return timefmt.FormatUTC(int64(t))
+	}
+	return timefmt.FormatUTC(int64(math.Floor(t))) + fmt.Sprintf(" (+%.3fs)", t-math.Floor(t))
+}
+
+func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
+	const fn = "correlogram"
+	maxLag, err := argInt(fn, "max_lag", opts[0], 0, maxLagArg)
+	if err != nil {
+		return nil, err
+	}
+	var o lagOptions
+	if len(opts) > 1 {
+		if o, err = parseLagOptions(fn, opts[1], true); err != nil {
+			return nil, err
+		}
+	}
+	if r.Len() == 0 {
+		return nil, nil
+	}
+	g, x, err := gridded(fn, r, o.step)
+	if err != nil {
+		return nil, err
+	}
+	c := stats.ComputeCorrelogram(x, int(maxLag), o.fitdf)
+	out := correlogramJSON{
+		N: c.N, NSlots: c.NSlots, MissingSlots: c.Missing,
+		StepInferred: o.step == 0,
+		TFirst:       formatTime(r.T[0]),
+		Mean:         acfNum(c.Mean), ACVF0: acfNum(c.ACVF0), Fitdf: o.fitdf,
+		Band: acfNum(1.96 / math.Sqrt(float64(c.N))),
+		Lags: make([]correlogramLagJSON, 0, maxLag),
+	}
+	if g.Step > 0 {
+		s := acfNum(g.Step)
+		txt := stats.FormatStep(g.Step)
+		out.StepS, out.Step = &s, &txt
+	}
+	for h := 1; h <= int(maxLag); h++ {
+		row := correlogramLagJSON{Lag: h, DFLB: h - o.fitdf, ACVF: acfNum(math.NaN()), ACF: acfNum(math.NaN()), PACF: acfNum(math.NaN()), Band: out.Band, QLB: acfNum(math.NaN()), PLB: acfNum(math.NaN())}
+		if h <= len(c.Lags) {
+			l := c.Lags[h-1]
+			row.Pairs, row.ACVF, row.ACF, row.PACF, row.QLB, row.PLB = l.Pairs, acfNum(l.ACVF), acfNum(l.ACF), acfNum(l.PACF), acfNum(l.LBQ), acfNum(l.LBP)
+		}
+		out.Lags = append(out.Lags, row)
+	}
+	b, err := json.Marshal(out)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %v", fn, err)
+	}
+	return string(b), nil
+}
+
+type portmanteauJSON struct {
+	Q            acfNum `json:"q"`
+	DF           int    `json:"df"`
+	P            acfNum `json:"p"`
+	N            int    `json:"n"`
+	Lags         int    `json:"lags"`
+	Fitdf        int    `json:"fitdf"`
+	NSlots       int    `json:"n_slots"`
+	MissingSlots int    `json:"missing_slots"`
+	Step         string `json:"step"`
+}
+
+// portmanteauValue computes Ljung–Box or Box–Pierce; scalarP selects the
+// REAL p-value shortcut instead of JSON.
+func portmanteauValue(fn string, boxPierce, scalarP bool) func(r Rows, opts []driver.Value) (driver.Value, error) {
+	return func(r Rows, opts []driver.Value) (driver.Value, error) {
+		lags, err := argInt(fn, "lags", opts[0], 1, maxLagArg)
+		if err != nil {
+			return nil, err
+		}
+		var fitdf int64
+		if len(opts) > 1 && opts[1] != nil {
+			if fitdf, err = argInt(fn, "fitdf", opts[1], 0, maxLagArg); err != nil {
+				return nil, err
+			}
+		}
+		var o lagOptions
+		if len(opts) > 2 {
+			if o, err = parseLagOptions(fn, opts[2], false); err != nil {
+				return nil, err
+			}
+		}
+		if r.Len() < 2 {
+			return nil, nil
+		}
+		g, x, err := gridded(fn, r, o.step)
+		if err != nil {
+			return nil, err
+		}
+		res, ok := stats.SeriesPortmanteau(x, int(lags), int(fitdf), boxPierce)
+		if !ok {
+			return nil, nil
+		}
+		if scalarP {
+			return nullIfNaN(res.P), nil
+		}
+		b, err := json.Marshal(portmanteauJSON{Q: acfNum(res.Q), DF: res.DF, P: acfNum(res.P), N: res.N, Lags: int(lags), Fitdf: int(fitdf),
+			NSlots: g.NSlots, MissingSlots: g.Missing, Step: stats.FormatStep(g.Step)})
+		if err != nil {
+			return nil, fmt.Errorf("%s: %v", fn, err)
+		}
+		return string(b), nil
+	}
+}
+
+func init() {
+	defineSeries(seriesSpec{
+		doc: Doc{Name: "sample_acvf", Signature: "sample_acvf(t, y, lag [, 'step=<duration>'])", Kind: Aggregate,
+			Summary: "sample autocovariance γ̂(lag) = S(lag)/(m(lag)+lag) on the regular grid (divisor n without gaps; R acf na.pass convention with missing slots); NULL if lag ≥ slots"},
+		argNames: []string{"t", "y", "lag", "options"}, values: 1, minOptions: 1, maxOptions: 2,
+		compute: lagValue("sample_acvf", false),
+	})
+	defineSeries(seriesSpec{
+		doc: Doc{Name: "sample_acf", Signature: "sample_acf(t, y, lag [, 'step=<duration>'])", Kind: Aggregate,
+			Summary: "sample autocorrelation ρ̂(lag) = γ̂(lag)/γ̂(0) on the regular grid; NULL for a constant series or lag ≥ slots"},
+		argNames: []string{"t", "y", "lag", "options"}, values: 1, minOptions: 1, maxOptions: 2,
+		compute: lagValue("sample_acf", true),
+	})
+	defineSeries(seriesSpec{
+		doc: Doc{Name: "correlogram", Signature: "correlogram(t, y, max_lag [, 'step=<duration>, fitdf=<k>'])", Kind: Aggregate,
+			Summary: "JSON correlogram: n, grid step, missing slots, mean, γ̂(0), and per lag acvf, acf, pacf (Durbin–Levinson), ±1.96/√n band, cumulative Ljung–Box Q and p"},
+		argNames: []string{"t", "y", "max_lag", "options"}, values: 1, minOptions: 1, maxOptions: 2,
+		compute: correlogramValue,
+	})
+	for _, d := range []struct {
+		name, summary string
+		bp, p         bool
+	}{
+		{"ljung_box", "JSON {q, df, p, n}: Ljung–Box Q = n(n+2)Σρ̂(k)²/(n−k) over lags 1..lags, p from χ²(lags − fitdf)", false, false},
+		{"box_pierce", "JSON {q, df, p, n}: Box–Pierce Q = nΣρ̂(k)² over lags 1..lags, p from χ²(lags − fitdf)", true, false},
+		{"ljung_box_p", "Ljung–Box p-value (REAL); NULL when undefined or lags ≤ fitdf", false, true},
+		{"box_pierce_p", "Box–Pierce p-value (REAL); NULL when undefined or lags ≤ fitdf", true, true},
+	} {
+		defineSeries(seriesSpec{
+			doc:      Doc{Name: d.name, Signature: d.name + "(t, y, lags [, fitdf [, 'step=<duration>']])", Kind: Aggregate, Summary: d.summary},
+			argNames: []string{"t", "y", "lags", "fitdf", "options"}, values: 1, minOptions: 1, maxOptions: 3,
+			compute: portmanteauValue(d.name, d.bp, d.p),
+		})
+	}
+}
