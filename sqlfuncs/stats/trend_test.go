@@ -490,3 +490,40 @@ func TestFitTrendAgainstR(t *testing.T) {
 		}
 	}
 }
+
+// TestFitTrendHighPrecision checks the QR solver on badly scaled designs
+// (degree 6 over 3.65 days and over 100 years; degree 4 with 3 harmonics)
+// against the least-squares solution of the same float64 design solved in
+// 80-digit arithmetic (mpmath 1.2.1, see trend_ref.py "highprec"). The
+// tolerance, 1e-9 relative, is far below what the normal equations in
+// float64 could give on these designs.
+func TestFitTrendHighPrecision(t *testing.T) {
+	b, err := os.ReadFile(trendRefPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Highprec []struct {
+			Name  string
+			Input trendRefInput
+			Coef  []float64
+		}
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	if len(ref.Highprec) == 0 {
+		t.Fatal("no highprec cases in the reference file")
+	}
+	for _, c := range ref.Highprec {
+		m, err := FitTrend(c.Input.T, c.Input.Y, trendSpecOf(c.Input))
+		if err != nil || m == nil {
+			t.Fatalf("%s: %v", c.Name, err)
+		}
+		for j := range c.Coef {
+			if !trendNear(m.Coef[j], c.Coef[j], 1e-9, 0) {
+				t.Errorf("%s: %s = %.17g, 80-digit solution %.17g", c.Name, m.Terms[j], m.Coef[j], c.Coef[j])
+			}
+		}
+	}
+}

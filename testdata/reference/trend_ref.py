@@ -31,6 +31,12 @@ n_eff and n_eff_p are evaluated from those numbers with scipy.stats.t.sf
 (n_eff = n(1-r1)/(1+r1), r1 <= 0 -> n; se * sqrt((n-p)/(n_eff-p)), t with
 n_eff-p df).
 
+"highprec" cases check the solver itself on badly scaled designs (degree 6
+over 3.65 days and over 100 years, where statsmodels' pinv-based OLS loses
+digits): the least-squares coefficients for the float64 design above are
+solved in 80-digit arithmetic with mpmath (Debian python3-mpmath 1.2.1):
+mpmath.lu_solve(A.T*A, A.T*b) with mp.dps = 80, then rounded to float64.
+
 regr_* cases are exact: Python's fractions.Fraction evaluates the sums of
 centred products of the float64 inputs in rational arithmetic, rounded to
 float64 only at the end (square roots taken in float64 of the exact ratio).
@@ -201,12 +207,29 @@ def reference():
                  y=[float(v) for v in yv], degree=d, period_s=YEAR if K else 0, harmonics=K, hac_lags=L,
                  t_eval=[float(t[0] - 1e7), float(t[n // 2]), float(t[-1] + 3e7)])
         cases.append(c)
+    highprec = []
+    import mpmath
+    mpmath.mp.dps = 80
+    for span, deg, K in ((0.01, 6, 0), (100.0, 6, 0), (3.0, 4, 3)):
+        n = 1200
+        t = np.array([1.7e9 + i * span * YEAR / n for i in range(n)])
+        yv = np.array([math.sin(i / 100) + (i % 7) * 0.1 for i in range(n)])
+        P = YEAR if K else 0.0
+        X = design(t, t_center(t), deg, P, K)
+        A = mpmath.matrix(X.tolist())
+        b = mpmath.matrix(yv.tolist())
+        coef = mpmath.lu_solve(A.T * A, A.T * b)
+        highprec.append({"name": "degree %d over %g years, %d harmonics" % (deg, span, K),
+                         "input": {"t": [float(v) for v in t], "y": [float(v) for v in yv], "degree": deg,
+                                   "period_s": P, "harmonics": K, "hac_lags": -1},
+                         "coef": [float(v) for v in coef]})
     out = {
         "generator": "testdata/reference/trend_ref.py",
         "versions": {"python": sys.version.split()[0], "numpy": np.__version__, "scipy": scipy.__version__,
-                     "statsmodels": statsmodels.__version__},
+                     "statsmodels": statsmodels.__version__, "mpmath": mpmath.__version__},
         "trend": [],
         "regr": [],
+        "highprec": highprec,
     }
     for c in cases:
         r = fit_case(c)
