@@ -15,6 +15,7 @@ import (
 	"strings"
 	"sync"
 	"testing"
+	"time"
 
 	"trendsql/store"
 )
@@ -388,4 +389,37 @@ SELECT group_concat(id || '=' || name, ' ') AS s FROM (SELECT * FROM stations OR
 		t.Errorf("output %q, want the trigger to have run on B only", out)
 	}
 	checkIntegrity(t, db)
+}
+
+// TestShellInteractiveOnTerminal drives the line-editing shell through a
+// pseudo-terminal made by util-linux script(1); skipped when script is absent.
+func TestShellInteractiveOnTerminal(t *testing.T) {
+	scriptBin, err := exec.LookPath("script")
+	if err != nil {
+		t.Skip("script(1) not installed: cannot make a pseudo-terminal")
+	}
+	db := demoStore(t)
+	cache := t.TempDir()
+	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute) // guards against a hang only
+	defer cancel()
+	cmd := exec.CommandContext(ctx, scriptBin, "-qfec", binPath+" shell --db "+db, "/dev/null")
+	cmd.Env = append(os.Environ(), "XDG_CACHE_HOME="+cache, "HOME="+cache, "TERM=dumb")
+	cmd.Stdin = strings.NewReader("SELECT 6 * 7 AS answer,\r 1 AS one;\r:format csv\rSELECT 'x' AS two;\r:quit\r")
+	raw, err := cmd.Output()
+	if err != nil {
+		t.Fatalf("interactive shell: %v\n%s", err, raw)
+	}
+	out := strings.ReplaceAll(string(raw), "\r", "")
+	for _, want := range []string{"read-only", "›", "┆", "42", "two\nx\n"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("terminal session lacks %q:\n%q", want, out)
+		}
+	}
+	hist, err := os.ReadFile(filepath.Join(cache, "trendsql", "history"))
+	if err != nil {
+		t.Fatalf("history file: %v", err)
+	}
+	if !strings.Contains(string(hist), "SELECT 'x' AS two;") {
+		t.Errorf("history lacks the last statement:\n%s", hist)
+	}
 }
