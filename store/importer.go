@@ -280,7 +280,7 @@ func (b *batch) progress(ctx context.Context) error {
 		b.prog(Progress{Rows: b.res.RowsRead, Bytes: b.in.bytes, TotalBytes: b.in.size})
 	}
 	if err := ctx.Err(); err != nil {
-		return fmt.Errorf("import %s: stopped at line %d, nothing was imported: %w", b.in.name, b.res.RowsRead, err)
+		return fmt.Errorf("import %s: stopped after %d rows, nothing was imported: %w", b.in.name, b.res.RowsRead, err)
 	}
 	return nil
 }
@@ -905,7 +905,7 @@ func (im *readingsImporter) resolve(ctx context.Context) error {
 		if p.dupLine != 0 {
 			if mode == DupError {
 				return &dupError{InputError{File: im.in.name, Line: p.line, Msg: fmt.Sprintf(
-					"duplicate reading: station %q variable %q at %s also appears on line %d; nothing was imported (to keep the first or the last of such rows, choose keep-first or replace for duplicates)",
+					"duplicate reading: station %q variable %q at %s also appears on line %d; nothing was imported",
 					ss.station, ss.variable, timefmt.FormatUTC(p.t), p.dupLine)}}
 			}
 			dup = true
@@ -917,7 +917,7 @@ func (im *readingsImporter) resolve(ctx context.Context) error {
 						same = "the same value"
 					}
 					return &dupError{InputError{File: im.in.name, Line: p.line, Msg: fmt.Sprintf(
-						"duplicate reading: station %q variable %q at %s is already stored (with %s: %s); nothing was imported (to keep the stored or the new readings, choose keep-first or replace for duplicates)",
+						"duplicate reading: station %q variable %q at %s is already stored (with %s: %s); nothing was imported",
 						ss.station, ss.variable, timefmt.FormatUTC(p.t), same, strconv.FormatFloat(sv.v, 'g', -1, 64))}}
 				}
 				dup = true

@@ -8,6 +8,7 @@ package store
 //	int(datetime.fromisoformat("2021-03-28 06:00").replace(tzinfo=ZoneInfo("Europe/Berlin")).timestamp())
 
 import (
+	"bufio"
 	"context"
 	"crypto/sha256"
 	"database/sql"
@@ -697,7 +698,7 @@ func bigReadings(t testing.TB, n int) string {
 	if err != nil {
 		t.Fatal(err)
 	}
-	w := io.Writer(f)
+	w := bufio.NewWriter(f)
 	fmt.Fprintln(w, "station,time,value,qualifier")
 	t0 := time.Date(2010, 1, 1, 0, 0, 0, 0, time.UTC).Unix()
 	per := n / 10
@@ -712,6 +713,9 @@ func bigReadings(t testing.TB, n int) string {
 			buf = append(buf, '\n')
 			w.Write(buf)
 		}
+	}
+	if err := w.Flush(); err != nil {
+		t.Fatal(err)
 	}
 	if err := f.Close(); err != nil {
 		t.Fatal(err)

@@ -1,0 +1,298 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+	_ "time/tzdata" // --tz works without a system zoneinfo
+
+	"github.com/schollz/progressbar/v3"
+	"github.com/spf13/cobra"
+	"golang.org/x/term"
+
+	"trendsql/store"
+)
+
+func init() { extraCommands = append(extraCommands, newImportCmd) }
+
+// importBarDelay is how long an import runs before a progress bar appears.
+const importBarDelay = 2 * time.Second
+
+type importFlags struct {
+	delimiter    string
+	decimalComma bool
+	// readings only
+	stationCol, timeCol, valueCol, qualifierCol string
+	variable, variableCol, unit                 string
+	tz, onDuplicate                             string
+}
+
+func newImportCmd(e *env) *cobra.Command {
+	c := &cobra.Command{
+		Use:   "import",
+		Short: "Load stations or readings from CSV files into the store",
+		Long: `Load a CSV file of stations or of readings into the store. Each file is read
+in one transaction: it is recorded as a batch in import_batches with its
+counts, every rejected row goes to import_rejects with its line number, text
+and reason, and on a failure nothing changes.`,
+	}
+	c.AddCommand(newImportStationsCmd(e), newImportReadingsCmd(e))
+	return c
+}
+
+func newImportStationsCmd(e *env) *cobra.Command {
+	f := &importFlags{}
+	c := &cobra.Command{
+		Use:   "stations FILE.csv",
+		Short: "Add or update stations from a CSV file",
+		Long: `Add or update stations. The header names the columns: id (or station_id or
+station), name, latitude, longitude, elevation_m, and optionally metadata
+(a JSON object). Every other column becomes a key of the station's metadata
+JSON with the cell text as its value, kept as text exactly as written.
+
+A station already stored is merged: given cells overwrite, empty cells keep
+the stored value, metadata keys are merged key by key. Rows with a bad
+latitude (outside -90..90), longitude (outside -180..180) or elevation are
+rejected with the reason.`,
+		Example: `  trendsql import stations sites.csv
+  trendsql import stations --delimiter ';' --decimal-comma sites.csv`,
+		Args: exactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			delim, err := parseDelimiter(f.delimiter)
+			if err != nil {
+				return err
+			}
+			if err := checkImportFile(args[0]); err != nil {
+				return err
+			}
+			s, err := e.open(cmd.Context(), false)
+			if err != nil {
+				return err
+			}
+			defer s.Close()
+			bar := newImportBar(e.errw, args[0])
+			res, err := s.ImportStations(cmd.Context(), args[0], store.StationsOptions{
+				Delimiter: delim, DecimalComma: f.decimalComma, Progress: bar.update})
+			bar.done()
+			if err != nil {
+				return err
+			}
+			fmt.Fprintln(e.errw, stationsSummary(res))
+			return nil
+		},
+	}
+	addCSVFlags(c, f)
+	return c
+}
+
+func newImportReadingsCmd(e *env) *cobra.Command {
+	f := &importFlags{}
+	c := &cobra.Command{
+		Use:   "readings FILE.csv",
+		Short: "Add readings from a CSV file",
+		Long: `Add readings. Columns are found by header name (case-insensitive): station,
+time, value, optional qualifier, and the variable either from a column or fixed
+with --variable. Stations not yet stored are created with their id only;
+series (station, variable) are created with --unit. A unit different from a
+series' stored unit rejects that series' rows.
+
+Times: ISO 8601 with or without an offset, YYYY-MM-DD, YYYY-MM-DD HH:MM[:SS]
+or unix seconds. Zone-less times are local times in --tz (an IANA zone such as
+Europe/Berlin; default UTC); a local time skipped or repeated by a
+daylight-saving change is rejected (give an offset to say which is meant).
+
+Values must be decimal numbers; empty, NA, NaN, infinite and other text are
+rejected row by row with the reason. A (station, variable, time) already
+stored or repeated in the file is a duplicate: --on-duplicate error (default)
+stops the import and changes nothing; keep-first keeps the earlier reading;
+replace overwrites it.`,
+		Example: `  trendsql import readings --variable stage --unit m gauges.csv
+  trendsql import readings --variable-col param --tz Europe/Berlin --delimiter ';' --decimal-comma export.csv
+  trendsql import readings --variable level --on-duplicate keep-first logger-2024.csv`,
+		Args: exactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opt, err := f.readingsOptions()
+			if err != nil {
+				return err
+			}
+			if err := checkImportFile(args[0]); err != nil {
+				return err
+			}
+			s, err := e.open(cmd.Context(), false)
+			if err != nil {
+				return err
+			}
+			defer s.Close()
+			bar := newImportBar(e.errw, args[0])
+			opt.Progress = bar.update
+			res, err := s.ImportReadings(cmd.Context(), args[0], opt)
+			bar.done()
+			if errors.Is(err, store.ErrDuplicate) {
+				return fmt.Errorf("%w (--on-duplicate keep-first keeps the earlier reading, replace overwrites it)", err)
+			}
+			if err != nil {
+				return err
+			}
+			fmt.Fprintln(e.errw, readingsSummary(res))
+			return nil
+		},
+	}
+	addCSVFlags(c, f)
+	fl := c.Flags()
+	fl.StringVar(&f.stationCol, "station-col", "", `column with the station id (default "station")`)
+	fl.StringVar(&f.timeCol, "time-col", "", `column with the time (default "time")`)
+	fl.StringVar(&f.valueCol, "value-col", "", `column with the value (default "value")`)
+	fl.StringVar(&f.qualifierCol, "qualifier-col", "", `column with the qualifier flag, kept verbatim (default "qualifier" if present)`)
+	fl.StringVar(&f.variable, "variable", "", "variable name for every row of the file, e.g. stage")
+	fl.StringVar(&f.variableCol, "variable-col", "", `column with the variable name (default "variable" if present and --variable is not given)`)
+	fl.StringVar(&f.unit, "unit", "", "unit of the readings, e.g. m or mg/L")
+	fl.StringVar(&f.tz, "tz", "UTC", "IANA time zone of zone-less times, e.g. Europe/Berlin")
+	fl.StringVar(&f.onDuplicate, "on-duplicate", string(store.DupError), "what a repeated (station, variable, time) does: error, keep-first or replace")
+	return c
+}
+
+func addCSVFlags(c *cobra.Command, f *importFlags) {
+	c.Flags().StringVar(&f.delimiter, "delimiter", ",", `field separator: one character, or "tab"`)
+	c.Flags().BoolVar(&f.decimalComma, "decimal-comma", false, "numbers use a decimal comma (12,5); a point is then refused")
+}
+
+// readingsOptions checks the flags and turns them into store options.
+func (f *importFlags) readingsOptions() (store.ReadingsOptions, error) {
+	var opt store.ReadingsOptions
+	delim, err := parseDelimiter(f.delimiter)
+	if err != nil {
+		return opt, err
+	}
+	dup, err := store.ParseOnDuplicate(f.onDuplicate)
+	if err != nil {
+		return opt, usageErr("import readings: --%s", err)
+	}
+	if f.variable != "" && f.variableCol != "" {
+		return opt, usageErr("import readings: give --variable or --variable-col, not both")
+	}
+	if _, err := time.LoadLocation(f.tz); err != nil || f.tz == "" || strings.EqualFold(f.tz, "local") {
+		return opt, usageErr("import readings: --tz %q is not an IANA time zone name (such as UTC, Europe/Berlin, America/New_York)", f.tz)
+	}
+	return store.ReadingsOptions{
+		StationCol: f.stationCol, TimeCol: f.timeCol, ValueCol: f.valueCol, QualifierCol: f.qualifierCol,
+		Variable: f.variable, VariableCol: f.variableCol, Unit: f.unit, TZ: f.tz,
+		DecimalComma: f.decimalComma, Delimiter: delim, OnDuplicate: dup,
+	}, nil
+}
+
+// parseDelimiter accepts one ASCII character or "tab" / `\t`.
+func parseDelimiter(s string) (byte, error) {
+	switch s {
+	case "tab", `\t`, "\t":
+		return '\t', nil
+	}
+	if len(s) != 1 || s[0] == '"' || s[0] == '\n' || s[0] == '\r' || s[0] >= 0x80 {
+		return 0, usageErr("import: --delimiter must be one ASCII character other than a quote or line end, or \"tab\"; got %q", s)
+	}
+	return s[0], nil
+}
+
+// checkImportFile fails early, before a store is created, when the file
+// cannot be read.
+func checkImportFile(path string) error {
+	st, err := os.Stat(path)
+	if err != nil {
+		if errors.Is(err, os.ErrNotExist) {
+			return fmt.Errorf("import: %s: no such file", path)
+		}
+		return fmt.Errorf("import: %w", err)
+	}
+	if st.IsDir() {
+		return fmt.Errorf("import: %s is a directory, not a file", path)
+	}
+	return nil
+}
+
+// importBar draws a progress bar on a terminal once an import has run for
+// importBarDelay; elsewhere it does nothing.
+type importBar struct {
+	w     io.Writer
+	tty   bool
+	name  string
+	start time.Time
+	bar   *progressbar.ProgressBar
+}
+
+func newImportBar(w io.Writer, path string) *importBar {
+	f, ok := w.(*os.File)
+	return &importBar{w: w, tty: ok && term.IsTerminal(int(f.Fd())), name: filepath.Base(path), start: time.Now()}
+}
+
+func (b *importBar) update(p store.Progress) {
+	if !b.tty || p.TotalBytes <= 0 {
+		return
+	}
+	if b.bar == nil {
+		if time.Since(b.start) < importBarDelay {
+			return
+		}
+		b.bar = progressbar.NewOptions64(p.TotalBytes,
+			progressbar.OptionSetWriter(b.w),
+			progressbar.OptionSetDescription(b.name),
+			progressbar.OptionShowBytes(true),
+			progressbar.OptionSetWidth(30),
+			progressbar.OptionThrottle(200*time.Millisecond),
+			progressbar.OptionSetPredictTime(true),
+			progressbar.OptionClearOnFinish(),
+		)
+	}
+	b.bar.Set64(p.Bytes)
+}
+
+// done removes the bar so the summary or error starts on a clean line.
+func (b *importBar) done() {
+	if b.bar != nil {
+		b.bar.Finish()
+		b.bar.Clear()
+		b.bar = nil
+	}
+}
+
+func importCount(n int64, one, many string) string {
+	if n == 1 {
+		return fmt.Sprintf("%d %s", n, one)
+	}
+	return fmt.Sprintf("%d %s", n, many)
+}
+
+func rejectNote(r *store.ImportResult) string {
+	if r.RowsRejected == 0 {
+		return "0 rejected"
+	}
+	return fmt.Sprintf("%d rejected (reasons in import_rejects, batch_id %d)", r.RowsRejected, r.BatchID)
+}
+
+// readingsSummary is the one-line account of a readings import.
+func readingsSummary(r *store.ImportResult) string {
+	s := fmt.Sprintf("%s → batch %d: %s read, %d stored, %s, %s",
+		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, rejectNote(r), importCount(r.RowsDuplicate, "duplicate", "duplicates"))
+	if r.RowsReplaced > 0 {
+		s += fmt.Sprintf(" (%d replaced)", r.RowsReplaced)
+	}
+	var created []string
+	if r.StationsCreated > 0 {
+		created = append(created, importCount(r.StationsCreated, "station", "stations")+" (id only)")
+	}
+	if r.SeriesCreated > 0 {
+		created = append(created, importCount(r.SeriesCreated, "series", "series"))
+	}
+	if len(created) > 0 {
+		s += "; created " + strings.Join(created, " and ")
+	}
+	return s
+}
+
+// stationsSummary is the one-line account of a stations import.
+func stationsSummary(r *store.ImportResult) string {
+	return fmt.Sprintf("%s → batch %d: %s read, %d new, %d already stored (%d of them updated), %s",
+		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, r.RowsDuplicate, r.RowsReplaced, rejectNote(r))
+}

@@ -1,0 +1,167 @@
+package main
+
+// In-process tests of the import command's flags, exit codes and messages
+// (the store-level behaviour is tested in store/importer_test.go; fixtures
+// are the invented files under testdata/import).
+
+import (
+	"bytes"
+	"context"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"trendsql/store"
+)
+
+func importFixture(name string) string {
+	return filepath.Join("..", "..", "testdata", "import", name)
+}
+
+func runImport(t *testing.T, args ...string) (stdout, stderr string, code int) {
+	t.Helper()
+	var out, errw bytes.Buffer
+	code = Main(args, strings.NewReader(""), &out, &errw)
+	return out.String(), errw.String(), code
+}
+
+func importStoreCheck(t *testing.T, db string) *store.Store {
+	t.Helper()
+	s, err := store.Open(context.Background(), db, store.Options{ReadOnly: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { s.Close() })
+	if err := s.IntegrityCheck(context.Background()); err != nil {
+		t.Fatal(err)
+	}
+	return s
+}
+
+func TestImportCmdStationsAndReadings(t *testing.T) {
+	db := filepath.Join(t.TempDir(), "r.db")
+	out, errs, code := runImport(t, "--db", db, "import", "stations", importFixture("stations.csv"))
+	if code != 0 || out != "" {
+		t.Fatalf("stations: code %d, stdout %q, stderr %q", code, out, errs)
+	}
+	if want := "stations.csv → batch 1: 3 rows read, 3 new, 0 already stored (0 of them updated), 0 rejected\n"; !strings.HasSuffix(errs, want) {
+		t.Errorf("stations summary = %q, want %q", errs, want)
+	}
+	out, errs, code = runImport(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
+		"--tz", "Europe/Berlin", importFixture("readings_rejects.csv"))
+	if code != 0 || out != "" {
+		t.Fatalf("readings: code %d, stdout %q, stderr %q", code, out, errs)
+	}
+	if want := "readings_rejects.csv → batch 2: 22 rows read, 4 stored, 18 rejected (reasons in import_rejects, batch_id 2), 0 duplicates; created 1 station (id only) and 1 series\n"; !strings.HasSuffix(errs, want) {
+		t.Errorf("readings summary = %q, want %q", errs, want)
+	}
+	if strings.Count(errs, "\n") != 1 {
+		t.Errorf("summary is not one line: %q", errs)
+	}
+
+	// The same file again fails with a one-line message naming file, line
+	// and time, exit code 1, and changes nothing.
+	_, errs, code = runImport(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
+		"--tz", "Europe/Berlin", importFixture("readings_rejects.csv"))
+	if code != ExitFailed {
+		t.Errorf("duplicate import: exit %d, want %d", code, ExitFailed)
+	}
+	for _, sub := range []string{"readings_rejects.csv line 2", `station "R1"`, "2021-03-28T00:00:00Z", "already stored", "--on-duplicate keep-first"} {
+		if !strings.Contains(errs, sub) {
+			t.Errorf("duplicate import message %q lacks %q", errs, sub)
+		}
+	}
+	if strings.Count(errs, "\n") != 1 {
+		t.Errorf("error is not one line: %q", errs)
+	}
+	_, errs, code = runImport(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
+		"--tz", "Europe/Berlin", "--on-duplicate", "replace", importFixture("readings_rejects.csv"))
+	if code != 0 || !strings.Contains(errs, "4 duplicates (4 replaced)") {
+		t.Errorf("replace import: exit %d, %q", code, errs)
+	}
+	s := importStoreCheck(t, db)
+	var batches, readings int
+	if err := s.DB.QueryRow(`SELECT (SELECT count(*) FROM import_batches), (SELECT count(*) FROM readings)`).Scan(&batches, &readings); err != nil {
+		t.Fatal(err)
+	}
+	if batches != 3 || readings != 4 {
+		t.Errorf("batches %d readings %d, want 3 and 4", batches, readings)
+	}
+}
+
+func TestImportCmdDelimiterDecimalCommaTZ(t *testing.T) {
+	db := filepath.Join(t.TempDir(), "r.db")
+	_, errs, code := runImport(t, "--db", db, "import", "readings", "--variable", "temp", "--delimiter", ";",
+		"--decimal-comma", "--tz", "America/New_York", importFixture("decimal_comma.csv"))
+	if code != 0 || !strings.Contains(errs, "3 stored, 1 rejected") {
+		t.Fatalf("exit %d, %q", code, errs)
+	}
+	s := importStoreCheck(t, db)
+	var tmin int64
+	var sum float64
+	if err := s.DB.QueryRow(`SELECT min(t), sum(value) FROM readings`).Scan(&tmin, &sum); err != nil {
+		t.Fatal(err)
+	}
+	// 2021-05-01 12:00 in New York is 1619884800 (python3 zoneinfo, see store tests).
+	if tmin != 1619884800 || sum != 12.5-0.25+1500 {
+		t.Errorf("min t %d, sum %v", tmin, sum)
+	}
+	var opts string
+	if err := s.DB.QueryRow(`SELECT options FROM import_batches`).Scan(&opts); err != nil {
+		t.Fatal(err)
+	}
+	for _, sub := range []string{`"delimiter":";"`, `"decimal_comma":true`, `"tz":"America/New_York"`} {
+		if !strings.Contains(opts, sub) {
+			t.Errorf("options %s lack %s", opts, sub)
+		}
+	}
+}
+
+func TestImportCmdUsageErrors(t *testing.T) {
+	dir := t.TempDir()
+	db := filepath.Join(dir, "r.db")
+	good := importFixture("readings_good.csv")
+	cases := []struct {
+		args []string
+		code int
+		want string
+	}{
+		{[]string{"import", "readings", "--variable", "x", "--on-duplicate", "skip", good}, ExitUsage, "--on-duplicate must be error, keep-first or replace"},
+		{[]string{"import", "readings", "--variable", "x", "--variable-col", "v", good}, ExitUsage, "not both"},
+		{[]string{"import", "readings", "--variable", "x", "--delimiter", ";;", good}, ExitUsage, "--delimiter"},
+		{[]string{"import", "readings", "--variable", "x", "--delimiter", `"`, good}, ExitUsage, "--delimiter"},
+		{[]string{"import", "readings", "--variable", "x", "--tz", "Mars/Olympus", good}, ExitUsage, "--tz"},
+		{[]string{"import", "readings", "--variable", "x"}, ExitUsage, "expected 1 argument"},
+		{[]string{"import", "readings", "--variable", "x", "--no-such-flag", good}, ExitUsage, "no-such-flag"},
+		{[]string{"import", "readings", "--variable", "x", filepath.Join(dir, "missing.csv")}, ExitFailed, "missing.csv: no such file"},
+		{[]string{"import", "stations", dir}, ExitFailed, "is a directory"},
+	}
+	for _, c := range cases {
+		_, errs, code := runImport(t, append([]string{"--db", db}, c.args...)...)
+		if code != c.code || !strings.Contains(errs, c.want) {
+			t.Errorf("%v: exit %d, stderr %q; want exit %d and %q", c.args, code, errs, c.code, c.want)
+		}
+	}
+	// Flag and file errors are found before a store is created.
+	if _, err := os.Stat(db); !os.IsNotExist(err) {
+		t.Errorf("a failed flag check created the store (stat: %v)", err)
+	}
+	if _, errs, code := runImport(t, "--db", db, "import", "readings", good); code != ExitFailed ||
+		!strings.Contains(errs, "readings_good.csv line 1: no variable") || strings.Count(errs, "\n") != 1 {
+		t.Errorf("no variable: exit %d, %q", code, errs)
+	}
+}
+
+func TestParseDelimiter(t *testing.T) {
+	for in, want := range map[string]byte{",": ',', ";": ';', "tab": '\t', `\t`: '\t', "|": '|'} {
+		if got, err := parseDelimiter(in); err != nil || got != want {
+			t.Errorf("parseDelimiter(%q) = %q, %v", in, got, err)
+		}
+	}
+	for _, in := range []string{"", ";;", `"`, "\n", "é"} {
+		if _, err := parseDelimiter(in); err == nil {
+			t.Errorf("parseDelimiter(%q): no error", in)
+		}
+	}
+}
