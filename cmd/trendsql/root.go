@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"strings"
 	"syscall"
 
 	"github.com/spf13/cobra"
@@ -74,10 +75,11 @@ func Main(args []string, in io.Reader, out, errw io.Writer) int {
 	return ExitFailed
 }
 
-// isUsage recognises cobra's own argument and flag errors.
+// isUsage recognises cobra's own argument and flag errors, and its unknown
+// subcommand error.
 func isUsage(err error) bool {
 	var u *usageMarker
-	return errors.As(err, &u)
+	return errors.As(err, &u) || strings.HasPrefix(err.Error(), "unknown command ")
 }
 
 type usageMarker struct{ error }

@@ -74,6 +74,7 @@ func TestMainUsageErrors(t *testing.T) {
 		{"shell", "extra-argument"},
 		{"functions", "--format", "csv"},
 		{"version", "extra"},
+		{"no-such-command"},
 	}
 	for _, args := range cases {
 		var out, errw bytes.Buffer
