@@ -349,7 +349,7 @@ SELECT id, 'semi;colon' AS text FROM stations ORDER BY id LIMIT 1;
 
 func TestShellContinuesAfterErrors(t *testing.T) {
 	db := demoStore(t)
-	in := "SELEC 1;\n:nonsense\nINSERT INTO stations(id) VALUES ('X');\nSELECT 6 * 7 AS answer;\n"
+	in := "SELEC 1;\n:nonsense\nINSERT INTO stations(id) VALUES ('X');\nSELECT 6 * 7 AS answer;\n\nSELECT 1,\n  2 FROM\n  nowhere );\n"
 	out, errOut, code := runBin(t, in, "shell", "--db", db)
 	if code != ExitFailed {
 		t.Errorf("exit %d, want %d after failed statements", code, ExitFailed)
@@ -357,7 +357,8 @@ func TestShellContinuesAfterErrors(t *testing.T) {
 	if !strings.Contains(out, "answer") || !strings.Contains(out, "42") {
 		t.Errorf("the statement after the errors did not run:\n%s", out)
 	}
-	for _, want := range []string{"input line 1", "line 1, column 1", "unknown shell command :nonsense", "readonly", "3 of 4"} {
+	for _, want := range []string{"input line 1: SQL error at line 1, column 1", "input line 2: unknown shell command :nonsense", "input line 3: SQL error: attempt to write a readonly database",
+		"input line 6: SQL error at line 8, column 11", "4 of 5"} {
 		if !strings.Contains(errOut, want) {
 			t.Errorf("stderr lacks %q:\n%s", want, errOut)
 		}

@@ -243,8 +243,12 @@ func historyFile() string {
 func isShellCommand(line string) bool { return strings.HasPrefix(strings.TrimSpace(line), ":") }
 
 // run executes every statement of text, printing results and errors.
-// firstLine (>0 for piped input) is the input line the text starts on.
+// firstLine (>0 for piped input) is the input line the text starts on, so
+// error positions count lines of the whole input.
 func (sh *shell) run(ctx context.Context, text string, firstLine int) {
+	if firstLine > 1 {
+		text = strings.Repeat("\n", firstLine-1) + text
+	}
 	for _, st := range splitStatements(text) {
 		sh.ran++
 		if err := sh.runOne(ctx, text, st); err != nil {
@@ -253,7 +257,7 @@ func (sh *shell) run(ctx context.Context, text string, firstLine int) {
 				err = errors.New("statement cancelled")
 			}
 			if firstLine > 0 {
-				fmt.Fprintf(sh.errw, "statement starting on input line %d: %v\n", firstLine+strings.Count(text[:st.offset], "\n"), err)
+				fmt.Fprintf(sh.errw, "input line %d: %v\n", 1+strings.Count(text[:st.offset], "\n"), err)
 			} else {
 				fmt.Fprintln(sh.errw, "error:", err)
 			}
