@@ -32,7 +32,7 @@ GROUP BY station_type
 ORDER BY readings DESC;`,
 	},
 	{
-		Explain: "readings_view gives ISO 8601 UTC times; flags are kept verbatim (∅ = no flag): nitrate samples of a manually read well.",
+		Explain: "Nitrate samples of a manually read well: ISO 8601 UTC times, flags kept verbatim (∅ = no flag).",
 		SQL: `SELECT station_id, time_utc, value, unit, qualifier
 FROM readings_view
 WHERE station_id = 'VOR-M07' AND variable = 'nitrate_n'
@@ -50,7 +50,7 @@ GROUP BY month
 ORDER BY month;`,
 	},
 	{
-		Explain: "Straight-line slope of every logged well in metres per year, steepest decline first (seasonality and autocorrelation not modelled).",
+		Explain: "Straight-line slope of each logged well in m per year, steepest first (no seasonal or noise model).",
 		SQL: `SELECT s.station_id,
        json_extract(st.metadata, '$.aquifer')  AS aquifer,
        json_extract(st.metadata, '$.land_use') AS land_use,
@@ -83,7 +83,7 @@ ORDER BY mean_m_per_year;`,
 		Unless: []string{"trend_fit"},
 	},
 	{
-		Explain: "Well trends with the seasonal cycle fitted (two harmonics) beside the plain straight line; hac_p is the slope p-value with Newey–West errors.",
+		Explain: "Well trends with two seasonal harmonics fitted, beside the straight line; hac_p allows for autocorrelation.",
 		SQL: `WITH fits AS (
   SELECT s.station_id,
          regr_slope(r.value, r.t) * 31557600                 AS straight_line,
@@ -105,7 +105,7 @@ LIMIT 8;`,
 		Needs: []string{"trend_fit"},
 	},
 	{
-		Explain: "Dependence left in the residuals of that fit: sample lag-1 autocorrelation and Ljung–Box over 10 daily lags (small p: evidence against white noise).",
+		Explain: "Dependence left in those residuals: lag-1 sample ACF and Ljung–Box over 10 daily lags (small p = evidence of dependence).",
 		SQL: `WITH models AS (
   SELECT series_id, trend_fit(t, value, 'period=1y, harmonics=2') AS model
   FROM readings
@@ -130,7 +130,7 @@ ORDER BY s.station_id;`,
 		Needs: []string{"trend_fit", "trend_residual", "sample_acf", "ljung_box", "ljung_box_p"},
 	},
 	{
-		Explain: "Well VOR-W09 had its sensor replaced (date in its metadata): mean level in the year before and the year after.",
+		Explain: "VOR-W09 got a new sensor (date in its metadata): mean level in the year before and the year after.",
 		SQL: `WITH w AS (
   SELECT r.t, r.value,
          unixepoch(json_extract(st.metadata, '$.sensor_replaced')) AS swap
