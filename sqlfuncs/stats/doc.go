@@ -34,10 +34,12 @@ func ChiSquareUpper(q, df float64) float64 {
 	return distuv.ChiSquared{K: df}.Survival(q)
 }
 
-// NormalTwoSided returns the two-sided p-value 2·P(Z > |z|) for Z ~ N(0, 1).
+// NormalTwoSided returns the two-sided p-value 2·P(Z > |z|) for Z ~ N(0, 1),
+// computed as erfc(|z|/√2) so that small p-values keep full relative
+// precision (1 − erf(·) would round to 0 beyond |z| ≈ 8.3).
 func NormalTwoSided(z float64) float64 {
 	if math.IsNaN(z) {
 		return math.NaN()
 	}
-	return 2 * distuv.UnitNormal.Survival(math.Abs(z))
+	return math.Erfc(math.Abs(z) / math.Sqrt2)
 }
