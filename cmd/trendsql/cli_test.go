@@ -21,8 +21,11 @@ import (
 )
 
 var (
-	binPath string // the built trendsql binary
 	workDir string // scratch directory shared by the tests
+
+	binOnce sync.Once
+	binPath string // the built trendsql binary
+	binErr  error
 
 	demoOnce   sync.Once
 	demoPath   string
@@ -43,21 +46,31 @@ func testMain(m *testing.M) int {
 	}
 	defer os.RemoveAll(dir)
 	workDir = dir
-	binPath = filepath.Join(dir, "trendsql")
-	build := exec.Command("go", "build", "-o", binPath, ".")
-	build.Env = append(os.Environ(), "CGO_ENABLED=0")
-	if out, err := build.CombinedOutput(); err != nil {
-		fmt.Fprintf(os.Stderr, "building trendsql with CGO_ENABLED=0: %v\n%s", err, out)
-		return 1
-	}
 	return m.Run()
+}
+
+// bin builds the binary once, as shipped (CGO_ENABLED=0), and returns its path.
+func bin(t *testing.T) string {
+	t.Helper()
+	binOnce.Do(func() {
+		binPath = filepath.Join(workDir, "trendsql")
+		build := exec.Command("go", "build", "-o", binPath, ".")
+		build.Env = append(os.Environ(), "CGO_ENABLED=0")
+		if out, err := build.CombinedOutput(); err != nil {
+			binErr = fmt.Errorf("building trendsql with CGO_ENABLED=0: %v\n%s", err, out)
+		}
+	})
+	if binErr != nil {
+		t.Fatal(binErr)
+	}
+	return binPath
 }
 
 // runBin runs the built binary with stdin and returns stdout, stderr and the
 // exit code. TRENDSQL_DB is cleared so only --db selects the store.
 func runBin(t *testing.T, stdin string, args ...string) (string, string, int) {
 	t.Helper()
-	cmd := exec.Command(binPath, args...)
+	cmd := exec.Command(bin(t), args...)
 	cmd.Dir = workDir
 	cmd.Stdin = strings.NewReader(stdin)
 	for _, kv := range os.Environ() {
@@ -82,7 +95,7 @@ func demoStore(t *testing.T) string {
 	t.Helper()
 	demoOnce.Do(func() {
 		demoPath = filepath.Join(workDir, "demo.db")
-		cmd := exec.Command(binPath, "demo", "--db", demoPath)
+		cmd := exec.Command(bin(t), "demo", "--db", demoPath)
 		var out, errb bytes.Buffer
 		cmd.Stdout, cmd.Stderr = &out, &errb
 		err := cmd.Run()
@@ -403,7 +416,7 @@ func TestShellInteractiveOnTerminal(t *testing.T) {
 	cache := t.TempDir()
 	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute) // guards against a hang only
 	defer cancel()
-	cmd := exec.CommandContext(ctx, scriptBin, "-qfec", binPath+" shell --db "+db, "/dev/null")
+	cmd := exec.CommandContext(ctx, scriptBin, "-qfec", bin(t)+" shell --db "+db, "/dev/null")
 	cmd.Env = append(os.Environ(), "XDG_CACHE_HOME="+cache, "HOME="+cache, "TERM=dumb")
 	cmd.Stdin = strings.NewReader("SELECT 6 * 7 AS answer,\r 1 AS one;\r:format csv\rSELECT 'x' AS two;\r:quit\r")
 	raw, err := cmd.Output()
