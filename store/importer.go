@@ -67,7 +67,6 @@ import (
 	"math"
 	"os"
 	"path/filepath"
-	"sort"
 	"strconv"
 	"strings"
 	"time"
@@ -481,51 +480,9 @@ type seriesState struct {
 	hasStored  bool  // the series had readings before this import
 	smin, smax int64 // their time range
 
-	// Times of this file's rows, for duplicate detection within the file:
-	// while they arrive in ascending order they are kept in ts/lines; on the
-	// first row out of order they move into the map set.
-	n     int
-	lastT int64
-	ts    []int64
-	lines []int32
-	set   map[int64]int32
+	seen timeSet // times of this file's rows, for duplicates within the file
 
 	written int64 // rows this batch wrote to the series
-}
-
-// track notes that t arrived on line, and returns the line of an earlier
-// row of this file with the same t, or 0.
-func (ss *seriesState) track(t int64, line int) int {
-	l32 := int32(line)
-	if line > math.MaxInt32 {
-		l32 = math.MaxInt32
-	}
-	switch {
-	case ss.set != nil:
-		if prev, ok := ss.set[t]; ok {
-			return int(prev)
-		}
-		ss.set[t] = l32
-	case ss.n == 0 || t > ss.lastT:
-		ss.ts = append(ss.ts, t)
-		ss.lines = append(ss.lines, l32)
-		ss.lastT = t
-	case t == ss.lastT:
-		return int(ss.lines[len(ss.lines)-1])
-	default:
-		i := sort.Search(len(ss.ts), func(i int) bool { return ss.ts[i] >= t })
-		if ss.ts[i] == t {
-			return int(ss.lines[i])
-		}
-		ss.set = make(map[int64]int32, 2*len(ss.ts))
-		for j, x := range ss.ts {
-			ss.set[x] = ss.lines[j]
-		}
-		ss.set[t] = l32
-		ss.ts, ss.lines = nil, nil
-	}
-	ss.n++
-	return 0
 }
 
 // pendingRow is a valid row waiting for the stored-duplicate check.
@@ -808,7 +765,7 @@ func (im *readingsImporter) row(ctx context.Context, r *csvRecord, iStation, iVa
 		return ss.reject, nil
 	}
 	p := pendingRow{ser: ss, t: t, v: v, q: q, line: r.line}
-	p.dupLine = ss.track(t, r.line)
+	p.dupLine = ss.seen.add(t, r.line)
 	if p.dupLine == 0 && ss.hasStored && t >= ss.smin && t <= ss.smax {
 		p.probe = true
 		im.probes[ss] = append(im.probes[ss], t)
