@@ -359,6 +359,7 @@ type BenchReport struct {
 	GenerateSec  float64      `json:"generate_csv_s"`
 	ImportMethod string       `json:"import_method"`
 	PeakReset    bool         `json:"peak_rss_reset_per_item"`
+	FastPath     string       `json:"regr_slope_path"`
 	Items        []BenchItem  `json:"items"`
 	ProcessPeak  int64        `json:"process_peak_rss_bytes"`
 	Elapsed      float64      `json:"elapsed_s"`
@@ -582,6 +583,7 @@ func RunBench(ctx context.Context, o BenchOptions) (*BenchReport, error) {
 	if fi, err := os.Stat(rep.Store); err == nil {
 		rep.StoreBytes = fi.Size()
 	}
+	_, rep.FastPath = sqlfuncs.FastPathStatus()
 	rep.ProcessPeak = processPeakRSS()
 	rep.Machine.LoadAfter = loadAvg()
 	rep.Elapsed = time.Since(start).Seconds()

@@ -155,6 +155,7 @@ func writeBenchTable(w io.Writer, r *store.BenchReport, kept bool) {
 	drawTable(w, cols, table, numeric)
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "import    %s\n", r.ImportMethod)
+	fmt.Fprintf(w, "adapter   %s\n", r.FastPath)
 	peakNote := "peak RSS = VmHWM, reset before each repetition"
 	if !r.PeakReset {
 		peakNote = "peak RSS = VmHWM of the whole process so far (this kernel does not allow resetting it)"

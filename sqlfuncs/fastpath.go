@@ -1,0 +1,342 @@
+package sqlfuncs
+
+// Zero-allocation adapter for regr_slope (the only function that uses it).
+//
+// Why. The driver's public aggregate API (sqlite.FunctionImpl) hands every
+// row's arguments to Go as []driver.Value; each int64 or float64 argument is
+// boxed into an interface, one Go heap allocation per argument per row.
+// Over millions of rows that costs more than the arithmetic. This file
+// registers regr_slope directly with SQLite's C-level API
+// (sqlite3_create_window_function), reads arguments with sqlite3_value_*
+// and keeps the running state in sqlite3_aggregate_context memory, so the
+// Step path allocates nothing.
+//
+// How. A connection hook (sqlite.RegisterConnectionHook) runs after the
+// driver has registered the public-API functions on each new connection and
+// re-registers regr_slope(y, x) on that connection with the callbacks below.
+// It needs the connection's sqlite3* handle and libc TLS, which the driver
+// keeps in unexported fields; handleOf checks by reflection that the
+// connection type, its field names, types and order are exactly what this
+// adapter was written against before reading them.
+//
+// Safety net. If anything does not match — a different driver version than
+// FastPathDriverVersion, a changed connection layout, TRENDSQL_FASTPATH=off
+// in the environment, or a failing registration — the hook leaves the
+// connection alone and regr_slope keeps its public-API implementation from
+// regr.go (same arithmetic, same results, only slower). FastPathStatus says
+// which path is in use and why; TestFastPathActive fails loudly when a driver
+// upgrade disables the adapter, so the upgrade cannot go unnoticed. After
+// upgrading modernc.org/sqlite: re-read conn.go (fields db, tls) and the
+// aggregate trampolines in sqlite.go, then update FastPathDriverVersion.
+//
+// Semantics are those of regr_slope in regr.go (SQL:2003, rows with a NULL
+// argument ignored, numeric TEXT accepted, non-numeric text or a non-finite
+// value an error naming the function and argument, Welford/Chan co-moment
+// updates, exact inverse for window frames), and TestFastPathMatchesPublic
+// checks the results are bit-for-bit those of the public path.
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"reflect"
+	"runtime/debug"
+	"strings"
+	"sync"
+	"unsafe"
+
+	"modernc.org/libc"
+	"modernc.org/sqlite"
+	sqlite3 "modernc.org/sqlite/lib"
+)
+
+// FastPathDriverVersion is the modernc.org/sqlite version the adapter was
+// checked against. When the binary's build information names another
+// version, the adapter is disabled (public API fallback); test binaries carry
+// no dependency versions, so TestFastPathDriverPinned compares this constant
+// with go.mod instead.
+const FastPathDriverVersion = "v1.62.0"
+
+// FastPathEnv disables the adapter when set to "off".
+const FastPathEnv = "TRENDSQL_FASTPATH"
+
+var fastpath struct {
+	sync.Mutex
+	tried, active bool
+	reason        string
+	zName         uintptr // "regr_slope" as a C string, kept for the process
+}
+
+// FastPathStatus reports whether connections opened so far use the
+// zero-allocation regr_slope, and if not, why. Before any connection has been
+// opened it reports inactive with the reason "no connection opened yet".
+func FastPathStatus() (active bool, reason string) {
+	fastpath.Lock()
+	defer fastpath.Unlock()
+	if !fastpath.tried {
+		return false, "no connection opened yet"
+	}
+	return fastpath.active, fastpath.reason
+}
+
+func init() {
+	sqlite.RegisterConnectionHook(fastpathHook)
+}
+
+// fastpathHook installs the adapter on one new connection; it never fails
+// the connection.
+func fastpathHook(c sqlite.ExecQuerierContext, _ string) error {
+	err := installFastPath(c)
+	fastpath.Lock()
+	defer fastpath.Unlock()
+	fastpath.tried = true
+	if err != nil {
+		fastpath.active = false
+		fastpath.reason = "regr_slope uses the public driver API: " + err.Error()
+	} else if !fastpath.active {
+		fastpath.active = true
+		fastpath.reason = "regr_slope uses the C-level adapter (sqlfuncs/fastpath.go)"
+	}
+	return nil
+}
+
+type connHandle struct {
+	db  uintptr
+	tls *libc.TLS
+}
+
+// handleOf returns the sqlite3* handle and TLS of a driver connection after
+// checking the layout this adapter depends on.
+func handleOf(c any) (connHandle, error) {
+	if v := os.Getenv(FastPathEnv); strings.EqualFold(v, "off") {
+		return connHandle{}, errors.New(FastPathEnv + "=off")
+	}
+	if got := driverVersion(); got != "" && got != FastPathDriverVersion {
+		return connHandle{}, fmt.Errorf("modernc.org/sqlite is %s; the adapter was checked against %s", got, FastPathDriverVersion)
+	}
+	v := reflect.ValueOf(c)
+	if v.Kind() != reflect.Pointer || v.IsNil() || v.Elem().Kind() != reflect.Struct {
+		return connHandle{}, fmt.Errorf("driver connection is %T, not a pointer to a struct", c)
+	}
+	t := v.Elem().Type()
+	if t.PkgPath() != "modernc.org/sqlite" || t.Name() != "conn" || t.NumField() < 2 {
+		return connHandle{}, fmt.Errorf("driver connection is %T, expected *sqlite.conn", c)
+	}
+	f0, f1 := t.Field(0), t.Field(1)
+	if f0.Name != "db" || f0.Type != reflect.TypeOf(uintptr(0)) || f0.Offset != 0 ||
+		f1.Name != "tls" || f1.Type != reflect.TypeOf((*libc.TLS)(nil)) || f1.Offset != unsafe.Offsetof(connHandle{}.tls) {
+		return connHandle{}, fmt.Errorf("driver connection layout changed (first fields %s %s, %s %s)", f0.Name, f0.Type, f1.Name, f1.Type)
+	}
+	h := *(*connHandle)(v.UnsafePointer())
+	if h.db == 0 || h.tls == nil {
+		return connHandle{}, errors.New("driver connection has no open handle")
+	}
+	return h, nil
+}
+
+// driverVersion returns the driver's module version from the build
+// information, or "" when the binary does not record it (test binaries).
+func driverVersion() string {
+	bi, ok := debug.ReadBuildInfo()
+	if !ok {
+		return ""
+	}
+	for _, d := range bi.Deps {
+		if d.Path == "modernc.org/sqlite" {
+			if d.Replace != nil {
+				return d.Version + " replaced by " + d.Replace.Path + " " + d.Replace.Version
+			}
+			return d.Version
+		}
+	}
+	return ""
+}
+
+func installFastPath(c any) error {
+	h, err := handleOf(c)
+	if err != nil {
+		return err
+	}
+	fastpath.Lock()
+	if fastpath.zName == 0 {
+		p, err := libc.CString("regr_slope")
+		if err != nil {
+			fastpath.Unlock()
+			return err
+		}
+		fastpath.zName = p
+	}
+	name := fastpath.zName
+	fastpath.Unlock()
+	rc := sqlite3.Xsqlite3_create_window_function(h.tls, h.db, name, 2,
+		sqlite3.SQLITE_UTF8|sqlite3.SQLITE_DETERMINISTIC, 0,
+		cFunc(fastSlopeStep), cFunc(fastSlopeFinal), cFunc(fastSlopeValue), cFunc(fastSlopeInverse), 0)
+	if rc != sqlite3.SQLITE_OK {
+		return fmt.Errorf("sqlite3_create_window_function returned %d", rc)
+	}
+	return nil
+}
+
+// cFunc turns a top-level Go function into the function-pointer form the
+// transpiled SQLite calls (a pointer to the function value, which for a
+// top-level function lives in read-only data and never moves).
+func cFunc[T any](f T) uintptr {
+	return *(*uintptr)(unsafe.Pointer(&struct{ f T }{f}))
+}
+
+// fastMoments is the running state in sqlite3_aggregate_context memory
+// (zeroed by SQLite on first use; no Go pointers, so the collector never
+// needs to see it).
+type fastMoments struct {
+	n             int64
+	mx, my        float64
+	sxx, syy, sxy float64
+}
+
+// at converts an address from SQLite into a Go pointer without a
+// uintptr-to-pointer conversion expression (go vet's unsafeptr check).
+func at[T any](p uintptr) *T {
+	return *(**T)(unsafe.Pointer(&p))
+}
+
+func fastState(tls *libc.TLS, ctx uintptr, alloc bool) *fastMoments {
+	n := int32(0)
+	if alloc {
+		n = int32(unsafe.Sizeof(fastMoments{}))
+	}
+	p := sqlite3.Xsqlite3_aggregate_context(tls, ctx, n)
+	if p == 0 {
+		return nil
+	}
+	return at[fastMoments](p)
+}
+
+func fastError(tls *libc.TLS, ctx uintptr, err error) {
+	msg, cerr := libc.CString(err.Error())
+	if cerr != nil {
+		sqlite3.Xsqlite3_result_error_nomem(tls, ctx)
+		return
+	}
+	sqlite3.Xsqlite3_result_error(tls, ctx, msg, -1) // SQLite copies the text
+	libc.Xfree(tls, msg)
+}
+
+// fastArg reads argument i as regr.go's argValue would.
+func fastArg(tls *libc.TLS, argv uintptr, i int, name string) (float64, bool, error) {
+	v := at[[2]uintptr](argv)[i]
+	switch sqlite3.Xsqlite3_value_type(tls, v) {
+	case sqlite3.SQLITE_NULL:
+		return 0, false, nil
+	case sqlite3.SQLITE_INTEGER:
+		return float64(sqlite3.Xsqlite3_value_int64(tls, v)), true, nil
+	case sqlite3.SQLITE_FLOAT:
+		x := sqlite3.Xsqlite3_value_double(tls, v)
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return argValue("regr_slope", name, x)
+		}
+		return x, true, nil
+	case sqlite3.SQLITE_TEXT:
+		return argValue("regr_slope", name, libc.GoString(sqlite3.Xsqlite3_value_text(tls, v)))
+	default:
+		return argValue("regr_slope", name, []byte(nil))
+	}
+}
+
+func fastPair(tls *libc.TLS, argc int32, argv uintptr) (y, x float64, ok bool, err error) {
+	if argc != 2 {
+		return 0, 0, false, fmt.Errorf("regr_slope: wrong number of arguments (%d); usage: regr_slope(y, x)", argc)
+	}
+	y, oky, err := fastArg(tls, argv, 0, "y")
+	if err != nil {
+		return 0, 0, false, err
+	}
+	x, okx, err := fastArg(tls, argv, 1, "x")
+	if err != nil {
+		return 0, 0, false, err
+	}
+	return y, x, oky && okx, nil
+}
+
+func fastRecover(tls *libc.TLS, ctx uintptr) {
+	if r := recover(); r != nil {
+		fastError(tls, ctx, fmt.Errorf("regr_slope: internal error: %v", r))
+	}
+}
+
+func fastSlopeStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
+	defer fastRecover(tls, ctx)
+	y, x, ok, err := fastPair(tls, argc, argv)
+	if err != nil {
+		fastError(tls, ctx, err)
+		return
+	}
+	c := fastState(tls, ctx, true)
+	if c == nil {
+		sqlite3.Xsqlite3_result_error_nomem(tls, ctx)
+		return
+	}
+	if !ok {
+		return
+	}
+	// The same recurrences, in the same order, as comoments.add in regr.go.
+	c.n++
+	n := float64(c.n)
+	dx := x - c.mx
+	dy := y - c.my
+	c.mx += dx / n
+	c.my += dy / n
+	c.sxx += dx * (x - c.mx)
+	c.syy += dy * (y - c.my)
+	c.sxy += dx * (y - c.my)
+}
+
+func fastSlopeInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
+	defer fastRecover(tls, ctx)
+	y, x, ok, err := fastPair(tls, argc, argv)
+	if err != nil {
+		fastError(tls, ctx, err)
+		return
+	}
+	c := fastState(tls, ctx, true)
+	if c == nil {
+		sqlite3.Xsqlite3_result_error_nomem(tls, ctx)
+		return
+	}
+	if !ok {
+		return
+	}
+	// comoments.remove in regr.go.
+	if c.n <= 1 {
+		*c = fastMoments{}
+		return
+	}
+	c.n--
+	n := float64(c.n)
+	dx := x - c.mx
+	dy := y - c.my
+	c.mx -= dx / n
+	c.my -= dy / n
+	c.sxx -= dx * (x - c.mx)
+	c.syy -= dy * (y - c.my)
+	c.sxy -= dx * (y - c.my)
+	if c.sxx < 0 {
+		c.sxx = 0
+	}
+	if c.syy < 0 {
+		c.syy = 0
+	}
+}
+
+func fastSlopeResult(tls *libc.TLS, ctx uintptr) {
+	defer fastRecover(tls, ctx)
+	c := fastState(tls, ctx, false)
+	if c == nil || c.n == 0 || c.sxx == 0 {
+		sqlite3.Xsqlite3_result_null(tls, ctx)
+		return
+	}
+	sqlite3.Xsqlite3_result_double(tls, ctx, c.sxy/c.sxx)
+}
+
+func fastSlopeValue(tls *libc.TLS, ctx uintptr) { fastSlopeResult(tls, ctx) }
+func fastSlopeFinal(tls *libc.TLS, ctx uintptr) { fastSlopeResult(tls, ctx) }
