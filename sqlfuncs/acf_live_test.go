@@ -94,7 +94,7 @@ func TestLiveAgainstStatsmodels(t *testing.T) {
 		}
 		ls.MaxLag = 1 + rng.IntN(60)
 		if n >= 2048 && id%4 < 2 {
-			ls.MaxLag = 64 + rng.IntN(200) // the FFT path
+			ls.MaxLag = 96 + rng.IntN(200) // the FFT path
 		}
 		if ls.MaxLag > n-1 {
 			ls.MaxLag = n - 1

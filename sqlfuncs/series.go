@@ -151,11 +151,30 @@ func sameOpts(a, b []driver.Value) bool {
 		return false
 	}
 	for i := range a {
-		if fmt.Sprint(a[i]) != fmt.Sprint(b[i]) {
+		if !sameValue(a[i], b[i]) && fmt.Sprint(a[i]) != fmt.Sprint(b[i]) {
 			return false
 		}
 	}
 	return true
+}
+
+// sameValue is the allocation-free fast path of sameOpts for the usual
+// option types; false means "compare as text".
+func sameValue(a, b driver.Value) bool {
+	switch x := a.(type) {
+	case nil:
+		return b == nil
+	case int64:
+		y, ok := b.(int64)
+		return ok && x == y
+	case float64:
+		y, ok := b.(float64)
+		return ok && x == y
+	case string:
+		y, ok := b.(string)
+		return ok && x == y
+	}
+	return false
 }
 
 func (a *seriesAgg) WindowInverse(ctx *sqlite.FunctionContext, args []driver.Value) (err error) {
