@@ -1,0 +1,550 @@
+package sqlfuncs_test
+
+// SQL-level tests of mann_kendall, sen_slope, sen_slope_per_year,
+// seasonal_kendall, pettitt, cross_corr and cross_correlogram on a real
+// store. Expected numbers: testdata/reference/kendall_ref.json
+// (kendall_ref.py: scipy 1.10.1 kendalltau / theilslopes /
+// mstats.kendalltau_seasonal, statsmodels 0.13.5 ccf, numpy definitions) and
+// kendall_ref_r.json (kendall_ref.R: R 4.2.2 cor.test(method = "kendall",
+// exact = FALSE, continuity = TRUE) and ccf(na.action = na.pass)).
+// Tolerances: 1e-9 relative, 1e-7 relative for p-values.
+
+import (
+	"bytes"
+	"context"
+	"database/sql"
+	"encoding/json"
+	"math"
+	"math/rand/v2"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	"trendsql/store"
+)
+
+func openKendallStore(tb testing.TB) *sql.DB {
+	tb.Helper()
+	ctx := context.Background()
+	s, err := store.Open(ctx, filepath.Join(tb.TempDir(), "k.db"), store.Options{})
+	if err != nil {
+		tb.Fatalf("open store: %v", err)
+	}
+	tb.Cleanup(func() {
+		if err := s.IntegrityCheck(ctx); err != nil {
+			tb.Errorf("integrity: %v", err)
+		}
+		s.Close()
+	})
+	if _, err := s.DB.Exec(`CREATE TABLE kobs (g TEXT, t ANY, x ANY, y ANY) STRICT`); err != nil {
+		tb.Fatal(err)
+	}
+	return s.DB
+}
+
+// insertK inserts one group in a shuffled order (functions must sort).
+func insertK(tb testing.TB, db *sql.DB, g string, t []float64, x, y []any) {
+	tb.Helper()
+	tx, err := db.Begin()
+	if err != nil {
+		tb.Fatal(err)
+	}
+	st, err := tx.Prepare(`INSERT INTO kobs (g, t, x, y) VALUES (?, ?, ?, ?)`)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	perm := rand.New(rand.NewPCG(uint64(len(t)), 3)).Perm(len(t))
+	for _, i := range perm {
+		var xv any
+		if x != nil {
+			xv = x[i]
+		}
+		if _, err := st.Exec(g, t[i], xv, y[i]); err != nil {
+			tb.Fatal(err)
+		}
+	}
+	st.Close()
+	if err := tx.Commit(); err != nil {
+		tb.Fatal(err)
+	}
+}
+
+func anys(v []float64) []any {
+	out := make([]any, len(v))
+	for i, x := range v {
+		out[i] = x
+	}
+	return out
+}
+
+func kClose(got, want, rel float64) bool {
+	return got == want || math.Abs(got-want) <= rel*math.Abs(want)
+}
+
+type kRefCase struct{ t, y []float64 }
+
+func kRefPath(name string) string { return filepath.Join("..", "testdata", "reference", name) }
+
+func loadKCases(t *testing.T) map[string]kRefCase {
+	b, err := os.ReadFile(kRefPath("kendall_cases.txt"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := map[string]kRefCase{}
+	for _, line := range strings.Split(strings.TrimSpace(string(b)), "\n") {
+		p := strings.Split(line, "|")
+		var c kRefCase
+		for i, f := range []*[]float64{&c.t, &c.y} {
+			for _, s := range strings.Fields(p[i+1]) {
+				v, _ := strconv.ParseFloat(s, 64)
+				*f = append(*f, v)
+			}
+		}
+		out[p[0]] = c
+	}
+	return out
+}
+
+func jsonMap(t *testing.T, v any) map[string]any {
+	t.Helper()
+	s, ok := v.(string)
+	if !ok {
+		t.Fatalf("want JSON text, got %T %v", v, v)
+	}
+	var m map[string]any
+	if err := json.Unmarshal([]byte(s), &m); err != nil {
+		t.Fatalf("bad JSON %q: %v", s, err)
+	}
+	return m
+}
+
+func num(t *testing.T, m map[string]any, k string) float64 {
+	t.Helper()
+	v, ok := m[k]
+	if !ok {
+		t.Fatalf("key %q missing in %v", k, m)
+	}
+	if v == nil {
+		return math.NaN()
+	}
+	return v.(float64)
+}
+
+func queryVal(t *testing.T, db *sql.DB, q string, args ...any) any {
+	t.Helper()
+	var v any
+	if err := db.QueryRow(q, args...).Scan(&v); err != nil {
+		t.Fatalf("%s: %v", q, err)
+	}
+	return v
+}
+
+func TestKendallSQLReference(t *testing.T) {
+	db := openKendallStore(t)
+	cases := loadKCases(t)
+	for name, c := range cases {
+		insertK(t, db, name, c.t, nil, anys(c.y))
+	}
+	var py struct {
+		MK []struct {
+			Name string   `json:"name"`
+			S    float64  `json:"s"`
+			VarS float64  `json:"var_s"`
+			Tau  *float64 `json:"tau"`
+		} `json:"mk"`
+		Sen []struct {
+			Name       string  `json:"name"`
+			Confidence float64 `json:"confidence"`
+			Slope      float64 `json:"slope_per_year"`
+			Intercept  float64 `json:"intercept"`
+			Lower      float64 `json:"lower"`
+			Upper      float64 `json:"upper"`
+		} `json:"sen"`
+		HamedRao []struct {
+			Name   string  `json:"name"`
+			Factor float64 `json:"factor"`
+			P      float64 `json:"p_corrected"`
+		} `json:"hamed_rao"`
+	}
+	var r struct {
+		Cases []struct {
+			Name      string
+			Z, P, Tau float64
+		} `json:"cases"`
+	}
+	for f, v := range map[string]any{"kendall_ref.json": &py, "kendall_ref_r.json": &r} {
+		b, err := os.ReadFile(kRefPath(f))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := json.Unmarshal(b, v); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if len(py.MK) < 14 || len(py.Sen) < 39 || len(r.Cases) < 12 {
+		t.Fatal("reference files look truncated")
+	}
+	for _, ref := range py.MK {
+		m := jsonMap(t, queryVal(t, db, `SELECT mann_kendall(t, y) FROM kobs WHERE g = ?`, ref.Name))
+		// numpy O(n²) definition (kendall_ref.py)
+		if num(t, m, "s") != ref.S || !kClose(num(t, m, "var_s"), ref.VarS, 1e-12) {
+			t.Errorf("%s: %v; reference S=%v var=%v", ref.Name, m, ref.S, ref.VarS)
+		}
+		// scipy 1.10.1 kendalltau(t, y) tau-b
+		if ref.Tau != nil && !kClose(num(t, m, "tau"), *ref.Tau, 1e-9) {
+			t.Errorf("%s: tau %v, scipy %v", ref.Name, m["tau"], *ref.Tau)
+		}
+		if ref.Tau == nil && m["tau"] != nil {
+			t.Errorf("%s: tau should be null, got %v", ref.Name, m["tau"])
+		}
+	}
+	for _, ref := range r.Cases {
+		m := jsonMap(t, queryVal(t, db, `SELECT mann_kendall(t, y) FROM kobs WHERE g = ?`, ref.Name))
+		// R 4.2.2 cor.test(t, y, method="kendall", exact=FALSE, continuity=TRUE)
+		if z := num(t, m, "z"); !kClose(z, ref.Z, 1e-9) && math.Abs(z-ref.Z) > 1e-12 {
+			t.Errorf("%s: z %v, R %v", ref.Name, z, ref.Z)
+		}
+		if p := num(t, m, "p"); !kClose(p, ref.P, 1e-7) {
+			t.Errorf("%s: p %v, R %v", ref.Name, p, ref.P)
+		}
+	}
+	for _, ref := range py.Sen {
+		m := jsonMap(t, queryVal(t, db, `SELECT sen_slope(t, y, ?) FROM kobs WHERE g = ?`, ref.Confidence, ref.Name))
+		// scipy 1.10.1 theilslopes(y, x=t/31557600, alpha=confidence)
+		for k, want := range map[string]float64{"slope_per_year": ref.Slope, "lower": ref.Lower, "upper": ref.Upper} {
+			if got := num(t, m, k); !kClose(got, want, 1e-9) && math.Abs(got-want) > 1e-12 {
+				t.Errorf("%s conf %v: %s = %v, scipy %v", ref.Name, ref.Confidence, k, got, want)
+			}
+		}
+		scale := math.Abs(num(t, m, "median_y")) + math.Abs(ref.Slope*1.6e9/31557600)
+		if got := num(t, m, "intercept"); math.Abs(got-ref.Intercept) > 1e-9*scale {
+			t.Errorf("%s: intercept %v, scipy %v", ref.Name, got, ref.Intercept)
+		}
+		if ref.Confidence == 0.95 {
+			s := queryVal(t, db, `SELECT sen_slope_per_year(t, y) FROM kobs WHERE g = ?`, ref.Name).(float64)
+			if !kClose(s, ref.Slope, 1e-9) && math.Abs(s-ref.Slope) > 1e-12 {
+				t.Errorf("%s: sen_slope_per_year %v, scipy %v", ref.Name, s, ref.Slope)
+			}
+		}
+	}
+	for _, ref := range py.HamedRao {
+		m := jsonMap(t, queryVal(t, db, `SELECT mann_kendall(t, y, 'correct=hamed-rao') FROM kobs WHERE g = ?`, ref.Name))
+		// kendall_ref.py: published formula with scipy/statsmodels building blocks
+		if !kClose(num(t, m, "correction_factor"), ref.Factor, 1e-9) || !kClose(num(t, m, "p_corrected"), ref.P, 1e-7) {
+			t.Errorf("%s: %v; reference factor %v p %v", ref.Name, m, ref.Factor, ref.P)
+		}
+	}
+}
+
+func TestKendallSQLSeasonalPettittCross(t *testing.T) {
+	db := openKendallStore(t)
+	b, err := os.ReadFile(kRefPath("kendall_ref.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var py struct {
+		Seasonal []struct {
+			Name    string    `json:"name"`
+			Seasons int       `json:"seasons"`
+			T       []float64 `json:"t"`
+			Y       []float64 `json:"y"`
+			S       float64   `json:"s"`
+			P       float64   `json:"p_global_indep"`
+			Slope   float64   `json:"slope_per_year"`
+		} `json:"seasonal"`
+		Pettitt []struct {
+			Name string    `json:"name"`
+			T    []float64 `json:"t"`
+			Y    []float64 `json:"y"`
+			K    float64   `json:"k"`
+			U    float64   `json:"u"`
+			P    float64   `json:"p"`
+		} `json:"pettitt"`
+		CCF []struct {
+			Name   string    `json:"name"`
+			T      []float64 `json:"t"`
+			X      []float64 `json:"x"`
+			Y      []float64 `json:"y"`
+			MaxLag int       `json:"max_lag"`
+			YX     []float64 `json:"ccf_y_x"`
+			XY     []float64 `json:"ccf_x_y"`
+		} `json:"ccf"`
+	}
+	if err := json.Unmarshal(b, &py); err != nil {
+		t.Fatal(err)
+	}
+	for _, ref := range py.Seasonal {
+		insertK(t, db, ref.Name, ref.T, nil, anys(ref.Y))
+		m := jsonMap(t, queryVal(t, db, `SELECT seasonal_kendall(t, y, '1y', ?) FROM kobs WHERE g = ?`, ref.Seasons, ref.Name))
+		// scipy 1.10.1 mstats.kendalltau_seasonal: global p (indep); numpy S and slope
+		if num(t, m, "s") != ref.S || !kClose(num(t, m, "p"), ref.P, 1e-7) || !kClose(num(t, m, "slope_per_year"), ref.Slope, 1e-9) {
+			t.Errorf("%s: %v; reference S=%v p=%v slope=%v", ref.Name, m, ref.S, ref.P, ref.Slope)
+		}
+	}
+	for _, ref := range py.Pettitt {
+		insertK(t, db, ref.Name, ref.T, nil, anys(ref.Y))
+		m := jsonMap(t, queryVal(t, db, `SELECT pettitt(t, y) FROM kobs WHERE g = ?`, ref.Name))
+		// numpy double-sum definition (kendall_ref.py)
+		if num(t, m, "k") != ref.K || num(t, m, "u") != ref.U || !kClose(num(t, m, "p"), ref.P, 1e-9) {
+			t.Errorf("%s: %v; reference k=%v u=%v p=%v", ref.Name, m, ref.K, ref.U, ref.P)
+		}
+		k := int(ref.K)
+		if m["t_change"] != fmtUTC(ref.T[k-1]) || m["t_after"] != fmtUTC(ref.T[k]) {
+			t.Errorf("%s: t_change %v t_after %v", ref.Name, m["t_change"], m["t_after"])
+		}
+	}
+	for _, ref := range py.CCF {
+		insertK(t, db, ref.Name, ref.T, anys(ref.X), anys(ref.Y))
+		for h := -ref.MaxLag; h <= ref.MaxLag; h++ {
+			want := ref.YX[max(h, 0)]
+			if h < 0 {
+				want = ref.XY[-h]
+			}
+			// statsmodels 0.13.5 ccf(y, x, adjusted=False)[h] / ccf(x, y, adjusted=False)[−h]
+			got := queryVal(t, db, `SELECT cross_corr(t, x, y, ?) FROM kobs WHERE g = ?`, h, ref.Name).(float64)
+			if !kClose(got, want, 1e-9) {
+				t.Errorf("%s lag %d: %v, statsmodels %v", ref.Name, h, got, want)
+			}
+		}
+		m := jsonMap(t, queryVal(t, db, `SELECT cross_correlogram(t, x, y, ?) FROM kobs WHERE g = ?`, ref.MaxLag, ref.Name))
+		lags := m["lags"].([]any)
+		if len(lags) != 2*ref.MaxLag+1 || m["step"] != "1d" || num(t, m, "missing_slots") != 0 {
+			t.Fatalf("%s: correlogram %v", ref.Name, m)
+		}
+		for _, l := range lags {
+			lm := l.(map[string]any)
+			h := int(lm["lag"].(float64))
+			want := ref.YX[max(h, 0)]
+			if h < 0 {
+				want = ref.XY[-h]
+			}
+			if !kClose(lm["ccf"].(float64), want, 1e-9) {
+				t.Errorf("%s correlogram lag %d: %v, statsmodels %v", ref.Name, h, lm["ccf"], want)
+			}
+		}
+	}
+}
+
+func fmtUTC(t float64) string {
+	return time.Unix(int64(t), 0).UTC().Format("2006-01-02T15:04:05Z")
+}
+
+func TestKendallSQLTraps(t *testing.T) {
+	db := openKendallStore(t)
+	day := 86400.0
+	// ties in time → error naming the function and the time
+	insertK(t, db, "tied", []float64{1.6e9, 1.6e9 + day, 1.6e9 + day}, nil, anys([]float64{1, 2, 3}))
+	for _, f := range []string{"mann_kendall(t, y)", "sen_slope(t, y)", "sen_slope_per_year(t, y)", "seasonal_kendall(t, y, '1y')", "pettitt(t, y)"} {
+		var v any
+		err := db.QueryRow(`SELECT ` + f + ` FROM kobs WHERE g = 'tied'`).Scan(&v)
+		name := f[:strings.Index(f, "(")]
+		if err == nil || !strings.Contains(err.Error(), name) || !strings.Contains(err.Error(), "same time") || !strings.Contains(err.Error(), "2020-09-14") {
+			t.Errorf("%s on tied times: err = %v", f, err)
+		}
+	}
+	// NULL values skipped; fewer than 2 rows → NULL
+	if _, err := db.Exec(`INSERT INTO kobs VALUES ('one', 1600000000, NULL, 5), ('one', 1600086400, NULL, NULL)`); err != nil {
+		t.Fatal(err)
+	}
+	for _, f := range []string{"mann_kendall(t, y)", "sen_slope(t, y)", "sen_slope_per_year(t, y)", "seasonal_kendall(t, y, '1y')", "pettitt(t, y)", "cross_corr(t, y, y, 0)"} {
+		if v := queryVal(t, db, `SELECT `+f+` FROM kobs WHERE g = 'one'`); v != nil && !strings.HasPrefix(f, "cross") {
+			t.Errorf("%s with one usable row = %v, want NULL", f, v)
+		}
+		if v := queryVal(t, db, `SELECT `+f+` FROM kobs WHERE g = 'nothing'`); v != nil {
+			t.Errorf("%s with no rows = %v, want NULL", f, v)
+		}
+	}
+	// all equal
+	insertK(t, db, "flat", []float64{1.6e9, 1.6e9 + day, 1.6e9 + 2*day, 1.6e9 + 5*day}, nil, anys([]float64{2, 2, 2, 2}))
+	m := jsonMap(t, queryVal(t, db, `SELECT mann_kendall(t, y, 'correct=hamed-rao') FROM kobs WHERE g = 'flat'`))
+	if m["s"].(float64) != 0 || m["var_s"].(float64) != 0 || m["z"] != nil || m["p"] != nil || m["tau"] != nil || m["p_corrected"] != nil {
+		t.Errorf("all equal: %v", m)
+	}
+	m = jsonMap(t, queryVal(t, db, `SELECT sen_slope(t, y) FROM kobs WHERE g = 'flat'`))
+	if m["slope_per_year"].(float64) != 0 || m["lower"].(float64) != 0 || m["upper"].(float64) != 0 {
+		t.Errorf("all equal Sen: %v", m)
+	}
+	if v := queryVal(t, db, `SELECT cross_corr(t, y, y, 0) FROM kobs WHERE g = 'flat'`); v != nil {
+		t.Errorf("constant cross_corr = %v, want NULL", v)
+	}
+	// the documented example of mann_kendall (kendall.go header)
+	insertK(t, db, "doc", []float64{1.6e9, 1.6e9 + day, 1.6e9 + 2*day, 1.6e9 + 3*day, 1.6e9 + 4*day}, nil, anys([]float64{1, 2, 3, 5, 4}))
+	got := queryVal(t, db, `SELECT mann_kendall(t, y) FROM kobs WHERE g = 'doc'`).(string)
+	if !strings.HasPrefix(got, `{"n":5,"s":8,"var_s":16.666666666666668,"z":1.7146428199482247,"p":0.0864107`) || !strings.HasSuffix(got, `"tau":0.8,"concordant":9,"discordant":1,"tied_pairs":0,"tie_groups":0}`) {
+		t.Errorf("doc example: %s", got)
+	}
+	// bad options / arguments → errors naming the function
+	for _, q := range []string{
+		`SELECT mann_kendall(t, y, 'correct=bogus') FROM kobs WHERE g = 'doc'`,
+		`SELECT mann_kendall(t, y, 'max_lag=3') FROM kobs WHERE g = 'doc'`,
+		`SELECT sen_slope(t, y, 1.5) FROM kobs WHERE g = 'doc'`,
+		`SELECT sen_slope(t, y, 'abc') FROM kobs WHERE g = 'doc'`,
+		`SELECT seasonal_kendall(t, y, '-1y') FROM kobs WHERE g = 'doc'`,
+		`SELECT seasonal_kendall(t, y, 'calendar-month', 4) FROM kobs WHERE g = 'doc'`,
+		`SELECT seasonal_kendall(t, y, '1y', 0) FROM kobs WHERE g = 'doc'`,
+		`SELECT cross_corr(t, y, y, 1, 'step=0d') FROM kobs WHERE g = 'doc'`,
+		`SELECT pettitt(t, y, 1) FROM kobs WHERE g = 'doc'`,
+	} {
+		var v any
+		err := db.QueryRow(q).Scan(&v)
+		name := strings.TrimPrefix(q, "SELECT ")
+		name = name[:strings.Index(name, "(")]
+		if err == nil || !strings.Contains(err.Error(), name) {
+			t.Errorf("%s: err = %v, want an error naming %s", q, err, name)
+		}
+	}
+	// seasonal with a season holding one value: season 1 of 2 (half-years) gets one value
+	const y = 31557600.0
+	insertK(t, db, "season1", []float64{0.1 * y, 1.1 * y, 2.1 * y, 2.6 * y}, nil, anys([]float64{1, 2, 4, 9}))
+	m = jsonMap(t, queryVal(t, db, `SELECT seasonal_kendall(t, y, '1y', 2) FROM kobs WHERE g = 'season1'`))
+	if m["s"].(float64) != 3 || m["seasons_used"].(float64) != 1 || !kClose(m["var_s"].(float64), 3*2*11/18.0, 1e-15) {
+		t.Errorf("season with one value: %v", m)
+	}
+	// calendar months
+	m = jsonMap(t, queryVal(t, db, `SELECT seasonal_kendall(t, y, 'calendar-month') FROM kobs WHERE g = 'season1'`))
+	if m["season_definition"] != "calendar-month" || m["period_s"] != nil {
+		t.Errorf("calendar-month: %v", m)
+	}
+}
+
+func TestKendallSQLWindow(t *testing.T) {
+	// As a window function each frame equals the aggregate over the same rows.
+	db := openKendallStore(t)
+	n := 40
+	tt := make([]float64, n)
+	yy := make([]float64, n)
+	rng := rand.New(rand.NewPCG(5, 6))
+	for i := range tt {
+		tt[i] = 1.6e9 + float64(i)*86400
+		yy[i] = math.Round(rng.NormFloat64()*4) + float64(i)*0.1
+	}
+	insertK(t, db, "w", tt, nil, anys(yy))
+	rows, err := db.Query(`SELECT t, sen_slope_per_year(t, y) OVER w, mann_kendall(t, y) OVER w
+		FROM kobs WHERE g = 'w' WINDOW w AS (ORDER BY t ROWS BETWEEN 9 PRECEDING AND CURRENT ROW) ORDER BY t`)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	i := 0
+	for rows.Next() {
+		var tv float64
+		var s sql.NullFloat64
+		var mk sql.NullString
+		if err := rows.Scan(&tv, &s, &mk); err != nil {
+			t.Fatal(err)
+		}
+		lo := max(0, i-9)
+		wantS := queryVal(t, db, `SELECT sen_slope_per_year(t, y) FROM kobs WHERE g = 'w' AND t BETWEEN ? AND ?`, tt[lo], tt[i])
+		wantMK := queryVal(t, db, `SELECT mann_kendall(t, y) FROM kobs WHERE g = 'w' AND t BETWEEN ? AND ?`, tt[lo], tt[i])
+		if i == 0 {
+			if s.Valid || mk.Valid {
+				t.Errorf("frame of one row: %v %v", s, mk)
+			}
+		} else if s.Float64 != wantS.(float64) || mk.String != wantMK.(string) {
+			t.Errorf("row %d: window %v %v, aggregate %v %v", i, s.Float64, mk.String, wantS, wantMK)
+		}
+		i++
+	}
+	if i != n {
+		t.Fatalf("%d rows", i)
+	}
+}
+
+func TestKendallSQLLongSeries(t *testing.T) {
+	// n = 100,000 through SQL: O(n²) would not finish; run once, no timing.
+	if testing.Short() {
+		t.Skip("long series skipped in -short")
+	}
+	db := openKendallStore(t)
+	n := 100000
+	tt := make([]float64, n)
+	yy := make([]float64, n)
+	for i := range tt {
+		tt[i] = 1.5e9 + float64(i)*3600
+		yy[i] = math.Round(math.Sin(float64(i)/500)*100)/10 + float64(i)*1e-4
+	}
+	insertK(t, db, "long", tt, nil, anys(yy))
+	m := jsonMap(t, queryVal(t, db, `SELECT mann_kendall(t, y, 'correct=hamed-rao') FROM kobs WHERE g = 'long'`))
+	if num(t, m, "n") != float64(n) || num(t, m, "s") <= 0 {
+		t.Errorf("long MK: %v", m)
+	}
+	m = jsonMap(t, queryVal(t, db, `SELECT sen_slope(t, y) FROM kobs WHERE g = 'long'`))
+	if !(num(t, m, "lower") <= num(t, m, "slope_per_year") && num(t, m, "slope_per_year") <= num(t, m, "upper")) || num(t, m, "n_pairs") != float64(n)*float64(n-1)/2 {
+		t.Errorf("long Sen: %v", m)
+	}
+}
+
+// TestKendallLiveScipy draws random series (ties, irregular times, several
+// sizes), runs them through SQL and through /usr/bin/python3 scipy 1.10.1
+// (kendalltau, theilslopes) and compares. Skips when scipy is missing
+// locally; fails when CI is set.
+func TestKendallLiveScipy(t *testing.T) {
+	const py = "/usr/bin/python3"
+	if err := exec.Command(py, "-c", "import scipy.stats").Run(); err != nil {
+		if os.Getenv("CI") != "" {
+			t.Fatalf("CI: %s with scipy is required: %v", py, err)
+		}
+		t.Skipf("%s with scipy not available: %v", py, err)
+	}
+	db := openKendallStore(t)
+	rng := rand.New(rand.NewPCG(uint64(os.Getpid()), 99))
+	type series struct {
+		Name string    `json:"name"`
+		T    []float64 `json:"t"`
+		Y    []float64 `json:"y"`
+	}
+	var all []series
+	for i := 0; i < 12; i++ {
+		n := 3 + rng.IntN(400)
+		s := series{Name: "live" + strconv.Itoa(i)}
+		tv := 1.4e9 + rng.Float64()*1e8
+		for j := 0; j < n; j++ {
+			tv += float64(1 + rng.IntN(5*86400))
+			s.T = append(s.T, tv)
+			v := rng.NormFloat64() + float64(j)*0.01*float64(i%3-1)
+			if i%2 == 0 {
+				v = math.Round(v*2) / 2 // ties
+			}
+			s.Y = append(s.Y, v)
+		}
+		all = append(all, s)
+		insertK(t, db, s.Name, s.T, nil, anys(s.Y))
+	}
+	in, _ := json.Marshal(all)
+	script := `
+import json, sys
+import scipy.stats as ss
+out = []
+for c in json.load(sys.stdin):
+    t = [v / 31557600.0 for v in c["t"]]
+    r = ss.theilslopes(c["y"], t, alpha=0.95)
+    out.append({"tau": float(ss.kendalltau(c["t"], c["y"])[0]), "slope": float(r[0]), "lower": float(r[2]), "upper": float(r[3])})
+json.dump(out, sys.stdout)
+`
+	cmd := exec.Command(py, "-c", script)
+	cmd.Stdin = bytes.NewReader(in)
+	outb, err := cmd.Output()
+	if err != nil {
+		t.Fatalf("python: %v", err)
+	}
+	var ref []struct{ Tau, Slope, Lower, Upper float64 }
+	if err := json.Unmarshal(outb, &ref); err != nil {
+		t.Fatal(err)
+	}
+	for i, s := range all {
+		mk := jsonMap(t, queryVal(t, db, `SELECT mann_kendall(t, y) FROM kobs WHERE g = ?`, s.Name))
+		sen := jsonMap(t, queryVal(t, db, `SELECT sen_slope(t, y, 0.95) FROM kobs WHERE g = ?`, s.Name))
+		if !kClose(num(t, mk, "tau"), ref[i].Tau, 1e-9) {
+			t.Errorf("%s (n=%d): tau %v, scipy %v", s.Name, len(s.T), mk["tau"], ref[i].Tau)
+		}
+		for k, want := range map[string]float64{"slope_per_year": ref[i].Slope, "lower": ref[i].Lower, "upper": ref[i].Upper} {
+			if got := num(t, sen, k); !kClose(got, want, 1e-9) && math.Abs(got-want) > 1e-12 {
+				t.Errorf("%s (n=%d): %s %v, scipy %v", s.Name, len(s.T), k, got, want)
+			}
+		}
+	}
+}
