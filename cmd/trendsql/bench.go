@@ -18,7 +18,7 @@ type benchOptions struct {
 	stations, readings, reps int
 	dir                      string
 	keep, quiet, direct      bool
-	format                   string
+	format, jsonFile         string
 	seed                     uint64
 	timeout                  time.Duration
 }
@@ -60,6 +60,7 @@ comparisons on a kept directory. --db is ignored.`,
 	fl.StringVar(&o.dir, "dir", "", "working directory for the CSV file and stores (default: a new temporary directory)")
 	fl.BoolVar(&o.keep, "keep", false, "keep readings.csv and bench.db in the working directory")
 	fl.StringVar(&o.format, "format", FormatTable, "output format: table or json")
+	fl.StringVar(&o.jsonFile, "json", "", "also write the JSON report to this file")
 	fl.Uint64Var(&o.seed, "seed", 1, "generator seed")
 	fl.DurationVar(&o.timeout, "item-timeout", 10*time.Minute, "cancel a repetition that runs longer than this and mark the item timed out")
 	fl.BoolVar(&o.quiet, "quiet", false, "no progress lines on stderr")
@@ -107,6 +108,15 @@ func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
 	}
 	if err != nil {
 		return err
+	}
+	if o.jsonFile != "" {
+		b, err := json.MarshalIndent(rep, "", "  ")
+		if err != nil {
+			return err
+		}
+		if err := os.WriteFile(o.jsonFile, append(b, '\n'), 0o644); err != nil {
+			return fmt.Errorf("bench: %w", err)
+		}
 	}
 	if o.format == FormatJSON {
 		enc := json.NewEncoder(e.out)

@@ -1,0 +1,35 @@
+#!/bin/sh
+# Regenerates every table of BENCHMARKS.md.
+#
+# usage (from the repository root):
+#   CGO_ENABLED=0 go build -o trendsql ./cmd/trendsql
+#   testdata/bench/run_all.sh [OUTDIR]        (default bench-results)
+#
+# Writes OUTDIR/bench.txt and OUTDIR/1000x10000.json (the main run, 1000
+# series × 10000 hourly readings, 3 interleaved repetitions), OUTDIR/compare.md
+# (outside comparisons on the same files, compare.sh), OUTDIR/scaling.md
+# (scaling.sh) and OUTDIR/machine.txt. Needs about 1.5 GB of disk and, on a
+# 2-core machine, about 30 minutes. Run it on an otherwise idle machine.
+set -eu
+OUT=${1:-bench-results}
+TRENDSQL=${TRENDSQL:-./trendsql}
+export TRENDSQL
+HERE=$(cd "$(dirname "$0")" && pwd)
+mkdir -p "$OUT"
+{
+	echo "date: $(date -u +%Y-%m-%dT%H:%M:%SZ)"
+	echo "nproc: $(nproc)"
+	grep -m1 'model name' /proc/cpuinfo
+	grep MemTotal /proc/meminfo
+	go version 2>/dev/null || true
+	"$TRENDSQL" version 2>/dev/null || true
+	/usr/bin/sqlite3 --version
+	/usr/bin/python3 -c 'import pandas, statsmodels, numpy; print("pandas", pandas.__version__, "statsmodels", statsmodels.__version__, "numpy", numpy.__version__)'
+	echo "loadavg: $(cat /proc/loadavg)"
+} > "$OUT/machine.txt"
+"$TRENDSQL" bench --stations 1000 --readings 10000 --reps 3 --item-timeout 5m \
+	--keep --dir "$OUT/data" --json "$OUT/1000x10000.json" > "$OUT/bench.txt"
+"$HERE/compare.sh" "$OUT/data" 3 > "$OUT/compare.md"
+"$HERE/scaling.sh" "$OUT" 3 > "$OUT/scaling.md"
+echo "loadavg after: $(cat /proc/loadavg)" >> "$OUT/machine.txt"
+echo "results in $OUT" >&2
