@@ -10,7 +10,7 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"trendsql/sqlfuncs"
+	"trendsql/sqlfuncs/stats"
 	"trendsql/store"
 )
 
@@ -68,6 +68,10 @@ comparisons on a kept directory. --db is ignored.`,
 	return c
 }
 
+// benchAnalyzer is the per-series analyzer of the measured summarize run
+// (sqlfuncs.SummarizeSeries once it exists); nil reports "not available".
+var benchAnalyzer func(t, y []float64, o stats.SummaryOptions) stats.SeriesSummary
+
 func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
 	if o.format != FormatTable && o.format != FormatJSON {
 		return usageErr("bench: --format must be table or json, not %q", o.format)
@@ -89,7 +93,7 @@ func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
 		Reps:        o.reps,
 		ItemTimeout: o.timeout,
 		Direct:      o.direct,
-		Summarize:   sqlfuncs.SummarizeSeries,
+		Summarize:   benchAnalyzer,
 	}
 	if !o.quiet {
 		opts.Log = e.errw
