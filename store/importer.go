@@ -707,7 +707,8 @@ func (im *readingsImporter) prepare(ctx context.Context) error {
 		{&im.stFindStation, `SELECT count(*) FROM stations WHERE id = ?`},
 		{&im.stAddStation, `INSERT INTO stations(id) VALUES (?)`},
 		{&im.stAddSeries, `INSERT INTO series(station_id, variable, unit) VALUES (?, ?, ?)`},
-		{&im.stRange, `SELECT min(t), max(t) FROM readings WHERE series_id = ?`},
+		// Two sub-queries, so each is a single index probe.
+		{&im.stRange, `SELECT (SELECT min(t) FROM readings WHERE series_id = ?1), (SELECT max(t) FROM readings WHERE series_id = ?1)`},
 		{&im.stSetUnit, `UPDATE series SET unit = ? WHERE id = ?`},
 	} {
 		st, err := im.tx.PrepareContext(ctx, p.q)

@@ -38,7 +38,12 @@ func newImportCmd(e *env) *cobra.Command {
 		Long: `Load a CSV file of stations or of readings into the store. Each file is read
 in one transaction: it is recorded as a batch in import_batches with its
 counts, every rejected row goes to import_rejects with its line number, text
-and reason, and on a failure nothing changes.`,
+and reason, and on a failure nothing changes.
+
+A one-line account goes to stderr. Exit status: 0 when the batch was stored
+(also when some rows were rejected: they are counted and listed in
+import_rejects), 1 when the import failed and nothing changed, 2 for bad
+flags or arguments.`,
 	}
 	c.AddCommand(newImportStationsCmd(e), newImportReadingsCmd(e))
 	return c
