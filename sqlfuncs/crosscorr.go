@@ -51,6 +51,16 @@ package sqlfuncs
 //
 //	SELECT cross_corr(a.t, a.value, b.value, 2) FROM readings a
 //	JOIN readings b ON b.t = a.t WHERE a.series_id = 1 AND b.series_id = 2;
+//
+// For x = 3, 1, 2, 5, 4 and y = 1, 2, 3, 5, 4 at daily steps (tested in
+// kendall_test.go), cross_corr(t, x, y, 1) = 0 and cross_correlogram(t, x,
+// y, 1) is
+//
+//	{"n":5,"n_slots":5,"missing_slots":0,"step_s":86400,"step":"1d",
+//	 "step_inferred":true,"t_first":"2020-09-13T12:26:40Z","mean_x":3,"mean_y":3,
+//	 "var_x":2,"var_y":2,"band":0.8765386471799175,"lags":[
+//	 {"lag":-1,"pairs":4,"ccvf":1.4,"ccf":0.7},{"lag":0,"pairs":5,"ccvf":1.4,"ccf":0.7},
+//	 {"lag":1,"pairs":4,"ccvf":0,"ccf":0}]}
 
 import (
 	"database/sql/driver"

@@ -56,10 +56,13 @@ package sqlfuncs
 //	       mann_kendall(t, value, 'correct=hamed-rao')->>'p_corrected' AS p_hr
 //	FROM readings GROUP BY series_id;
 //
-// For the values 1, 2, 3, 5, 4 at any five increasing times the result is
-// {"n":5,"s":8,"var_s":16.666666666666668,"z":1.7146428199482247,
-// "p":0.08641073903726,"tau":0.8,"concordant":9,"discordant":1,
-// "tied_pairs":0,"tie_groups":0} (p printed rounded here).
+// For y = 1, 2, 3, 5, 4 at five increasing times (tested in kendall_test.go):
+//
+//	{"n":5,"s":8,"var_s":16.666666666666668,"z":1.7146428199482247,
+//	 "p":0.08641073297370006,"tau":0.8,"concordant":9,"discordant":1,
+//	 "tied_pairs":0,"tie_groups":0}
+//
+// (S = 9 − 1 = 8, var_s = 5·4·15/18, z = 7/√var_s.)
 
 import (
 	"database/sql/driver"

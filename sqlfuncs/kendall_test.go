@@ -548,3 +548,30 @@ json.dump(out, sys.stdout)
 		}
 	}
 }
+
+// TestKendallDocExamples checks the example results printed in the header
+// comments of kendall.go, sen.go, seasonal.go, pettitt.go and crosscorr.go
+// (each derived by hand there from the small data set).
+func TestKendallDocExamples(t *testing.T) {
+	db := openKendallStore(t)
+	day := 86400.0
+	insertK(t, db, "doc", []float64{1.6e9, 1.6e9 + day, 1.6e9 + 2*day, 1.6e9 + 3*day, 1.6e9 + 4*day},
+		anys([]float64{3, 1, 2, 5, 4}), anys([]float64{1, 2, 3, 5, 4}))
+	for q, want := range map[string]string{
+		"mann_kendall(t, y)":              `{"n":5,"s":8,"var_s":16.666666666666668,"z":1.7146428199482247,"p":0.08641073297370006,"tau":0.8,"concordant":9,"discordant":1,"tied_pairs":0,"tie_groups":0}`,
+		"sen_slope(t, y)":                 `{"n":5,"n_pairs":10,"slope_per_year":365.25,"lower":-365.25,"upper":730.5,"confidence":0.95,"lower_rank":1,"upper_rank":10,"intercept":-18517.51851851852,"median_t":"2020-09-15T12:26:40Z","median_y":3}`,
+		"seasonal_kendall(t, y, '2d', 2)": `{"n":5,"period_s":172800,"season_definition":"epoch-slices","seasons":2,"seasons_used":2,"s":4,"var_s":4.666666666666666,"z":1.3887301496588274,"p":0.16491482255330134,"n_pairs":4,"slope_per_year":319.59375,"lower":182.625,"upper":547.875,"confidence":0.95,"per_season":[{"season":0,"n":3,"s":3,"var_s":3.6666666666666665},{"season":1,"n":2,"s":1,"var_s":1}]}`,
+		"pettitt(t, y)":                   `{"n":5,"k":2,"t_change":"2020-09-14T12:26:40Z","t_after":"2020-09-15T12:26:40Z","u":-6,"abs_u":6,"p":0.47385551736424353,"median_before":1.5,"median_after":4}`,
+		"cross_correlogram(t, x, y, 1)":   `{"n":5,"n_slots":5,"missing_slots":0,"step_s":86400,"step":"1d","step_inferred":true,"t_first":"2020-09-13T12:26:40Z","mean_x":3,"mean_y":3,"var_x":2,"var_y":2,"band":0.8765386471799175,"lags":[{"lag":-1,"pairs":4,"ccvf":1.4,"ccf":0.7},{"lag":0,"pairs":5,"ccvf":1.4,"ccf":0.7},{"lag":1,"pairs":4,"ccvf":0,"ccf":0}]}`,
+	} {
+		if got := queryVal(t, db, "SELECT "+q+" FROM kobs WHERE g = 'doc'"); got != want {
+			t.Errorf("%s:\n got %v\nwant %s", q, got, want)
+		}
+	}
+	if got := queryVal(t, db, "SELECT sen_slope_per_year(t, y) FROM kobs WHERE g = 'doc'"); got != 365.25 {
+		t.Errorf("sen_slope_per_year = %v", got)
+	}
+	if got := queryVal(t, db, "SELECT cross_corr(t, x, y, 1) FROM kobs WHERE g = 'doc'"); got != 0.0 {
+		t.Errorf("cross_corr = %v", got)
+	}
+}

@@ -32,6 +32,13 @@ package sqlfuncs
 //
 //	SELECT series_id, pettitt(t, value)->>'t_change' AS at, pettitt(t, value)->>'p' AS p
 //	FROM readings GROUP BY series_id;
+//
+// For y = 1, 2, 3, 5, 4 at daily steps from unix 1600000000 (tested in
+// kendall_test.go): ranks 1, 2, 3, 5, 4, U = −4, −6, −6, −2, K = 6 first at
+// k = 2, p = 2·exp(−6·36/150):
+//
+//	{"n":5,"k":2,"t_change":"2020-09-14T12:26:40Z","t_after":"2020-09-15T12:26:40Z",
+//	 "u":-6,"abs_u":6,"p":0.47385551736424353,"median_before":1.5,"median_after":4}
 
 import (
 	"database/sql/driver"

@@ -51,6 +51,18 @@ package sqlfuncs
 //	SELECT series_id, seasonal_kendall(t, value, 'calendar-month')->>'p' AS p,
 //	       seasonal_kendall(t, value, 'calendar-month')->>'slope_per_year' AS per_year
 //	FROM readings GROUP BY series_id;
+//
+// For y = 1, 2, 3, 5, 4 at daily steps from unix 1600000000 and
+// seasonal_kendall(t, y, '2d', 2) (two one-day seasons; tested in
+// kendall_test.go): season 0 holds 1, 3, 4 (S = 3, var 11/3), season 1
+// holds 2, 5 (S = 1, var 1), within-season slopes 0.5, 0.75, 1, 1.5 per day:
+//
+//	{"n":5,"period_s":172800,"season_definition":"epoch-slices","seasons":2,
+//	 "seasons_used":2,"s":4,"var_s":4.666666666666666,"z":1.3887301496588274,
+//	 "p":0.16491482255330134,"n_pairs":4,"slope_per_year":319.59375,
+//	 "lower":182.625,"upper":547.875,"confidence":0.95,"per_season":[
+//	 {"season":0,"n":3,"s":3,"var_s":3.6666666666666665},
+//	 {"season":1,"n":2,"s":1,"var_s":1}]}
 
 import (
 	"database/sql/driver"

@@ -49,9 +49,17 @@ package sqlfuncs
 //	       sen_slope(t, value)->>'lower' AS lo, sen_slope(t, value)->>'upper' AS hi
 //	FROM readings GROUP BY series_id ORDER BY per_year DESC;
 //
-// For y = 1, 2, 3, 5, 4 at 2020-01-01, 2021-01-01, ... (yearly, 366 and
-// 365-day steps) sen_slope_per_year is ≈ 0.99932 (the median pair slope is
-// 1 per 365 days).
+// For y = 1, 2, 3, 5, 4 at daily steps from 2020-09-13T12:26:40Z (unix
+// 1600000000; tested in kendall_test.go) the ten pair slopes per day are
+// −1, 1/2, 2/3, 3/4, 1, 1, 1, 4/3, 3/2, 2, so sen_slope_per_year = 365.25
+// and sen_slope(t, y) is
+//
+//	{"n":5,"n_pairs":10,"slope_per_year":365.25,"lower":-365.25,"upper":730.5,
+//	 "confidence":0.95,"lower_rank":1,"upper_rank":10,
+//	 "intercept":-18517.51851851852,"median_t":"2020-09-15T12:26:40Z","median_y":3}
+//
+// (C = 1.96·√16.67 ≈ 8.0, M1 = 1, M2 + 1 = 10: with n = 5 the ranks reach
+// the ends and the interval is just the range of the slopes.)
 
 import (
 	"database/sql/driver"
