@@ -285,6 +285,7 @@ var BenchQueries = []BenchQuery{
 	{"regr_slope", `SELECT series_id, regr_slope(value, t) FROM readings GROUP BY series_id`, []string{"regr_slope"}},
 	{"trend_slope", `SELECT series_id, trend_slope(t, value) FROM readings GROUP BY series_id`, []string{"trend_slope"}},
 	{"trend_fit season", `SELECT series_id, trend_fit(t, value, 'period=1y,harmonics=2') FROM readings GROUP BY series_id`, []string{"trend_fit"}},
+	{"sample_acf lag 1", `SELECT series_id, sample_acf(t, value, 1) FROM readings GROUP BY series_id`, []string{"sample_acf"}},
 	{"correlogram 48", `SELECT series_id, correlogram(t, value, 48) FROM readings GROUP BY series_id`, []string{"correlogram"}},
 	{"ljung_box 24", `SELECT series_id, ljung_box(t, value, 24) FROM readings GROUP BY series_id`, []string{"ljung_box"}},
 	{"trend+correlogram+LB", `SELECT series_id, trend_slope(t, value), correlogram(t, value, 48), ljung_box(t, value, 24) FROM readings GROUP BY series_id`, []string{"trend_slope", "correlogram", "ljung_box"}},
