@@ -36,7 +36,10 @@ package sqlfuncs
 // statsmodels' acovf(missing = "conservative"), which divides by n.
 //
 //	ρ̂(h) = γ̂(h) / γ̂(0), clamped to [−1, 1] as R does; NULL when γ̂(0) = 0.
-//	α̂(h) (PACF) = φ_hh of the Durbin–Levinson recursion on ρ̂ (Durbin 1960).
+//	α̂(h) (PACF) = φ_hh of the Durbin–Levinson recursion on ρ̂ (Durbin 1960);
+//	with missing slots ρ̂ need not be non-negative definite: α̂ may then leave
+//	[−1, 1], and lags past the point where the recursion's prediction error
+//	variance turns negative are NULL.
 //	Ljung–Box   Q = n(n+2) Σ_{k=1}^{h} ρ̂(k)²/(n−k)  (Ljung & Box 1978)
 //	Box–Pierce  Q = n Σ_{k=1}^{h} ρ̂(k)²            (Box & Pierce 1970)
 //	p = P(χ²_{h−fitdf} > Q); NULL when h − fitdf ≤ 0.

@@ -280,6 +280,14 @@ func ACF(acvf []float64) []float64 {
 //
 // out[0] is NaN (α̂(0) is not defined) and out[k] = φ_kk. Once a ρ̂ is NaN
 // or a denominator is not positive, that lag and all later ones are NaN.
+//
+// The denominator is v_{k−1}/γ̂(0), the scaled one-step prediction error
+// variance of the fitted AR(k−1). Without missing values ρ̂ is non-negative
+// definite, so |φ_kk| < 1 and the denominators stay positive (Brockwell &
+// Davis 2002, §2.5.3). With missing slots (divisor m(h) + h) that is not
+// guaranteed: a φ_kk outside [−1, 1] is reported as computed, and the lags
+// after it, where the variance would be negative, are NaN. R's pacf keeps
+// dividing in that case; trendsql reports NULL instead of those numbers.
 func PACF(rho []float64) []float64 {
 	K := len(rho) - 1
 	out := make([]float64, len(rho))

@@ -348,3 +348,14 @@ func benchACVF(b *testing.B, lag int) {
 		}
 	}
 }
+
+// TestPACFIndefinite: a correlation sequence that is not non-negative
+// definite (possible with missing slots) stops the recursion: ρ = (1, 0.9,
+// 0.2) gives φ_11 = 0.9, φ_22 = (0.2 − 0.81)/(1 − 0.81) = −3.2105…, and
+// lag 3 is undefined because v_2 = v_1(1 − φ_22²) < 0.
+func TestPACFIndefinite(t *testing.T) {
+	p := PACF([]float64{1, 0.9, 0.2, 0.1})
+	if math.Abs(p[1]-0.9) > 1e-15 || math.Abs(p[2]-(0.2-0.81)/(1-0.81)) > 1e-14 || !math.IsNaN(p[3]) {
+		t.Fatalf("pacf %v", p)
+	}
+}

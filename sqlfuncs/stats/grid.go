@@ -141,10 +141,14 @@ func fmtTime(t float64) string {
 func (e *GridError) suggestion() string {
 	var parts []string
 	if e.Suggest > 0 {
-		parts = append(parts, fmt.Sprintf("try step=%s (slots with no reading count as missing)", timefmt.FormatDuration(e.Suggest)))
+		parts = append(parts, fmt.Sprintf("try step=%s (slots with no reading count as missing)", FormatStep(e.Suggest)))
 	}
 	if e.Common > 0 && e.Common > e.Suggest {
-		parts = append(parts, fmt.Sprintf("or first aggregate the readings to one per %s (the most common spacing) and use step=%s", timefmt.FormatDuration(e.Common), timefmt.FormatDuration(e.Common)))
+		hint := ""
+		if e.Common == MonthStep {
+			hint = ", e.g. one per calendar month timed at the 1st,"
+		}
+		parts = append(parts, fmt.Sprintf("or first aggregate the readings to one per %s (the most common spacing)%s and use step=%s", FormatStep(e.Common), hint, FormatStep(e.Common)))
 	}
 	if len(parts) == 0 {
 		return ""
@@ -153,7 +157,7 @@ func (e *GridError) suggestion() string {
 }
 
 func (e *GridError) Error() string {
-	st := timefmt.FormatDuration(e.Step)
+	st := FormatStep(e.Step)
 	switch e.Kind {
 	case "off-grid":
 		return fmt.Sprintf("reading at %s is %.3g steps from the nearest slot of the %s grid anchored at the first reading (more than allowed)%s",
