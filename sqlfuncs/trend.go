@@ -89,13 +89,22 @@ package sqlfuncs
 // that difference). A NULL model, t or y gives NULL; a model that is not
 // valid trend_fit JSON is an error naming trend_value.
 //
-// Example (exact arithmetic; 1 per year, readings one year of 365.25 d apart):
+// Examples (exact arithmetic: readings one year of 365.25 d apart, so
+// x = −1, 0, 1; slope = 1.25 per year, r2 = 75/76):
 //
 //	WITH r(t, y) AS (VALUES (0, 1.0), (31557600, 2.0), (63115200, 3.5))
 //	SELECT trend_slope(t, y), trend_fit(t, y) ->> 'r2' FROM r;
 //	-- 1.25 | 0.9868421052631579
 //
-//	SELECT station_id, trend_fit(t, value, 'period=1y, harmonics=2') FROM readings_view GROUP BY station_id;
+//	WITH r(t, y) AS (VALUES (0, 1.0), (31557600, 2.0), (63115200, 3.5)),
+//	     m AS (SELECT trend_fit(t, y) AS m FROM r)
+//	SELECT t, round(trend_residual(m, t, y), 6), round(trend_value(m, '1972-01-01'), 6) FROM r, m;
+//	-- 0 | 0.083333 | 3.414956    31557600 | -0.166667 | 3.414956    63115200 | 0.083333 | 3.414956
+//
+// Usage on a store: one seasonal trend per series, Newey–West error included:
+//
+//	SELECT series_id, trend_fit(t, value, 'period=1y, harmonics=2') AS m
+//	FROM readings GROUP BY series_id;
 
 import (
 	"database/sql/driver"

@@ -526,6 +526,30 @@ func TestTrendFitDocExample(t *testing.T) {
 	if slope != 1.25 || !closeTo(r2, 75.0/76, 1e-15, 0) {
 		t.Errorf("doc example: slope %v r2 %.17g; want 1.25, %.17g", slope, r2, 75.0/76)
 	}
+	rows, err := s.DB.Query(`WITH r(t, y) AS (VALUES (0, 1.0), (31557600, 2.0), (63115200, 3.5)),
+	     m AS (SELECT trend_fit(t, y) AS m FROM r)
+	SELECT t, round(trend_residual(m, t, y), 6), round(trend_value(m, '1972-01-01'), 6) FROM r, m ORDER BY t`)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	// Residuals 1/12, −2/12, 1/12; value at 1972-01-01 (t = 63072000 s):
+	// 13/6 + 1.25·(63072000 − 31557600)/31557600.
+	want := [][3]float64{{0, 0.083333, 3.414956}, {31557600, -0.166667, 3.414956}, {63115200, 0.083333, 3.414956}}
+	i := 0
+	for rows.Next() {
+		var got [3]float64
+		if err := rows.Scan(&got[0], &got[1], &got[2]); err != nil {
+			t.Fatal(err)
+		}
+		if i >= len(want) || got != want[i] {
+			t.Errorf("doc example row %d: %v", i, got)
+		}
+		i++
+	}
+	if v := 13.0/6 + 1.25*(63072000-31557600)/31557600.0; math.Abs(v-3.414956) > 5e-7 {
+		t.Errorf("hand value %v", v)
+	}
 }
 
 // ----- benchmarks -----
