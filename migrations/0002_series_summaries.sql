@@ -14,13 +14,13 @@ CREATE TABLE summary_runs (
     series_selected  INTEGER NOT NULL DEFAULT 0,
     series_computed  INTEGER NOT NULL DEFAULT 0,
     series_skipped   INTEGER NOT NULL DEFAULT 0,   -- unchanged under --changed-only
-    series_with_problems INTEGER NOT NULL DEFAULT 0
+    series_with_notes    INTEGER NOT NULL DEFAULT 0
 );
 
 CREATE TABLE series_summaries (
     run_id               INTEGER NOT NULL REFERENCES summary_runs(id),
     series_id            INTEGER NOT NULL REFERENCES series(id),
-    problem              TEXT,      -- why figures are missing for this series, if any
+    notes                TEXT,      -- why figures are missing or how they were computed, if unusual
     -- coverage
     n                    INTEGER NOT NULL,
     t_first              INTEGER,
@@ -62,6 +62,7 @@ CREATE TABLE series_summaries (
     trend_p_fdr          REAL,      -- Benjamini–Hochberg adjusted mk_p across the run's series
     -- residual dependence
     resid_acf1           REAL,
+    acf_basis            TEXT,      -- 'time-grid' (lags in sampling steps) or 'reading-order' (irregular times: lags in readings)
     lb_lags              INTEGER,
     lb_df                INTEGER,
     lb_q                 REAL,

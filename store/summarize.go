@@ -64,7 +64,7 @@ type SummarizeResult struct {
 	Selected int
 	Computed int
 	Skipped  int
-	Problems int
+	Noted    int // series with notes (irregular times, short record...)
 	Trending int
 	Elapsed  time.Duration
 }
@@ -193,7 +193,7 @@ func (s *Store) Summarize(ctx context.Context, o SummarizeOptions) (*SummarizeRe
 	adjustFDR(results, o.Model.Alpha)
 	for _, sr := range results {
 		if sr.sum.Problem != "" {
-			res.Problems++
+			res.Noted++
 		}
 		if sr.trendDetected != nil && *sr.trendDetected {
 			res.Trending++
@@ -458,15 +458,15 @@ func (s *Store) writeRun(ctx context.Context, res *SummarizeResult, results []*s
 	}
 	defer tx.Rollback()
 	ins, err := tx.PrepareContext(ctx, `INSERT INTO series_summaries(
-		run_id, series_id, problem, n, t_first, t_last, time_first, time_last, years, step_s, grid_slots, missing_share,
+		run_id, series_id, notes, n, t_first, t_last, time_first, time_last, years, step_s, grid_slots, missing_share,
 		n_qualified, qualifier_counts, mean, unit,
 		trend_model, slope_per_year, slope_se, slope_p, hac_slope_se, hac_lags, hac_p, n_eff, n_eff_p, r2, pct_per_decade,
 		mk_method, mk_s, mk_var_s, mk_z, mk_p, mk_tau, mk_correction_factor,
 		sen_slope_per_year, sen_lower, sen_upper, sen_confidence, trend_p_fdr,
-		resid_acf1, lb_lags, lb_df, lb_q, lb_p,
+		resid_acf1, acf_basis, lb_lags, lb_df, lb_q, lb_p,
 		pettitt_k, pettitt_t_change, pettitt_time_change, pettitt_u, pettitt_p,
 		insufficient_data, trend_detected, residual_dependence, step_change_suspected)
-		VALUES (?,?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?, ?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?,?, ?,?,?,?,?, ?,?,?,?)`)
+		VALUES (?,?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?, ?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?)`)
 	if err != nil {
 		return fmt.Errorf("summarize: prepare: %w", err)
 	}
@@ -516,7 +516,7 @@ func (s *Store) writeRun(ctx context.Context, res *SummarizeResult, results []*s
 			model, f(m.SlopePerYear), f(m.SlopeSE), f(m.SlopeP), f(m.HACSlopeSE), i(m.HACLags), f(m.HACP), f(m.NEff), f(m.NEffP), f(m.R2), f(m.PctPerDecade),
 			mkMethod, f(m.MKS), f(m.MKVarS), f(m.MKZ), f(m.MKP), f(m.MKTau), f(m.MKCorrectionFactor),
 			f(m.SenSlopePerYear), f(m.SenLower), f(m.SenUpper), senConf, f(r.pFDR),
-			f(m.ResidACF1), i(m.LBLags), i(m.LBDF), f(m.LBQ), f(m.LBP),
+			f(m.ResidACF1), nullStr(m.ACFBasis), i(m.LBLags), i(m.LBDF), f(m.LBQ), f(m.LBP),
 			i(m.PettittK), pChange, pTime, f(m.PettittU), f(m.PettittP),
 			b2i(m.InsufficientData), bp(r.trendDetected), bp(m.ResidualDependence), bp(m.StepChangeSuspected),
 		); err != nil {
@@ -535,8 +535,8 @@ func (s *Store) writeRun(ctx context.Context, res *SummarizeResult, results []*s
 			}
 		}
 	}
-	if _, err := tx.ExecContext(ctx, `UPDATE summary_runs SET status = 'ok', finished_at = ?, series_computed = ?, series_skipped = ?, series_with_problems = ? WHERE id = ?`,
-		nowISO(), res.Computed, res.Skipped, res.Problems, res.RunID); err != nil {
+	if _, err := tx.ExecContext(ctx, `UPDATE summary_runs SET status = 'ok', finished_at = ?, series_computed = ?, series_skipped = ?, series_with_notes = ? WHERE id = ?`,
+		nowISO(), res.Computed, res.Skipped, res.Noted, res.RunID); err != nil {
 		return fmt.Errorf("summarize: finish run: %w", err)
 	}
 	if err := tx.Commit(); err != nil {

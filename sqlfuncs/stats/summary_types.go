@@ -60,6 +60,7 @@ type SeriesSummary struct {
 	SenConfidence      float64
 
 	ResidACF1   *float64
+	ACFBasis    string // "time-grid" or "reading-order"
 	LBLags      *int
 	LBDF        *int
 	LBQ, LBP    *float64

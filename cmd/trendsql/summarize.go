@@ -1,0 +1,166 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"os"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+	"github.com/spf13/cobra"
+	"golang.org/x/term"
+
+	"trendsql/sqlfuncs"
+	"trendsql/sqlfuncs/stats"
+	"trendsql/sqlfuncs/timefmt"
+	"trendsql/store"
+)
+
+type summarizeOptions struct {
+	stations, variables []string
+	where               string
+	since, until        string
+	period              string
+	harmonics, seasons  int
+	maxLag, lbLags      int
+	alpha, confidence   float64
+	minN                int
+	changedOnly, wait   bool
+	workers             int
+	quiet               bool
+}
+
+func init() { extraCommands = append(extraCommands, newSummarizeCmd) }
+
+func newSummarizeCmd(e *env) *cobra.Command {
+	o := summarizeOptions{}
+	c := &cobra.Command{
+		Use:   "summarize",
+		Short: "Compute and store per-series trend and dependence summaries (for cron and people)",
+		Long: `Compute one summary row per series — coverage, least-squares trend with an
+optional seasonal model and ordinary and autocorrelation-aware errors, a
+rank-based trend test (seasonal Kendall when --period is given, otherwise
+Mann–Kendall with the Hamed–Rao variance correction), Sen slope with its
+interval, the residual sample ACF and Ljung–Box test, the Pettitt change-point
+test and plain flags — and store them in series_summaries,
+series_correlograms and summary_runs. A run is all-or-nothing.
+
+Exit codes: 0 run stored; 1 run failed (recorded as failed); 2 usage error;
+3 nothing to do (e.g. --changed-only found no changes) or another run holds
+the store and --wait was not given.`,
+		Args: exactArgs(0),
+		RunE: func(cmd *cobra.Command, args []string) error { return runSummarize(cmd, e, o) },
+	}
+	fl := c.Flags()
+	fl.StringSliceVar(&o.stations, "station", nil, "only these station ids (repeat or comma-separate)")
+	fl.StringSliceVar(&o.variables, "variable", nil, "only these variables (repeat or comma-separate)")
+	fl.StringVar(&o.where, "where", "", "extra SQL condition on stations (alias st) and series (alias s), e.g. \"st.metadata->>'aquifer' = 'karst'\"")
+	fl.StringVar(&o.since, "since", "", "only readings at or after this time (ISO 8601, YYYY-MM-DD or unix seconds)")
+	fl.StringVar(&o.until, "until", "", "only readings at or before this time")
+	fl.StringVar(&o.period, "period", "", "seasonal period, e.g. 1y (1y = 365.25 d); empty = no seasonal model")
+	fl.IntVar(&o.harmonics, "harmonics", 2, "sine/cosine pairs of the seasonal model (with --period)")
+	fl.IntVar(&o.seasons, "seasons", 12, "seasons per period for the seasonal Kendall test (with --period)")
+	fl.IntVar(&o.maxLag, "max-lag", 24, "residual correlogram lags to store")
+	fl.IntVar(&o.lbLags, "lb-lags", 0, "Ljung–Box lag on the residuals (0 = min(10, n/5), common practice)")
+	fl.Float64Var(&o.alpha, "alpha", 0.05, "significance level for the flags (trend on the FDR-adjusted p)")
+	fl.Float64Var(&o.confidence, "confidence", 0.95, "confidence level of the Sen slope interval")
+	fl.IntVar(&o.minN, "min-n", 10, "fewest readings for a summary; fewer sets insufficient_data")
+	fl.BoolVar(&o.changedOnly, "changed-only", false, "skip series with no readings imported since their last successful summary with the same parameters")
+	fl.BoolVar(&o.wait, "wait", false, "wait for another running summarize instead of exiting with code 3")
+	fl.IntVar(&o.workers, "workers", 0, "parallel workers (0 = all cores)")
+	fl.BoolVar(&o.quiet, "quiet", false, "no progress bar even on a terminal")
+	return c
+}
+
+func runSummarize(cmd *cobra.Command, e *env, o summarizeOptions) error {
+	model := stats.SummaryOptions{
+		Harmonics: o.harmonics, Seasons: o.seasons, MaxLag: o.maxLag, LBLags: o.lbLags,
+		Alpha: o.alpha, Confidence: o.confidence, MinN: o.minN,
+	}
+	if o.period != "" {
+		p, err := timefmt.ParseDuration(o.period)
+		if err != nil {
+			return usageErr("summarize: --period: %v", err)
+		}
+		model.PeriodS = p
+		if o.harmonics < 1 || o.harmonics > 6 {
+			return usageErr("summarize: --harmonics must be 1..6, got %d", o.harmonics)
+		}
+		if o.seasons < 2 || o.seasons > 366 {
+			return usageErr("summarize: --seasons must be 2..366, got %d", o.seasons)
+		}
+	} else {
+		model.Harmonics, model.Seasons = 0, 0
+	}
+	if o.maxLag < 1 || o.maxLag > 10000 {
+		return usageErr("summarize: --max-lag must be 1..10000, got %d", o.maxLag)
+	}
+	if !(o.alpha > 0 && o.alpha < 1) || !(o.confidence > 0 && o.confidence < 1) {
+		return usageErr("summarize: --alpha and --confidence must be between 0 and 1")
+	}
+	if o.minN < 3 {
+		return usageErr("summarize: --min-n must be at least 3")
+	}
+	opts := store.SummarizeOptions{
+		Stations: o.stations, Variables: o.variables, Where: o.where,
+		Model: model, ChangedOnly: o.changedOnly, Wait: o.wait, Workers: o.workers,
+		ToolVersion: versionString(), Analyze: sqlfuncs.SummarizeSeries,
+	}
+	for _, tv := range []struct {
+		flag string
+		in   string
+		out  **int64
+	}{{"--since", o.since, &opts.Since}, {"--until", o.until, &opts.Until}} {
+		if tv.in == "" {
+			continue
+		}
+		t, err := timefmt.ParseTime(tv.in, time.UTC)
+		if err != nil {
+			return usageErr("summarize: %s: %v", tv.flag, err)
+		}
+		*tv.out = &t
+	}
+	s, err := e.open(cmd.Context(), false)
+	if err != nil {
+		return err
+	}
+	defer s.Close()
+
+	var bar *progressbar.ProgressBar
+	if !o.quiet && isTerminalWriter(e.errw) {
+		opts.Progress = func(done, total int) {
+			if bar == nil {
+				bar = progressbar.NewOptions(total, progressbar.OptionSetWriter(e.errw),
+					progressbar.OptionSetDescription("summarizing"), progressbar.OptionShowCount(),
+					progressbar.OptionClearOnFinish())
+			}
+			bar.Set(done)
+		}
+	}
+	res, err := s.Summarize(cmd.Context(), opts)
+	if bar != nil {
+		bar.Finish()
+	}
+	switch {
+	case errors.Is(err, store.ErrBusy):
+		return &exitError{code: ExitNothing, err: err}
+	case errors.Is(err, store.ErrNothingToDo):
+		fmt.Fprintf(e.errw, "summarize: nothing to do: %d series selected, %d unchanged since their last summary\n", res.Selected, res.Skipped)
+		return &exitError{code: ExitNothing, err: errors.New("nothing to summarize")}
+	case err != nil:
+		if res != nil && res.RunID > 0 {
+			return fmt.Errorf("summarize run %d failed (recorded in summary_runs): %w", res.RunID, err)
+		}
+		return err
+	}
+	fmt.Fprintf(e.errw, "summarize run %d: %d series computed, %d unchanged skipped, %d with notes, %d with a trend at FDR %.2g; %s\n",
+		res.RunID, res.Computed, res.Skipped, res.Noted, res.Trending, o.alpha, res.Elapsed.Round(time.Millisecond))
+	fmt.Fprintln(e.errw, "  (statistical trends are not causal findings; agency procedures and qualified review govern decisions)")
+	return nil
+}
+
+// isTerminalWriter reports whether w is a terminal (progress bars only there).
+func isTerminalWriter(w any) bool {
+	f, ok := w.(*os.File)
+	return ok && term.IsTerminal(int(f.Fd()))
+}
