@@ -31,9 +31,11 @@ package sqlfuncs
 //
 // Semantics are those of regr_slope in regr.go (SQL:2003, rows with a NULL
 // argument ignored, numeric TEXT accepted, non-numeric text or a non-finite
-// value an error naming the function and argument, Welford/Chan co-moment
-// updates, exact inverse for window frames), and TestFastPathMatchesPublic
-// checks the results are bit-for-bit those of the public path.
+// value an error naming the function and argument, the same co-moment state
+// and update/finish arithmetic, exact inverse for window frames), and
+// TestFastPathMatchesPublic checks the results are bit-for-bit those of the
+// public path. If regr.go changes how add/remove drive that state, that test
+// fails until this file follows.
 
 import (
 	"errors"
@@ -185,14 +187,14 @@ func cFunc[T any](f T) uintptr {
 	return *(*uintptr)(unsafe.Pointer(&struct{ f T }{f}))
 }
 
-// fastMoments is the running state in sqlite3_aggregate_context memory
-// (zeroed by SQLite on first use; no Go pointers, so the collector never
-// needs to see it).
-type fastMoments struct {
-	n             int64
-	mx, my        float64
-	sxx, syy, sxy float64
-}
+// The running state is regr.go's comoments itself, placed in
+// sqlite3_aggregate_context memory (zeroed by SQLite on first use). Its only
+// pointer field, the function name, is never set here and stays the empty
+// string (a nil pointer), so that memory holds no Go pointer the collector
+// would need to see. Step, inverse and the result call regr.go's update and
+// finish, so the arithmetic (double-double shifted sums) is shared, not
+// copied.
+type fastMoments = comoments
 
 // at converts an address from SQLite into a Go pointer without a
 // uintptr-to-pointer conversion expression (go vet's unsafeptr check).
@@ -279,16 +281,13 @@ func fastSlopeStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 	if !ok {
 		return
 	}
-	// The same recurrences, in the same order, as comoments.add in regr.go.
+	// The steps of comoments.add in regr.go, without the argument boxing.
+	if c.n == 0 {
+		*c = comoments{x0: x, y0: y}
+	}
 	c.n++
-	n := float64(c.n)
-	dx := x - c.mx
-	dy := y - c.my
-	c.mx += dx / n
-	c.my += dy / n
-	c.sxx += dx * (x - c.mx)
-	c.syy += dy * (y - c.my)
-	c.sxy += dx * (y - c.my)
+	c.update(y, x, 1)
+	c.finish()
 }
 
 func fastSlopeInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
@@ -306,26 +305,14 @@ func fastSlopeInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 	if !ok {
 		return
 	}
-	// comoments.remove in regr.go.
+	// The steps of comoments.remove in regr.go.
 	if c.n <= 1 {
-		*c = fastMoments{}
+		*c = comoments{}
 		return
 	}
 	c.n--
-	n := float64(c.n)
-	dx := x - c.mx
-	dy := y - c.my
-	c.mx -= dx / n
-	c.my -= dy / n
-	c.sxx -= dx * (x - c.mx)
-	c.syy -= dy * (y - c.my)
-	c.sxy -= dx * (y - c.my)
-	if c.sxx < 0 {
-		c.sxx = 0
-	}
-	if c.syy < 0 {
-		c.syy = 0
-	}
+	c.update(y, x, -1)
+	c.finish()
 }
 
 func fastSlopeResult(tls *libc.TLS, ctx uintptr) {
