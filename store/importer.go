@@ -69,6 +69,8 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"sync"
+	"sync/atomic"
 	"time"
 
 	"trendsql/sqlfuncs/timefmt"
@@ -180,14 +182,14 @@ type input struct {
 	abs   string
 	size  int64
 	h     hash.Hash
-	bytes int64
+	bytes atomic.Int64 // written by the reading goroutine, read for progress
 }
 
 func (in *input) Read(p []byte) (int, error) {
 	n, err := in.f.Read(p)
 	if n > 0 {
 		in.h.Write(p[:n])
-		in.bytes += int64(n)
+		in.bytes.Add(int64(n))
 	}
 	return n, err
 }
@@ -250,9 +252,9 @@ func (s *Store) beginBatch(ctx context.Context, kind string, in *input, options 
 func nowText() string { return time.Now().UTC().Format("2006-01-02T15:04:05.000Z") }
 
 // reject records one rejected record.
-func (b *batch) reject(ctx context.Context, rec *csvRecord, reason string) error {
+func (b *batch) reject(ctx context.Context, line int, raw string, reason string) error {
 	b.res.RowsRejected++
-	b.rejects = append(b.rejects, b.res.BatchID, rec.line, capRaw(rec.raw), reason)
+	b.rejects = append(b.rejects, b.res.BatchID, line, capRaw(raw), reason)
 	b.nrej++
 	if b.nrej == rejectsPerInsert {
 		return b.flushRejects(ctx)
@@ -276,7 +278,7 @@ func (b *batch) flushRejects(ctx context.Context) error {
 
 func (b *batch) progress(ctx context.Context) error {
 	if b.prog != nil {
-		b.prog(Progress{Rows: b.res.RowsRead, Bytes: b.in.bytes, TotalBytes: b.in.size})
+		b.prog(Progress{Rows: b.res.RowsRead, Bytes: b.in.bytes.Load(), TotalBytes: b.in.size})
 	}
 	if err := ctx.Err(); err != nil {
 		return fmt.Errorf("import %s: stopped after %d rows, nothing was imported: %w", b.in.name, b.res.RowsRead, err)
@@ -520,6 +522,7 @@ type readingsImporter struct {
 	pending []pendingRow
 	probes  map[*seriesState][]int64
 	found   map[storedKey]storedVal
+	free    chan *parsedChunk
 
 	stFindSeries, stFindStation, stAddStation, stAddSeries, stRange, stSetUnit *sql.Stmt
 }
@@ -633,35 +636,35 @@ func (s *Store) importReadings(ctx context.Context, in *input, opt ReadingsOptio
 	}
 	defer im.closeStmts()
 
-	for {
-		r, err := cr.next()
-		if err != nil {
-			return nil, fmt.Errorf("import %s: read after line %d: %w", in.name, cr.nextLine-1, err)
-		}
-		if r == nil {
-			break
-		}
-		b.res.RowsRead++
-		if b.res.RowsRead%progressEvery == 0 {
-			if err := b.progress(ctx); err != nil {
-				return nil, err
+	// One goroutine reads and parses the file while this one does the
+	// database work; parsed rows pass in chunks, in file order.
+	cols := rowCols{station: iStation, variable: iVar, time: iTime, value: iValue, qualifier: iQual}
+	chunks, stop := im.parseAsync(cr, h, cols)
+	defer stop()
+	for c := range chunks {
+		for i := range c.rows {
+			p := &c.rows[i]
+			b.res.RowsRead++
+			if b.res.RowsRead%progressEvery == 0 {
+				if err := b.progress(ctx); err != nil {
+					return nil, err
+				}
+			}
+			if p.reason == "" {
+				if err := im.accept(ctx, p); err != nil {
+					return nil, err
+				}
+			}
+			if p.reason != "" {
+				if err := b.reject(ctx, p.line, p.raw, p.reason); err != nil {
+					return nil, err
+				}
 			}
 		}
-		if reason := checkWidth(r, h); reason != "" {
-			if err := b.reject(ctx, r, reason); err != nil {
-				return nil, err
-			}
-			continue
+		if c.err != nil {
+			return nil, fmt.Errorf("import %s: read after line %d: %w", in.name, c.errLine, c.err)
 		}
-		reason, err := im.row(ctx, r, iStation, iVar, iTime, iValue, iQual)
-		if err != nil {
-			return nil, err
-		}
-		if reason != "" {
-			if err := b.reject(ctx, r, reason); err != nil {
-				return nil, err
-			}
-		}
+		im.recycle(c)
 	}
 	if err := im.resolve(ctx); err != nil {
 		return nil, err
@@ -728,54 +731,150 @@ func (im *readingsImporter) closeStmts() {
 	}
 }
 
-// row handles one well-formed record; it returns a reject reason, or queues
-// the row.
-func (im *readingsImporter) row(ctx context.Context, r *csvRecord, iStation, iVar, iTime, iValue, iQual int) (string, error) {
-	f := r.fields
-	station := strings.TrimSpace(f[iStation])
-	if station == "" {
-		return "missing station", nil
+// rowCols are the header indexes of the columns a readings import uses
+// (-1: absent).
+type rowCols struct{ station, variable, time, value, qualifier int }
+
+// parsedRow is one record after parsing: either a reject reason or the
+// row's station, variable, time, value and qualifier.
+type parsedRow struct {
+	line              int
+	raw               string
+	reason            string
+	station, variable string
+	t                 int64
+	v                 float64
+	q                 *string
+}
+
+type parsedChunk struct {
+	rows    []parsedRow
+	err     error // a read error after rows
+	errLine int
+}
+
+const chunkRows = 1024
+
+// parseAsync starts the goroutine that reads and parses records. The
+// returned stop function ends it and waits for it; call it before the file
+// is closed.
+func (im *readingsImporter) parseAsync(cr *csvReader, h *header, cols rowCols) (<-chan *parsedChunk, func()) {
+	chunks := make(chan *parsedChunk, 4)
+	im.free = make(chan *parsedChunk, 8)
+	quit := make(chan struct{})
+	var wg sync.WaitGroup
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		defer close(chunks)
+		for {
+			var c *parsedChunk
+			select {
+			case c = <-im.free:
+				c.rows = c.rows[:0]
+			default:
+				c = &parsedChunk{rows: make([]parsedRow, 0, chunkRows)}
+			}
+			end := false
+			for len(c.rows) < chunkRows {
+				r, err := cr.next()
+				if err != nil {
+					c.err, c.errLine, end = err, cr.nextLine-1, true
+					break
+				}
+				if r == nil {
+					end = true
+					break
+				}
+				c.rows = append(c.rows, im.parse(r, h, cols))
+			}
+			select {
+			case chunks <- c:
+			case <-quit:
+				return
+			}
+			if end {
+				return
+			}
+		}
+	}()
+	var once sync.Once
+	return chunks, func() {
+		once.Do(func() {
+			close(quit)
+			wg.Wait()
+		})
 	}
-	variable := im.opt.Variable
-	if iVar >= 0 {
-		if variable = strings.TrimSpace(f[iVar]); variable == "" {
-			return "missing variable", nil
+}
+
+func (im *readingsImporter) recycle(c *parsedChunk) {
+	clear(c.rows) // drop the strings
+	select {
+	case im.free <- c:
+	default:
+	}
+}
+
+// parse checks one record and parses its fields. It touches no database
+// and no importer state, so it runs on the reading goroutine.
+func (im *readingsImporter) parse(r *csvRecord, h *header, c rowCols) parsedRow {
+	p := parsedRow{line: r.line, raw: r.raw}
+	if p.reason = checkWidth(r, h); p.reason != "" {
+		return p
+	}
+	f := r.fields
+	if p.station = strings.TrimSpace(f[c.station]); p.station == "" {
+		p.reason = "missing station"
+		return p
+	}
+	p.variable = im.opt.Variable
+	if c.variable >= 0 {
+		if p.variable = strings.TrimSpace(f[c.variable]); p.variable == "" {
+			p.reason = "missing variable"
+			return p
 		}
 	}
-	if strings.TrimSpace(f[iTime]) == "" {
-		return "missing time", nil
+	if strings.TrimSpace(f[c.time]) == "" {
+		p.reason = "missing time"
+		return p
 	}
-	t, err := timefmt.ParseTime(f[iTime], im.loc)
+	var err error
+	if p.t, err = timefmt.ParseTime(f[c.time], im.loc); err != nil {
+		p.reason = "bad time: " + err.Error()
+		return p
+	}
+	if p.v, p.reason = parseValue(f[c.value], im.opt.DecimalComma); p.reason != "" {
+		return p
+	}
+	if c.qualifier >= 0 && f[c.qualifier] != "" {
+		q := f[c.qualifier]
+		p.q = &q
+	}
+	return p
+}
+
+// accept takes a parsed row into its series; it sets p.reason when the
+// row is rejected there (unit conflict), else queues the row.
+func (im *readingsImporter) accept(ctx context.Context, p *parsedRow) error {
+	ss, err := im.series(ctx, p.station, p.variable)
 	if err != nil {
-		return "bad time: " + err.Error(), nil
-	}
-	v, reason := parseValue(f[iValue], im.opt.DecimalComma)
-	if reason != "" {
-		return reason, nil
-	}
-	var q *string
-	if iQual >= 0 && f[iQual] != "" {
-		s := f[iQual]
-		q = &s
-	}
-	ss, err := im.series(ctx, station, variable)
-	if err != nil {
-		return "", err
+		return err
 	}
 	if ss.reject != "" {
-		return ss.reject, nil
+		p.reason = ss.reject
+		return nil
 	}
-	p := pendingRow{ser: ss, t: t, v: v, q: q, line: r.line}
-	p.dupLine = ss.seen.add(t, r.line)
-	if p.dupLine == 0 && ss.hasStored && t >= ss.smin && t <= ss.smax {
-		p.probe = true
-		im.probes[ss] = append(im.probes[ss], t)
+	pr := pendingRow{ser: ss, t: p.t, v: p.v, q: p.q, line: p.line}
+	pr.dupLine = ss.seen.add(p.t, p.line)
+	if pr.dupLine == 0 && ss.hasStored && p.t >= ss.smin && p.t <= ss.smax {
+		pr.probe = true
+		im.probes[ss] = append(im.probes[ss], p.t)
 	}
-	im.pending = append(im.pending, p)
+	im.pending = append(im.pending, pr)
 	if len(im.pending) >= pendingRows {
-		return "", im.resolve(ctx)
+		return im.resolve(ctx)
 	}
-	return "", nil
+	return nil
 }
 
 // series finds or creates the series of (station, variable).

@@ -137,7 +137,7 @@ func (s *Store) importStations(ctx context.Context, in *input, opt StationsOptio
 			}
 		}
 		if reason != "" {
-			if err := b.reject(ctx, r, reason); err != nil {
+			if err := b.reject(ctx, r.line, r.raw, reason); err != nil {
 				return nil, err
 			}
 		}
