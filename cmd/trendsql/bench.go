@@ -10,6 +10,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"trendsql/sqlfuncs"
 	"trendsql/sqlfuncs/stats"
 	"trendsql/store"
 )
@@ -68,9 +69,9 @@ comparisons on a kept directory. --db is ignored.`,
 	return c
 }
 
-// benchAnalyzer is the per-series analyzer of the measured summarize run
-// (sqlfuncs.SummarizeSeries once it exists); nil reports "not available".
-var benchAnalyzer func(t, y []float64, o stats.SummaryOptions) stats.SeriesSummary
+// benchAnalyzer is the per-series analyzer of the measured summarize run,
+// the one `trendsql summarize` uses; nil would report "not available".
+var benchAnalyzer func(t, y []float64, o stats.SummaryOptions) stats.SeriesSummary = sqlfuncs.SummarizeSeries
 
 func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
 	if o.format != FormatTable && o.format != FormatJSON {

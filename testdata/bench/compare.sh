@@ -53,7 +53,7 @@ ROWS=$("$SQLITE3" "$DB" "SELECT count(*) FROM readings")
 
 has_cmd() { "$TRENDSQL" "$1" --help >/dev/null 2>&1; }
 has_fn() { "$TRENDSQL" functions 2>/dev/null | grep -q "^$1("; }
-HAVE_IMPORT=no; has_cmd import && HAVE_IMPORT=yes
+HAVE_IMPORT=no; "$TRENDSQL" import readings --help >/dev/null 2>&1 && HAVE_IMPORT=yes
 HAVE_SUMMARIZE=no; has_cmd summarize && HAVE_SUMMARIZE=yes
 HAVE_COMBINED=yes
 for f in trend_slope correlogram ljung_box; do has_fn $f || HAVE_COMBINED=no; done
@@ -95,7 +95,7 @@ while [ "$rep" -le "$REPS" ]; do
 	[ "$n" = "$ROWS" ] || { echo "$0: shell import stored $n rows, expected $ROWS" >&2; exit 1; }
 	if [ $HAVE_IMPORT = yes ]; then
 		rm -f "$DIR/ts-import.db" "$DIR/ts-import.db-wal" "$DIR/ts-import.db-shm"
-		run "trendsql import" sh -c '"$1" init --db "$2" && exec "$1" import --db "$2" --variable level --unit m "$3"' _ "$TRENDSQL" "$DIR/ts-import.db" "$CSV"
+		run "trendsql import" sh -c '"$1" init --db "$2" && exec "$1" import readings --db "$2" --variable level --unit m "$3"' _ "$TRENDSQL" "$DIR/ts-import.db" "$CSV"
 	fi
 	run "sqlite3 shell avg() scan" "$SQLITE3" "$DB" "$SCAN"
 	run "trendsql query avg() scan" "$TRENDSQL" query --db "$DB" --format csv "$SCAN"
