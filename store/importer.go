@@ -524,7 +524,7 @@ type readingsImporter struct {
 	found   map[storedKey]storedVal
 	free    chan *parsedChunk
 
-	stFindSeries, stFindStation, stAddStation, stAddSeries, stRange, stSetUnit *sql.Stmt
+	stFindSeries, stFindStation, stAddStation, stAddSeries, stRange, stSetUnit, stProbeRange *sql.Stmt
 }
 
 // readingsOptionsRecord is the options JSON of a readings batch.
@@ -713,6 +713,7 @@ func (im *readingsImporter) prepare(ctx context.Context) error {
 		// Two sub-queries, so each is a single index probe.
 		{&im.stRange, `SELECT (SELECT min(t) FROM readings WHERE series_id = ?1), (SELECT max(t) FROM readings WHERE series_id = ?1)`},
 		{&im.stSetUnit, `UPDATE series SET unit = ? WHERE id = ?`},
+		{&im.stProbeRange, `SELECT t, value, qualifier FROM readings WHERE series_id = ? AND t BETWEEN ? AND ? ORDER BY t LIMIT ?`},
 	} {
 		st, err := im.tx.PrepareContext(ctx, p.q)
 		if err != nil {
@@ -724,7 +725,7 @@ func (im *readingsImporter) prepare(ctx context.Context) error {
 }
 
 func (im *readingsImporter) closeStmts() {
-	for _, st := range []*sql.Stmt{im.stFindSeries, im.stFindStation, im.stAddStation, im.stAddSeries, im.stRange, im.stSetUnit} {
+	for _, st := range []*sql.Stmt{im.stFindSeries, im.stFindStation, im.stAddStation, im.stAddSeries, im.stRange, im.stSetUnit, im.stProbeRange} {
 		if st != nil {
 			st.Close()
 		}
@@ -945,12 +946,8 @@ func (im *readingsImporter) series(ctx context.Context, station, variable string
 // resolve checks the pending rows against stored readings and writes them.
 func (im *readingsImporter) resolve(ctx context.Context) error {
 	for ss, ts := range im.probes {
-		for len(ts) > 0 {
-			n := min(len(ts), 500)
-			if err := im.lookupStored(ctx, ss.id, ts[:n]); err != nil {
-				return err
-			}
-			ts = ts[n:]
+		if err := im.lookupStored(ctx, ss.id, ts); err != nil {
+			return err
 		}
 	}
 	clear(im.probes)
@@ -1002,26 +999,57 @@ func (im *readingsImporter) resolve(ctx context.Context) error {
 	return nil
 }
 
+// lookupStored puts the stored readings of series sid at the times ts into
+// im.found. It first reads the stored readings in the range of ts, which is
+// one index walk when the file overlaps stored data densely (a re-import);
+// when that range holds many more stored readings than ts has times, it
+// asks for the times one list at a time instead.
 func (im *readingsImporter) lookupStored(ctx context.Context, sid int64, ts []int64) error {
-	args := make([]any, 0, len(ts)+1)
-	args = append(args, sid)
+	lo, hi := ts[0], ts[0]
 	for _, t := range ts {
-		args = append(args, t)
+		lo, hi = min(lo, t), max(hi, t)
 	}
-	q := "SELECT t, value, qualifier FROM readings WHERE series_id = ? AND t IN (" +
-		strings.TrimSuffix(strings.Repeat("?,", len(ts)), ",") + ")"
-	rows, err := im.tx.QueryContext(ctx, q, args...)
+	limit := 2*len(ts) + 64
+	rows, err := im.stProbeRange.QueryContext(ctx, sid, lo, hi, limit)
 	if err != nil {
 		return fmt.Errorf("import %s: look up stored readings: %w", im.in.name, err)
 	}
+	n, err := im.scanStored(sid, rows)
+	if err != nil || n < limit {
+		return err
+	}
+	for len(ts) > 0 {
+		k := min(len(ts), 500)
+		args := make([]any, 0, k+1)
+		args = append(args, sid)
+		for _, t := range ts[:k] {
+			args = append(args, t)
+		}
+		q := "SELECT t, value, qualifier FROM readings WHERE series_id = ? AND t IN (" +
+			strings.TrimSuffix(strings.Repeat("?,", k), ",") + ")"
+		rows, err := im.tx.QueryContext(ctx, q, args...)
+		if err != nil {
+			return fmt.Errorf("import %s: look up stored readings: %w", im.in.name, err)
+		}
+		if _, err := im.scanStored(sid, rows); err != nil {
+			return err
+		}
+		ts = ts[k:]
+	}
+	return nil
+}
+
+func (im *readingsImporter) scanStored(sid int64, rows *sql.Rows) (int, error) {
 	defer rows.Close()
+	n := 0
 	for rows.Next() {
 		var t int64
 		var sv storedVal
 		if err := rows.Scan(&t, &sv.v, &sv.q); err != nil {
-			return err
+			return n, fmt.Errorf("import %s: look up stored readings: %w", im.in.name, err)
 		}
 		im.found[storedKey{sid, t}] = sv
+		n++
 	}
-	return rows.Err()
+	return n, rows.Err()
 }

@@ -894,3 +894,33 @@ func BenchmarkImportReadings(b *testing.B) {
 	}
 	b.ReportMetric(float64(rows*b.N)/b.Elapsed().Seconds(), "rows/s")
 }
+
+func TestImportSparseOverlap(t *testing.T) {
+	// A few rows inside a long stored range: the range read would fetch far
+	// more stored readings than the file has rows, so the lookup goes by
+	// exact times instead; both duplicates and the new in-between time must
+	// be classified right.
+	ctx := context.Background()
+	s := openTestStore(t)
+	if _, err := s.ImportReadings(ctx, bigReadings(t, 12000), ReadingsOptions{Variable: "stage"}); err != nil {
+		t.Fatal(err)
+	}
+	p := filepath.Join(t.TempDir(), "sparse.csv")
+	// bigReadings starts at 2010-01-01T00:00:00Z, hourly, 1200 rows per station.
+	text := "station,time,value\nS00,2010-01-01T00:00:00Z,-1\nS00,2010-01-21T00:30:00Z,-2\nS00,2010-02-19T23:00:00Z,-3\n"
+	if err := os.WriteFile(p, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	res, err := s.ImportReadings(ctx, p, ReadingsOptions{Variable: "stage", OnDuplicate: DupKeepFirst})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkCounts(t, s, res, counts{read: 3, stored: 1, dup: 2})
+	if n := count(t, s, `SELECT count(*) FROM readings_view WHERE value < 0`); n != 1 {
+		t.Errorf("%d negative values stored, want 1 (the new half-hour reading)", n)
+	}
+	_, err = s.ImportReadings(ctx, p, ReadingsOptions{Variable: "stage"})
+	if !errors.Is(err, ErrDuplicate) || !strings.Contains(err.Error(), "sparse.csv line 2") {
+		t.Errorf("err = %v, want a duplicate on line 2", err)
+	}
+}
