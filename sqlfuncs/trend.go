@@ -163,8 +163,7 @@ func parseTrendSpec(fn, spec string) (stats.TrendSpec, error) {
 
 // jsonObj writes a JSON object with keys in insertion order.
 type jsonObj struct {
-	b     strings.Builder
-	first bool
+	b strings.Builder
 }
 
 func (o *jsonObj) key(k string) {
@@ -307,12 +306,14 @@ func parseTrendModel(text string) (*trendModel, error) {
 	return m, nil
 }
 
-// A one-entry cache: trend_value is usually called on every row with the
-// same model text.
+// Parsed models by text: trend_value is usually called on every row with a
+// few distinct models (one per station). The cache is cleared when it holds
+// modelCacheMax entries.
+const modelCacheMax = 256
+
 var modelCache struct {
 	sync.Mutex
-	text  string
-	model *trendModel
+	m map[string]*trendModel
 }
 
 func modelArg(fn string, v driver.Value) (*trendModel, error) {
@@ -321,18 +322,20 @@ func modelArg(fn string, v driver.Value) (*trendModel, error) {
 		return nil, err
 	}
 	modelCache.Lock()
-	if modelCache.model != nil && modelCache.text == text {
-		m := modelCache.model
-		modelCache.Unlock()
+	m, ok := modelCache.m[text]
+	modelCache.Unlock()
+	if ok {
 		return m, nil
 	}
-	modelCache.Unlock()
-	m, err := parseTrendModel(text)
+	m, err = parseTrendModel(text)
 	if err != nil {
 		return nil, fmt.Errorf("%s: argument model %s: %v", fn, describe(v), err)
 	}
 	modelCache.Lock()
-	modelCache.text, modelCache.model = text, m
+	if modelCache.m == nil || len(modelCache.m) >= modelCacheMax {
+		modelCache.m = map[string]*trendModel{}
+	}
+	modelCache.m[text] = m
 	modelCache.Unlock()
 	return m, nil
 }
