@@ -51,7 +51,7 @@ type comoments struct {
 	x0, y0        float64 // shift: the first pair added since the state was empty
 	sd, se        dd      // Σd, Σe
 	sdd, see, sde dd      // Σd², Σe², Σde
-	mx, my        float64 // derived by finish()
+	mx, my        float64 // derived by finish(), called before every value
 	sxx, syy, sxy float64
 }
 
@@ -86,7 +86,6 @@ func (c *comoments) add(args []driver.Value) error {
 	}
 	c.n++
 	c.update(y, x, 1)
-	c.finish()
 	return nil
 }
 
@@ -101,7 +100,6 @@ func (c *comoments) remove(args []driver.Value) error {
 	}
 	c.n--
 	c.update(y, x, -1)
-	c.finish()
 	return nil
 }
 
@@ -186,7 +184,10 @@ type regrFunc struct {
 	result func(c *comoments) driver.Value
 }
 
-func (r *regrFunc) value() (driver.Value, error) { return r.result(&r.comoments), nil }
+func (r *regrFunc) value() (driver.Value, error) {
+	r.finish()
+	return r.result(&r.comoments), nil
+}
 
 func init() {
 	type def struct {
