@@ -59,10 +59,12 @@ type senData struct {
 	rng    *rand.Rand
 
 	// scratch
-	key, mag []float64
-	tmp      []int32
-	items    []keyItem
-	perms    map[permKey][]int32
+	key, mag  []float64
+	tmp       []int32
+	items     []keyItem
+	radixKeys []uint64
+	radixIdx  []int32
+	perms     map[permKey][]int32
 	// resolved
 	tieBlocks []tieBlock
 	enumBase  int64
@@ -160,14 +162,7 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 		for i := range items {
 			items[i] = keyItem{d.key[lo+i], int32(lo + i)}
 		}
-		slices.SortFunc(items, func(a, b keyItem) int {
-			if a.k < b.k {
-				return -1
-			} else if a.k > b.k {
-				return 1
-			}
-			return int(a.i - b.i)
-		})
+		d.sortKeys(items)
 		seg := perm[lo:hi]
 		for i := range items {
 			seg[i] = items[i].i
@@ -211,6 +206,70 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 type keyItem struct {
 	k float64
 	i int32
+}
+
+// sortKeys sorts items by k, equal keys by i (items arrive in i order): an
+// LSD radix sort on the order-preserving bit pattern of k for long blocks
+// (stable, so equal keys keep their index order), pdqsort otherwise.
+func (d *senData) sortKeys(items []keyItem) {
+	n := len(items)
+	if n < 4096 {
+		slices.SortFunc(items, func(a, b keyItem) int {
+			if a.k < b.k {
+				return -1
+			} else if a.k > b.k {
+				return 1
+			}
+			return int(a.i - b.i)
+		})
+		return
+	}
+	if cap(d.radixKeys) < 2*n {
+		d.radixKeys = make([]uint64, 2*n)
+		d.radixIdx = make([]int32, 2*n)
+	}
+	ka, kb := d.radixKeys[:n], d.radixKeys[n:2*n]
+	ia, ib := d.radixIdx[:n], d.radixIdx[n:2*n]
+	for j, it := range items {
+		u := math.Float64bits(it.k + 0) // +0 turns −0 into +0
+		if u>>63 == 1 {
+			u = ^u
+		} else {
+			u |= 1 << 63
+		}
+		ka[j], ia[j] = u, it.i
+	}
+	var count [1 << 16]int
+	for shift := uint(0); shift < 64; shift += 16 {
+		clear(count[:])
+		for _, u := range ka {
+			count[(u>>shift)&0xffff]++
+		}
+		if count[(ka[0]>>shift)&0xffff] == n {
+			continue // every key has this digit
+		}
+		sum := 0
+		for b, c := range count {
+			count[b] = sum
+			sum += c
+		}
+		for j, u := range ka {
+			b := (u >> shift) & 0xffff
+			kb[count[b]], ib[count[b]] = u, ia[j]
+			count[b]++
+		}
+		ka, kb = kb, ka
+		ia, ib = ib, ia
+	}
+	for j := range items {
+		u := ka[j]
+		if u>>63 == 1 {
+			u &^= 1 << 63
+		} else {
+			u = ^u
+		}
+		items[j] = keyItem{math.Float64frombits(u), ia[j]}
+	}
 }
 
 // countInversions32 returns the number of pairs i < j with a[i] > a[j]
@@ -459,20 +518,89 @@ func (d *senData) enumerateBetween(lo, hi cut, capHint int64) []slopeRef {
 	return out
 }
 
-// sortSlopes sorts pairs by exact slope.
+type slopeItem struct {
+	f float64
+	r slopeRef
+}
+
+// sortSlopes sorts pairs by exact slope: by the floating-point estimates
+// first, then runs of neighbours too close to call (gap ≤ 8u(|f_a| + |f_b|);
+// estimates carry at most 3u relative error and their signs are exact, so
+// neighbours farther apart are in the exact order, and so is every pair
+// separated by such a gap) are re-sorted with the exact comparator.
 func (d *senData) sortSlopes(ps []slopeRef) {
-	type item struct {
-		f float64
-		r slopeRef
+	it := d.floatSortSlopes(ps)
+	for i := 0; i < len(it); {
+		j := i + 1
+		for j < len(it) && it[j].f-it[j-1].f <= 8*epsU*(math.Abs(it[j].f)+math.Abs(it[j-1].f))+1e-300 {
+			j++
+		}
+		if j-i > 1 {
+			slices.SortFunc(it[i:j], func(a, b slopeItem) int { return d.cmpSlopes(a.r, b.r, a.f, b.f) })
+		}
+		i = j
 	}
-	it := make([]item, len(ps))
-	for i, p := range ps {
-		it[i] = item{d.slopeF(p), p}
-	}
-	slices.SortFunc(it, func(a, b item) int { return d.cmpSlopes(a.r, b.r, a.f, b.f) })
 	for i := range it {
 		ps[i] = it[i].r
 	}
+}
+
+// selectItem partially orders it by f (quickselect) and returns the
+// element of rank k (0-based).
+func selectItem(it []slopeItem, k int) slopeItem {
+	lo, hi := 0, len(it)-1
+	x := uint64(0x9e3779b97f4a7c15)
+	for lo < hi {
+		x ^= x << 13
+		x ^= x >> 7
+		x ^= x << 17
+		p := it[lo+int(x%uint64(hi-lo+1))].f
+		i, j := lo, hi
+		for i <= j {
+			for it[i].f < p {
+				i++
+			}
+			for it[j].f > p {
+				j--
+			}
+			if i <= j {
+				it[i], it[j] = it[j], it[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return it[k]
+		}
+	}
+	return it[k]
+}
+
+// floatSortSlopes sorts pairs by their floating-point slope estimates only
+// (enough for choosing sample quantiles, whose exact values are then
+// evaluated exactly).
+func (d *senData) floatSortSlopes(ps []slopeRef) []slopeItem {
+	it := make([]slopeItem, len(ps))
+	for i, p := range ps {
+		it[i] = slopeItem{d.slopeF(p), p}
+	}
+	slices.SortFunc(it, func(a, b slopeItem) int {
+		if a.f < b.f {
+			return -1
+		} else if a.f > b.f {
+			return 1
+		}
+		return 0
+	})
+	for i := range it {
+		ps[i] = it[i].r
+	}
+	return it
 }
 
 // selectRank returns a pair whose slope is the k-th smallest (1 ≤ k ≤ pairs).
@@ -527,24 +655,29 @@ func (d *senData) selectRank(k int64, cache *[]cut) slopeRef {
 		}
 		m := int(min(int64(mSample), T))
 		sample := d.sampleBetween(lo, hi, m)
-		d.sortSlopes(sample)
-		m = len(sample)
+		it := make([]slopeItem, len(sample))
+		for i, p := range sample {
+			it[i] = slopeItem{d.slopeF(p), p}
+		}
+		m = len(it)
 		f := float64(k-lo.count) / float64(T)
 		idx := f*float64(m) - 0.5
 		delta := 3*math.Sqrt(float64(m)) + 1
 		li := int(math.Floor(idx - delta))
 		ui := int(math.Ceil(idx + delta))
+		// Only two sample quantiles are needed (by floating-point slope; the
+		// chosen pairs are then evaluated exactly), so select, don't sort.
 		tried := false
 		if li >= 0 && li < m {
-			try(sample[li])
+			try(selectItem(it, li).r)
 			tried = true
 		}
 		if found == nil && ui < m && ui >= 0 {
-			try(sample[ui])
+			try(selectItem(it, ui).r)
 			tried = true
 		}
 		if !tried {
-			try(sample[m/2])
+			try(selectItem(it, m/2).r)
 		}
 	}
 	return *found
