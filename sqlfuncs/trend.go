@@ -77,7 +77,14 @@ package sqlfuncs
 //	                               when n_eff ≤ p
 //
 // For a constant y every coefficient but c_0 is exactly 0, se and sigma are
-// 0, slope_p/hac_p are null (0/0) and r2 and resid_acf1 are null.
+// 0, slope_p/hac_p are null (0/0) and r2, resid_acf1, n_eff are null.
+//
+// Reading the significance fields. slope_p assumes independent errors;
+// hac_p is consistent under weak serial dependence of unknown form; n_eff_p
+// is the correction appropriate when the residuals follow an AR(1) model.
+// All three, and resid_acf1, count lags in rows of the time-ordered series:
+// a gap in the record is treated as if the rows were adjacent, so they are
+// meant for (roughly) regularly sampled series.
 //
 // trend_slope(t, y) is the shortcut for trend_fit(t, y) ->> 'slope_per_year'
 // (same NULL rules, same ties error); it keeps the (t, y) buffer like

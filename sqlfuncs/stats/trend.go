@@ -100,7 +100,7 @@ type TrendModel struct {
 	HACSlopeSE float64 // Newey–West, Bartlett weights, factor n/(n−p)
 	HACP       float64 // two-sided, Student t with DFResid df
 
-	NEff  float64 // n(1−ρ̂₁)/(1+ρ̂₁), = n when ρ̂₁ ≤ 0; NaN when ρ̂₁ is NaN
+	NEff  float64 // n(1−ρ̂₁)/(1+ρ̂₁) (effective size under an AR(1) residual model), = n when ρ̂₁ ≤ 0; NaN when ρ̂₁ is NaN
 	NEffP float64 // slope p-value with n_eff (see FitTrend); NaN when n_eff ≤ p
 }
 
