@@ -110,3 +110,39 @@ func TestSenSelectionMatchesBruteForce(t *testing.T) {
 		}
 	}
 }
+
+// TestSenBlocksMatchBruteForce checks the selection over the union of
+// within-block pairs (the seasonal Sen slope) against the sorted list of
+// every within-block slope, with blocks large enough to need sampling.
+func TestSenBlocksMatchBruteForce(t *testing.T) {
+	rng := rand.New(rand.NewPCG(21, 22))
+	for _, tc := range []struct{ n, blocks int }{{50, 3}, {400, 12}, {1200, 4}, {2400, 12}, {900, 1}} {
+		for kind := 0; kind < 6; kind += 2 {
+			tt, yy := randSeries(rng, tc.n, kind)
+			// assign points to blocks round-robin (like seasons), keep time order within blocks
+			var bt, by []float64
+			blocks := []int{0}
+			for b := 0; b < tc.blocks; b++ {
+				for i := b; i < tc.n; i += tc.blocks {
+					bt = append(bt, tt[i])
+					by = append(by, yy[i])
+				}
+				blocks = append(blocks, len(bt))
+			}
+			d, order := bruteOrder(bt, by, blocks)
+			N := int64(len(order))
+			fast := newSenData(bt, by, blocks)
+			if fast.pairs != N {
+				t.Fatalf("pairs %d, brute %d", fast.pairs, N)
+			}
+			var cache []cut
+			for _, k := range []int64{1, N, (N + 1) / 2, N/2 + 1, 1 + rng.Int64N(N)} {
+				got := fast.selectRank(k, &cache)
+				want := order[k-1]
+				if d.cmpSlopes(got, want, d.slopeF(got), d.slopeF(want)) != 0 {
+					t.Fatalf("n=%d blocks=%d kind=%d rank %d: %v vs brute %v", tc.n, tc.blocks, kind, k, d.slopeF(got), d.slopeF(want))
+				}
+			}
+		}
+	}
+}
