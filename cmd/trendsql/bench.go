@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"runtime/pprof"
 	"strings"
 	"time"
 
@@ -20,6 +21,7 @@ type benchOptions struct {
 	dir                      string
 	keep, quiet, direct      bool
 	format, jsonFile         string
+	cpuProfile               string
 	seed                     uint64
 	timeout                  time.Duration
 }
@@ -62,6 +64,7 @@ comparisons on a kept directory. --db is ignored.`,
 	fl.BoolVar(&o.keep, "keep", false, "keep readings.csv and bench.db in the working directory")
 	fl.StringVar(&o.format, "format", FormatTable, "output format: table or json")
 	fl.StringVar(&o.jsonFile, "json", "", "also write the JSON report to this file")
+	fl.StringVar(&o.cpuProfile, "cpuprofile", "", "write a CPU profile of the whole run to this file (go tool pprof)")
 	fl.Uint64Var(&o.seed, "seed", 1, "generator seed")
 	fl.DurationVar(&o.timeout, "item-timeout", 10*time.Minute, "cancel a repetition that runs longer than this and mark the item timed out")
 	fl.BoolVar(&o.quiet, "quiet", false, "no progress lines on stderr")
@@ -98,6 +101,17 @@ func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
 	}
 	if !o.quiet {
 		opts.Log = e.errw
+	}
+	if o.cpuProfile != "" {
+		f, err := os.Create(o.cpuProfile)
+		if err != nil {
+			return fmt.Errorf("bench: %w", err)
+		}
+		defer f.Close()
+		if err := pprof.StartCPUProfile(f); err != nil {
+			return fmt.Errorf("bench: %w", err)
+		}
+		defer pprof.StopCPUProfile()
 	}
 	rep, err := store.RunBench(cmd.Context(), opts)
 	if !o.keep {
