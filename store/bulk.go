@@ -98,15 +98,22 @@ func (w *ReadingWriter) Add(ctx context.Context, r Reading) error {
 // number of rows the inserts affected in total.
 func (w *ReadingWriter) Flush(ctx context.Context) (int64, error) {
 	defer w.full.Close()
+	err := w.Sync(ctx)
+	return w.stored, err
+}
+
+// Sync writes any queued rows now, so that queries in the same transaction
+// see them; the writer stays usable.
+func (w *ReadingWriter) Sync(ctx context.Context) error {
 	if w.n > 0 {
 		res, err := w.tx.ExecContext(ctx, insertSQL(w.conflict, w.n), w.buf...)
 		if err != nil {
-			return w.stored, fmt.Errorf("insert readings: %w", err)
+			return fmt.Errorf("insert readings: %w", err)
 		}
 		k, _ := res.RowsAffected()
 		w.stored += k
 		w.buf = w.buf[:0]
 		w.n = 0
 	}
-	return w.stored, nil
+	return nil
 }

@@ -44,9 +44,12 @@ package store
 //     earlier in the same file, is a duplicate. OnDuplicate "error" (the
 //     default) fails the whole import naming both places; "keep-first" keeps
 //     the reading that was there first and counts the row as duplicate;
-//     "replace" overwrites it and counts the row as duplicate and replaced.
+//     "replace" counts the row as duplicate and, when its value or qualifier
+//     differs from the reading there, overwrites that reading and counts
+//     the row as replaced too (re-importing an unchanged file with replace
+//     therefore replaces nothing and marks no series as changed).
 //   - series_batches gets one row per series whose readings this batch
-//     wrote (stored or replaced), with that number of rows.
+//     changed (stored or replaced), with that number of rows.
 //
 // Stations (ImportStations): see ImportStations.
 //
@@ -83,7 +86,7 @@ type OnDuplicate string
 const (
 	DupError     OnDuplicate = "error"      // fail the whole import, change nothing
 	DupKeepFirst OnDuplicate = "keep-first" // keep the earlier reading, count the row as duplicate
-	DupReplace   OnDuplicate = "replace"    // overwrite, count the row as duplicate and replaced
+	DupReplace   OnDuplicate = "replace"    // overwrite a differing reading; count duplicate (and replaced if it differed)
 )
 
 // ParseOnDuplicate checks an OnDuplicate name; "" means DupError.
@@ -945,13 +948,33 @@ func (im *readingsImporter) series(ctx context.Context, station, variable string
 
 // resolve checks the pending rows against stored readings and writes them.
 func (im *readingsImporter) resolve(ctx context.Context) error {
+	mode := im.opt.OnDuplicate
+	if len(im.pending) == 0 {
+		return nil
+	}
+	first := im.pending[0].line
+	if mode == DupReplace {
+		// A repeat of a row from an earlier chunk is compared with what the
+		// store now holds for it, so the queued rows must be written first.
+		needSync := false
+		for i := range im.pending {
+			if p := &im.pending[i]; p.dupLine != 0 && p.dupLine < first {
+				im.probes[p.ser] = append(im.probes[p.ser], p.t)
+				needSync = true
+			}
+		}
+		if needSync {
+			if err := im.w.Sync(ctx); err != nil {
+				return fmt.Errorf("import %s: %w", im.in.name, err)
+			}
+		}
+	}
 	for ss, ts := range im.probes {
 		if err := im.lookupStored(ctx, ss.id, ts); err != nil {
 			return err
 		}
 	}
 	clear(im.probes)
-	mode := im.opt.OnDuplicate
 	for i := range im.pending {
 		p := &im.pending[i]
 		ss := p.ser
@@ -979,9 +1002,12 @@ func (im *readingsImporter) resolve(ctx context.Context) error {
 		}
 		if dup {
 			im.res.RowsDuplicate++
-			if mode == DupKeepFirst {
+			switch {
+			case mode == DupKeepFirst:
 				write = false
-			} else {
+			case im.unchanged(i):
+				write = false // replace with the very same reading: nothing to do
+			default:
 				im.res.RowsReplaced++
 			}
 		} else {
@@ -997,6 +1023,36 @@ func (im *readingsImporter) resolve(ctx context.Context) error {
 	im.pending = im.pending[:0]
 	clear(im.found)
 	return nil
+}
+
+// unchanged reports whether duplicate row i carries the same value and
+// qualifier as the reading it would replace: the latest earlier row of this
+// chunk with the same series and time, else what the store holds.
+func (im *readingsImporter) unchanged(i int) bool {
+	p := &im.pending[i]
+	if p.dupLine != 0 {
+		for j := i - 1; j >= 0; j-- {
+			if q := &im.pending[j]; q.ser == p.ser && q.t == p.t {
+				return q.v == p.v && sameQualifier(q.q, p.q)
+			}
+		}
+	}
+	sv, ok := im.found[storedKey{p.ser.id, p.t}]
+	if !ok {
+		return false
+	}
+	var q *string
+	if sv.q.Valid {
+		q = &sv.q.String
+	}
+	return sv.v == p.v && sameQualifier(q, p.q)
+}
+
+func sameQualifier(a, b *string) bool {
+	if a == nil || b == nil {
+		return a == nil && b == nil
+	}
+	return *a == *b
 }
 
 // lookupStored puts the stored readings of series sid at the times ts into

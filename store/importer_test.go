@@ -537,15 +537,17 @@ func TestImportDuplicatesAgainstStored(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		checkCounts(t, s, res, counts{read: 4, stored: 2, dup: 2, replaced: 2})
+		// Line 2 equals the stored reading (duplicate only), line 3 differs
+		// (duplicate and replaced).
+		checkCounts(t, s, res, counts{read: 4, stored: 2, dup: 2, replaced: 1})
 		want := append([]reading(nil), goodReadings[:2]...)
 		want = append(want, reading{"G1", "stage", 1609466400, 1.8, "<nil>"}, reading{"G1", "stage", 1609473600, 2, "<nil>"})
 		want = append(want, goodReadings[3:]...)
 		want = append(want, reading{"G3", "stage", 1609459200, 7, "<nil>"})
 		checkReadings(t, s, want)
-		// G1 got 1 new and 2 replaced rows in this batch, G3 one new row.
-		if n := count(t, s, `SELECT sum(rows) FROM series_batches WHERE batch_id = ?`, res.BatchID); n != 4 {
-			t.Errorf("series_batches rows = %d, want 4", n)
+		// G1 got 1 new and 1 replaced row in this batch, G3 one new row.
+		if n := count(t, s, `SELECT sum(rows) FROM series_batches WHERE batch_id = ?`, res.BatchID); n != 3 {
+			t.Errorf("series_batches rows = %d, want 3", n)
 		}
 	})
 }
@@ -580,7 +582,12 @@ func TestImportSameFileAgain(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 6, dup: 6, replaced: 6})
+	// Replacing readings by identical ones changes nothing and marks no
+	// series as changed.
+	checkCounts(t, s, res, counts{read: 6, dup: 6, replaced: 0})
+	if res.SeriesWritten != 0 {
+		t.Errorf("series written %d, want 0", res.SeriesWritten)
+	}
 	checkReadings(t, s, goodReadings)
 	if n := count(t, s, `SELECT count(*) FROM import_batches`); n != 3 {
 		t.Errorf("%d batches, want 3", n)
@@ -922,5 +929,51 @@ func TestImportSparseOverlap(t *testing.T) {
 	_, err = s.ImportReadings(ctx, p, ReadingsOptions{Variable: "stage"})
 	if !errors.Is(err, ErrDuplicate) || !strings.Contains(err.Error(), "sparse.csv line 2") {
 		t.Errorf("err = %v, want a duplicate on line 2", err)
+	}
+}
+
+func TestImportReplaceCountsOnlyChanges(t *testing.T) {
+	// Repeats within one file, near (same chunk) and far (earlier chunks,
+	// still queued in the writer): identical repeats are duplicates only,
+	// differing ones are replaced, and the last differing one wins.
+	ctx := context.Background()
+	s := openTestStore(t)
+	big, err := os.ReadFile(bigReadings(t, 6000)) // S00..S09, 600 hourly rows each from 2010-01-01
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(strings.TrimSuffix(string(big), "\n"), "\n")
+	var b strings.Builder
+	b.WriteString(string(big))
+	b.WriteString(lines[1] + "\n")                            // S00 first row again, identical
+	b.WriteString(lines[2] + "\n")                            // S00 second row again, identical
+	b.WriteString("S00,2010-01-01T02:00:00Z,-5,X\n")          // S00 third row, changed
+	b.WriteString("S00,2010-01-01T02:00:00Z,-6,X\n")          // and changed again
+	b.WriteString("S00,2010-01-01T02:00:00Z,-6,X\n")          // identical to the line before
+	b.WriteString(lines[len(lines)-1] + "\n")                 // last row again, identical (same chunk)
+	b.WriteString("S09,2010-01-01T03:00:00Z," + "-7" + ",\n") // changed
+	p := filepath.Join(t.TempDir(), "repeats.csv")
+	if err := os.WriteFile(p, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	res, err := s.ImportReadings(ctx, p, ReadingsOptions{Variable: "stage", OnDuplicate: DupReplace})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkCounts(t, s, res, counts{read: 6007, stored: 6000, dup: 7, replaced: 3})
+	var v float64
+	var q string
+	if err := s.DB.QueryRow(`SELECT value, qualifier FROM readings_view WHERE station_id = 'S00' AND t = 1262311200`).Scan(&v, &q); err != nil {
+		t.Fatal(err)
+	}
+	if v != -6 || q != "X" {
+		t.Errorf("S00 02:00 = %v %q, want -6 X", v, q)
+	}
+	if n := count(t, s, `SELECT count(*) FROM readings_view WHERE value < 0`); n != 2 {
+		t.Errorf("%d negative readings, want 2", n)
+	}
+	// 600 new rows per station; S00 got 2 replacements, S09 one.
+	if n := count(t, s, `SELECT sum(rows) FROM series_batches WHERE batch_id = ?`, res.BatchID); n != 6003 {
+		t.Errorf("series_batches rows = %d, want 6003", n)
 	}
 }

@@ -77,7 +77,7 @@ func TestImportCmdStationsAndReadings(t *testing.T) {
 	}
 	_, errs, code = runImport(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
 		"--tz", "Europe/Berlin", "--on-duplicate", "replace", importFixture("readings_rejects.csv"))
-	if code != 0 || !strings.Contains(errs, "4 duplicates (4 replaced)") {
+	if code != 0 || !strings.Contains(errs, "18 rejected (reasons in import_rejects, batch_id 3), 4 duplicates\n") {
 		t.Errorf("replace import: exit %d, %q", code, errs)
 	}
 	s := importStoreCheck(t, db)
