@@ -232,6 +232,17 @@ func TestKendallSQLReference(t *testing.T) {
 		}
 	}
 	for _, ref := range py.HamedRao {
+		// max_lag = n − 1 is the default (every lag); a cap keeps fewer lags
+		n := len(cases[ref.Name].t)
+		all := queryVal(t, db, `SELECT mann_kendall(t, y, 'correct=hamed-rao, max_lag=`+strconv.Itoa(n-1)+`') FROM kobs WHERE g = ?`, ref.Name)
+		def := queryVal(t, db, `SELECT mann_kendall(t, y, 'correct=hamed-rao') FROM kobs WHERE g = ?`, ref.Name)
+		if all != def {
+			t.Errorf("%s: max_lag=n−1 %v differs from the default %v", ref.Name, all, def)
+		}
+		capped := jsonMap(t, queryVal(t, db, `SELECT mann_kendall(t, y, 'correct=hamed-rao, max_lag=1') FROM kobs WHERE g = ?`, ref.Name))
+		if num(t, capped, "acf_max_lag") != 1 || num(t, capped, "acf_lags_used") > 1 {
+			t.Errorf("%s: max_lag=1 gave %v", ref.Name, capped)
+		}
 		m := jsonMap(t, queryVal(t, db, `SELECT mann_kendall(t, y, 'correct=hamed-rao') FROM kobs WHERE g = ?`, ref.Name))
 		// kendall_ref.py: published formula with scipy/statsmodels building blocks
 		if !kClose(num(t, m, "correction_factor"), ref.Factor, 1e-9) || !kClose(num(t, m, "p_corrected"), ref.P, 1e-7) {
