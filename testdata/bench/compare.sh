@@ -1,14 +1,16 @@
 #!/bin/sh
 # Outside comparisons for `trendsql bench` (see BENCHMARKS.md).
 #
-# usage: testdata/bench/compare.sh DIR [REPS]
+# usage: testdata/bench/compare.sh DIR [REPS [SLOW_REPS]]
 #
 # DIR is a directory kept by `trendsql bench --keep --dir DIR` (it holds
 # readings.csv and the store bench.db built from it). Every measurement runs
 # as its own process, REPS times (default 3), the repetitions interleaved;
 # wall time (date +%s%N around the process) and peak RSS (/usr/bin/time %M)
 # are recorded per run, and the medians are printed as a Markdown table with
-# every time as a ratio to the sqlite3 shell's avg() scan of bench.db.
+# every time as a ratio to the sqlite3 shell's avg() scan of bench.db. The
+# pandas + statsmodels script, by far the slowest, runs only in the first
+# SLOW_REPS repetitions (default REPS).
 #
 # Measured, in this order within each repetition:
 #   shell .import      Debian sqlite3: .import --csv --skip 1 of readings.csv
@@ -36,6 +38,7 @@ if [ $# -lt 1 ]; then
 fi
 DIR=$1
 REPS=${2:-3}
+SLOW_REPS=${3:-$REPS}
 HERE=$(cd "$(dirname "$0")" && pwd)
 TRENDSQL=${TRENDSQL:-./trendsql}
 SQLITE3=${SQLITE3:-/usr/bin/sqlite3}
@@ -105,7 +108,9 @@ while [ "$rep" -le "$REPS" ]; do
 	if [ $HAVE_SUMMARIZE = yes ]; then
 		run "trendsql summarize" "$TRENDSQL" summarize --db "$DB" --quiet --period 1y --harmonics 2 --seasons 12 --max-lag 48 --lb-lags 24
 	fi
-	run "pandas + statsmodels script" "$PYTHON" "$HERE/pandas_summary.py" "$DB"
+	if [ "$rep" -le "$SLOW_REPS" ]; then
+		run "pandas + statsmodels script" "$PYTHON" "$HERE/pandas_summary.py" "$DB"
+	fi
 	run "numpy script" "$PYTHON" "$HERE/numpy_summary.py" "$DB"
 	rep=$(( rep + 1 ))
 done
@@ -131,7 +136,7 @@ for name in order:
     secs = [s for s, _ in runs[name]]
     med = statistics.median(secs)
     peak = max(k for _, k in runs[name]) / 1024
-    print("| %s | %.3f | %.2f | %.2fM | %.0f | %s |" % (
+    print("| %s | %.3f | %.2f | %.3fM | %.0f | %s |" % (
         name, med, med / base, rows / med / 1e6, peak, " ".join("%.3f" % s for s in secs)))
     out.append({"name": name, "median_s": med, "ratio_to_shell_scan": med / base,
                 "rows_per_s": rows / med, "peak_rss_mib": peak, "seconds": secs})

@@ -7,8 +7,9 @@
 #
 # Writes OUTDIR/bench.txt and OUTDIR/1000x10000.json (the main run, 1000
 # series × 10000 hourly readings, 3 interleaved repetitions), OUTDIR/compare.md
-# (outside comparisons on the same files, compare.sh), OUTDIR/scaling.md
-# (scaling.sh; SCALING_REPS repetitions, default 3), OUTDIR/n100k.txt (one
+# (outside comparisons on the same files, compare.sh; the pandas script runs
+# PANDAS_REPS times, default 1, as it takes minutes), OUTDIR/scaling.md
+# (scaling.sh; SCALING_REPS repetitions, default 1), OUTDIR/n100k.txt (one
 # series of 100,000 readings) and OUTDIR/machine.txt. Needs about 1.5 GB of disk and, on a
 # 2-core machine, about 30 minutes. Run it on an otherwise idle machine.
 set -eu
@@ -30,8 +31,8 @@ mkdir -p "$OUT"
 } > "$OUT/machine.txt"
 "$TRENDSQL" bench --stations 1000 --readings 10000 --reps 3 --item-timeout 5m \
 	--keep --dir "$OUT/data" --json "$OUT/1000x10000.json" > "$OUT/bench.txt"
-"$HERE/compare.sh" "$OUT/data" 3 > "$OUT/compare.md"
+"$HERE/compare.sh" "$OUT/data" 3 "${PANDAS_REPS:-1}" > "$OUT/compare.md"
 "$TRENDSQL" bench --stations 1 --readings 100000 --reps 3 --item-timeout 5m > "$OUT/n100k.txt"
-"$HERE/scaling.sh" "$OUT" "${SCALING_REPS:-3}" > "$OUT/scaling.md"
+"$HERE/scaling.sh" "$OUT" "${SCALING_REPS:-1}" > "$OUT/scaling.md"
 echo "loadavg after: $(cat /proc/loadavg)" >> "$OUT/machine.txt"
 echo "results in $OUT" >&2
