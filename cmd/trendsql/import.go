@@ -44,6 +44,12 @@ A one-line account goes to stderr. Exit status: 0 when the batch was stored
 (also when some rows were rejected: they are counted and listed in
 import_rejects), 1 when the import failed and nothing changed, 2 for bad
 flags or arguments.`,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if len(args) == 0 {
+				return cmd.Help()
+			}
+			return usageErr("import: unknown kind %q: use `trendsql import stations FILE.csv` or `trendsql import readings FILE.csv`", args[0])
+		},
 	}
 	c.AddCommand(newImportStationsCmd(e), newImportReadingsCmd(e))
 	return c
@@ -114,7 +120,8 @@ Values must be decimal numbers; empty, NA, NaN, infinite and other text are
 rejected row by row with the reason. A (station, variable, time) already
 stored or repeated in the file is a duplicate: --on-duplicate error (default)
 stops the import and changes nothing; keep-first keeps the earlier reading;
-replace overwrites it.`,
+replace overwrites it where the value or qualifier differs (an identical row
+changes nothing and is counted as duplicate only).`,
 		Example: `  trendsql import readings --variable stage --unit m gauges.csv
   trendsql import readings --variable-col param --tz Europe/Berlin --delimiter ';' --decimal-comma export.csv
   trendsql import readings --variable level --on-duplicate keep-first logger-2024.csv`,

@@ -133,6 +133,7 @@ func TestImportCmdUsageErrors(t *testing.T) {
 		{[]string{"import", "readings", "--variable", "x", "--delimiter", `"`, good}, ExitUsage, "--delimiter"},
 		{[]string{"import", "readings", "--variable", "x", "--tz", "Mars/Olympus", good}, ExitUsage, "--tz"},
 		{[]string{"import", "readings", "--variable", "x"}, ExitUsage, "expected 1 argument"},
+		{[]string{"import", "gauges", good}, ExitUsage, `unknown kind "gauges"`},
 		{[]string{"import", "readings", "--variable", "x", "--no-such-flag", good}, ExitUsage, "no-such-flag"},
 		{[]string{"import", "readings", "--variable", "x", filepath.Join(dir, "missing.csv")}, ExitFailed, "missing.csv: no such file"},
 		{[]string{"import", "stations", dir}, ExitFailed, "is a directory"},
