@@ -312,6 +312,7 @@ func (b *batch) finish(ctx context.Context) error {
 
 // header maps column names (case-insensitive, trimmed) to indexes.
 type header struct {
+	line  int // line number of the header
 	names []string
 	idx   map[string]int
 	dup   map[string]bool
@@ -353,7 +354,16 @@ func (h *header) list() string {
 	for i, n := range h.names {
 		q[i] = strconv.Quote(n)
 	}
-	return strings.Join(q, ", ")
+	s := strings.Join(q, ", ")
+	if len(h.names) == 1 {
+		for _, d := range []string{";", "\t", ",", "|"} {
+			if strings.Contains(h.names[0], d) {
+				s += fmt.Sprintf(" — one column only: are the fields separated by %q? (--delimiter)", d)
+				break
+			}
+		}
+	}
+	return s
 }
 
 // readHeader reads the header record.
@@ -368,7 +378,9 @@ func readHeader(cr *csvReader, name string) (*header, error) {
 	if rec.bad != "" {
 		return nil, &InputError{File: name, Line: rec.line, Msg: "header: " + rec.bad}
 	}
-	return newHeader(rec.fields), nil
+	h := newHeader(rec.fields)
+	h.line = rec.line
+	return h, nil
 }
 
 // checkWidth returns a reject reason when a record is malformed or its field
@@ -582,14 +594,14 @@ func (s *Store) importReadings(ctx context.Context, in *input, opt ReadingsOptio
 		}
 		i, err := h.find(name)
 		if err != nil {
-			return -1, name, &InputError{File: in.name, Line: 1, Msg: err.Error()}
+			return -1, name, &InputError{File: in.name, Line: h.line, Msg: err.Error()}
 		}
 		if i < 0 && (required || given) {
 			hint := ""
 			if !given {
 				hint = fmt.Sprintf("; name the column with %s", flag)
 			}
-			return -1, name, &InputError{File: in.name, Line: 1, Msg: fmt.Sprintf("no column %q in the header (columns: %s)%s", name, h.list(), hint)}
+			return -1, name, &InputError{File: in.name, Line: h.line, Msg: fmt.Sprintf("no column %q in the header (columns: %s)%s", name, h.list(), hint)}
 		}
 		return i, name, nil
 	}
@@ -619,7 +631,7 @@ func (s *Store) importReadings(ctx context.Context, in *input, opt ReadingsOptio
 			return nil, err
 		}
 		if iVar < 0 {
-			return nil, &InputError{File: in.name, Line: 1, Msg: fmt.Sprintf("no variable: the header has no \"variable\" column (columns: %s); give a fixed variable name (--variable) or the column that holds it (--variable-col)", h.list())}
+			return nil, &InputError{File: in.name, Line: h.line, Msg: fmt.Sprintf("no variable: the header has no \"variable\" column (columns: %s); give a fixed variable name (--variable) or the column that holds it (--variable-col)", h.list())}
 		}
 	}
 

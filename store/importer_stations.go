@@ -62,7 +62,7 @@ func (s *Store) importStations(ctx context.Context, in *input, opt StationsOptio
 	if err != nil {
 		return nil, err
 	}
-	hdrErr := func(msg string) error { return &InputError{File: in.name, Line: 1, Msg: msg} }
+	hdrErr := func(msg string) error { return &InputError{File: in.name, Line: h.line, Msg: msg} }
 	iID, idCol := -1, ""
 	for _, name := range []string{"id", "station_id", "station"} {
 		i, err := h.find(name)

@@ -662,6 +662,10 @@ func TestImportInputErrorsChangeNothing(t *testing.T) {
 	}{
 		{write("nostation.csv", "site,time,value\nA,2021-01-01,1\n"), ReadingsOptions{Variable: "x"},
 			[]string{"nostation.csv line 1", `no column "station"`, `"site"`, "--station-col"}},
+		{write("semicolon.csv", "station;time;value\nA;2021-01-01;1\n"), ReadingsOptions{Variable: "x"},
+			[]string{"semicolon.csv line 1", `separated by ";"? (--delimiter)`}},
+		{write("blankfirst.csv", "\n\nsite,time,value\n"), ReadingsOptions{Variable: "x"},
+			[]string{"blankfirst.csv line 3", `no column "station"`}},
 		{write("badcol.csv", "station,time,value\nA,2021-01-01,1\n"), ReadingsOptions{Variable: "x", ValueCol: "reading"},
 			[]string{"badcol.csv line 1", `no column "reading"`}},
 		{write("novar.csv", "station,time,value\nA,2021-01-01,1\n"), ReadingsOptions{},
