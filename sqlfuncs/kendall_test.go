@@ -265,6 +265,7 @@ func TestKendallSQLSeasonalPettittCross(t *testing.T) {
 			Y       []float64 `json:"y"`
 			S       float64   `json:"s"`
 			P       float64   `json:"p_global_indep"`
+			PDep    float64   `json:"p_global_dep"`
 			Slope   float64   `json:"slope_per_year"`
 		} `json:"seasonal"`
 		Pettitt []struct {
@@ -294,6 +295,10 @@ func TestKendallSQLSeasonalPettittCross(t *testing.T) {
 		// scipy 1.10.1 mstats.kendalltau_seasonal: global p (indep); numpy S and slope
 		if num(t, m, "s") != ref.S || !kClose(num(t, m, "p"), ref.P, 1e-7) || !kClose(num(t, m, "slope_per_year"), ref.Slope, 1e-9) {
 			t.Errorf("%s: %v; reference S=%v p=%v slope=%v", ref.Name, m, ref.S, ref.P, ref.Slope)
+		}
+		// scipy 1.10.1 mstats.kendalltau_seasonal "global p-value (dep)"
+		if !kClose(num(t, m, "p_dependent"), ref.PDep, 1e-7) || m["dependent_note"] != nil {
+			t.Errorf("%s: p_dependent %v (%v), mstats %v", ref.Name, m["p_dependent"], m["dependent_note"], ref.PDep)
 		}
 	}
 	for _, ref := range py.Pettitt {
@@ -419,6 +424,11 @@ func TestKendallSQLTraps(t *testing.T) {
 	m = jsonMap(t, queryVal(t, db, `SELECT seasonal_kendall(t, y, 'calendar-month') FROM kobs WHERE g = 'season1'`))
 	if m["season_definition"] != "calendar-month" || m["period_s"] != nil {
 		t.Errorf("calendar-month: %v", m)
+	}
+	// several values per (cycle, season): the dependence fields are null with a note
+	m = jsonMap(t, queryVal(t, db, `SELECT seasonal_kendall(t, y, '10y', 2) FROM kobs WHERE g = 'season1'`))
+	if m["p_dependent"] != nil || !strings.Contains(m["dependent_note"].(string), "more than one value") || m["p"] == nil {
+		t.Errorf("several values per cell: %v", m)
 	}
 }
 
@@ -571,7 +581,7 @@ func TestKendallDocExamples(t *testing.T) {
 	for q, want := range map[string]string{
 		"mann_kendall(t, y)":              `{"n":5,"s":8,"var_s":16.666666666666668,"z":1.7146428199482247,"p":0.08641073297370006,"tau":0.8,"concordant":9,"discordant":1,"tied_pairs":0,"tie_groups":0}`,
 		"sen_slope(t, y)":                 `{"n":5,"n_pairs":10,"slope_per_year":365.25,"lower":-365.25,"upper":730.5,"confidence":0.95,"lower_rank":1,"upper_rank":10,"intercept":-18517.51851851852,"median_t":"2020-09-15T12:26:40Z","median_y":3}`,
-		"seasonal_kendall(t, y, '2d', 2)": `{"n":5,"period_s":172800,"season_definition":"epoch-slices","seasons":2,"seasons_used":2,"s":4,"var_s":4.666666666666666,"z":1.3887301496588274,"p":0.16491482255330134,"n_pairs":4,"slope_per_year":319.59375,"lower":182.625,"upper":547.875,"confidence":0.95,"per_season":[{"season":0,"n":3,"s":3,"var_s":3.6666666666666665},{"season":1,"n":2,"s":1,"var_s":1}]}`,
+		"seasonal_kendall(t, y, '2d', 2)": `{"n":5,"period_s":172800,"season_definition":"epoch-slices","seasons":2,"seasons_used":2,"s":4,"var_s":4.666666666666666,"z":1.3887301496588274,"p":0.16491482255330134,"cycles":3,"var_s_dependent":6.666666666666666,"z_dependent":1.161895003862225,"p_dependent":0.24527811680677292,"dependent_note":null,"n_pairs":4,"slope_per_year":319.59375,"lower":182.625,"upper":547.875,"confidence":0.95,"per_season":[{"season":0,"n":3,"s":3,"var_s":3.6666666666666665},{"season":1,"n":2,"s":1,"var_s":1}]}`,
 		"pettitt(t, y)":                   `{"n":5,"k":2,"t_change":"2020-09-14T12:26:40Z","t_after":"2020-09-15T12:26:40Z","u":-6,"abs_u":6,"p":0.47385551736424353,"median_before":1.5,"median_after":4}`,
 		"cross_correlogram(t, x, y, 1)":   `{"n":5,"n_slots":5,"missing_slots":0,"step_s":86400,"step":"1d","step_inferred":true,"t_first":"2020-09-13T12:26:40Z","mean_x":3,"mean_y":3,"var_x":2,"var_y":2,"band":0.8765386471799175,"lags":[{"lag":-1,"pairs":4,"ccvf":1.4,"ccf":0.7},{"lag":0,"pairs":5,"ccvf":1.4,"ccf":0.7},{"lag":1,"pairs":4,"ccvf":0,"ccf":0}]}`,
 	} {

@@ -41,9 +41,26 @@ package sqlfuncs
 //	lower, upper   = the sen_slope rank rule at 95 % confidence with N the
 //	                 number of within-season pairs and var_s as above
 //
+// Between-season dependence. The seasons of one cycle (for period P the
+// cycle of t is floor(t/P), counted from the epoch; for calendar-month the
+// UTC calendar year) are often correlated, which the independent-seasons
+// variance ignores. When every (cycle, season) cell holds at most one value
+// the JSON also carries the covariance-corrected variance of Dietz &
+// Killeen (1981) / Hirsch & Slack (1984), stats/seasonal.go:
+//
+//	var_s_dependent = Σ_g Σ_h [K_gh + 4·Σ_i R_ig R_ih − n(n_g+1)(n_h+1)]/3
+//
+// with z_dependent, p_dependent — the "global p-value (dep)" of
+// scipy.stats.mstats.kendalltau_seasonal (scipy 1.10.1). Otherwise (several
+// readings per season and cycle, e.g. daily data with monthly seasons — reduce
+// to one value per season and cycle first — or more than
+// seasons²·cycles²/2 = 4e8 operations) those fields are null and
+// dependent_note says why.
+//
 // JSON keys: n, period_s (null for calendar-month), season_definition
 // ("epoch-slices" or "calendar-month"), seasons, seasons_used (seasons with
-// ≥ 2 values), s, var_s, z, p, n_pairs, slope_per_year, lower, upper,
+// ≥ 2 values), s, var_s, z, p, cycles, var_s_dependent, z_dependent,
+// p_dependent, dependent_note, n_pairs, slope_per_year, lower, upper,
 // confidence, per_season: [{season, n, s, var_s}, ...].
 //
 // Example (demo store; numbers depend on the demo data):
@@ -55,11 +72,16 @@ package sqlfuncs
 // For y = 1, 2, 3, 5, 4 at daily steps from unix 1600000000 and
 // seasonal_kendall(t, y, '2d', 2) (two one-day seasons; tested in
 // kendall_test.go): season 0 holds 1, 3, 4 (S = 3, var 11/3), season 1
-// holds 2, 5 (S = 1, var 1), within-season slopes 0.5, 0.75, 1, 1.5 per day:
+// holds 2, 5 (S = 1, var 1), within-season slopes 0.5, 0.75, 1, 1.5 per day.
+// The three 2-day cycles hold (1, 2), (3, 5), (4, −): K_01 = 1, the mid-rank
+// of the missing cell is 1.5, cov(S_0, S_1) = (1 + 4·9.5 − 3·4·3)/3 = 1, so
+// var_s_dependent = 11/3 + 1 + 2·1:
 //
 //	{"n":5,"period_s":172800,"season_definition":"epoch-slices","seasons":2,
 //	 "seasons_used":2,"s":4,"var_s":4.666666666666666,"z":1.3887301496588274,
-//	 "p":0.16491482255330134,"n_pairs":4,"slope_per_year":319.59375,
+//	 "p":0.16491482255330134,"cycles":3,"var_s_dependent":6.666666666666666,
+//	 "z_dependent":1.161895003862225,"p_dependent":0.24527811680677292,
+//	 "dependent_note":null,"n_pairs":4,"slope_per_year":319.59375,
 //	 "lower":182.625,"upper":547.875,"confidence":0.95,"per_season":[
 //	 {"season":0,"n":3,"s":3,"var_s":3.6666666666666665},
 //	 {"season":1,"n":2,"s":1,"var_s":1}]}
@@ -70,6 +92,7 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"time"
 
 	"trendsql/sqlfuncs/stats"
 	"trendsql/sqlfuncs/timefmt"
@@ -126,6 +149,15 @@ func seasonalKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if err != nil {
 		return nil, fmt.Errorf("%s: %v", fn, err)
 	}
+	cycle := make([]int, r.Len())
+	for i, t := range r.T {
+		if calendar {
+			cycle[i] = time.Unix(int64(math.Floor(t)), 0).UTC().Year()
+		} else {
+			cycle[i] = int(math.Floor(t / period))
+		}
+	}
+	dep, depErr := stats.SeasonalDependent(r.Y, season, cycle, int(seasons), res.S)
 	const spy = timefmt.SecondsPerYear
 	var b mkObj
 	b.int("n", int64(res.N))
@@ -142,6 +174,19 @@ func seasonalKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	b.num("var_s", res.VarS)
 	b.num("z", res.Z)
 	b.num("p", res.P)
+	if depErr == nil {
+		b.int("cycles", int64(dep.Cycles))
+		b.num("var_s_dependent", dep.VarS)
+		b.num("z_dependent", dep.Z)
+		b.num("p_dependent", dep.P)
+		b.raw("dependent_note", "null")
+	} else {
+		b.raw("cycles", "null")
+		b.raw("var_s_dependent", "null")
+		b.raw("z_dependent", "null")
+		b.raw("p_dependent", "null")
+		b.str("dependent_note", depErr.Error())
+	}
 	b.int("n_pairs", res.Pairs)
 	b.num("slope_per_year", res.Sen.Slope*spy)
 	b.num("lower", res.Sen.Lower*spy)
@@ -164,7 +209,7 @@ func seasonalKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 func init() {
 	defineSeries(seriesSpec{
 		doc: Doc{Name: "seasonal_kendall", Signature: "seasonal_kendall(t, y, period [, seasons])", Kind: Aggregate,
-			Summary: "JSON {s, var_s, z, p, slope_per_year, lower, upper, per_season, ...}: seasonal Kendall test (Hirsch, Slack & Smith 1982) with seasons = equal slices of period from the unix epoch (or period 'calendar-month'), and the seasonal Sen slope"},
+			Summary: "JSON {s, var_s, z, p, p_dependent, slope_per_year, lower, upper, per_season, ...}: seasonal Kendall test (Hirsch, Slack & Smith 1982; between-season covariance of Hirsch & Slack 1984 when each season and cycle has one value) with seasons = equal slices of period from the unix epoch or calendar months, and the seasonal Sen slope"},
 		argNames: []string{"t", "y", "period", "seasons"}, values: 1, minOptions: 1, maxOptions: 2,
 		compute: seasonalKendallValue,
 	})

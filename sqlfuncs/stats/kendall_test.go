@@ -51,6 +51,8 @@ type kendallRef struct {
 		S            int64     `json:"s"`
 		PSeason      []float64 `json:"p_season"`
 		PGlobalIndep float64   `json:"p_global_indep"`
+		PGlobalDep   float64   `json:"p_global_dep"`
+		Kind         string    `json:"kind"`
 		SlopePerYear float64   `json:"slope_per_year"`
 	} `json:"seasonal"`
 	Pettitt []struct {
@@ -409,6 +411,18 @@ func TestSeasonalReference(t *testing.T) {
 		if res.S != ref.S || !mkClose(res.P, ref.PGlobalIndep, 1e-7) {
 			t.Errorf("%s: S=%d p=%v; reference %d %v", ref.Name, res.S, res.P, ref.S, ref.PGlobalIndep)
 		}
+		// between-season covariance: scipy mstats.kendalltau_seasonal "global p-value (dep)"
+		cycle := make([]int, len(tt))
+		for i, v := range tt {
+			cycle[i] = int(math.Floor(v / timefmt.SecondsPerYear))
+		}
+		dep, err := SeasonalDependent(yy, season, cycle, ref.Seasons, res.S)
+		if err != nil {
+			t.Fatalf("%s: %v", ref.Name, err)
+		}
+		if !mkClose(dep.P, ref.PGlobalDep, 1e-7) {
+			t.Errorf("%s: dependent p = %v, mstats %v", ref.Name, dep.P, ref.PGlobalDep)
+		}
 		// seasonal Sen slope: numpy brute-force median of within-season slopes
 		if got := res.Sen.Slope * timefmt.SecondsPerYear; !mkClose(got, ref.SlopePerYear, 1e-9) {
 			t.Errorf("%s: seasonal Sen slope %v, numpy %v", ref.Name, got, ref.SlopePerYear)
@@ -440,6 +454,16 @@ func TestSeasonalTraps(t *testing.T) {
 	res, _ = SeasonalKendall([]float64{0, 1}, []float64{1, 2}, []int{0, 1}, 2, 0.95)
 	if res.S != 0 || res.VarS != 0 || !math.IsNaN(res.P) || !math.IsNaN(res.Sen.Slope) {
 		t.Errorf("no pairs: %+v", res)
+	}
+	// dependence correction: two values in one (cycle, season) cell is an error
+	if _, err := SeasonalDependent([]float64{1, 2, 3}, []int{0, 0, 1}, []int{0, 0, 0}, 2, 0); err == nil {
+		t.Error("two values in one cell should be an error")
+	}
+	// complete data without ties: the diagonal equals the Mann–Kendall variance,
+	// and with one season Var_dep = Var(S)
+	dep, err := SeasonalDependent([]float64{1, 3, 2, 5}, []int{0, 0, 0, 0}, []int{0, 1, 2, 3}, 1, 4)
+	if err != nil || !mkClose(dep.VarS, 4*3*13/18.0, 1e-15) {
+		t.Errorf("one season: %+v %v", dep, err)
 	}
 	// season boundaries: slices of the period from the epoch, negative times too
 	const y = timefmt.SecondsPerYear

@@ -26,6 +26,7 @@ package stats
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"time"
 )
@@ -143,5 +144,128 @@ func SeasonalKendall(t, y []float64, season []int, seasons int, confidence float
 	}
 	sen.MedianT, sen.MedianY = median(t), median(y)
 	res.Sen = sen
+	return res, nil
+}
+
+// SeasonalDependence is the between-season covariance correction of the
+// seasonal Kendall variance (Dietz & Killeen 1981, Psychometrika
+// 46:29–38; Hirsch & Slack 1984, Water Resources Research 20(6):727–732).
+//
+// The values form a matrix x[i][g]: cycle i (e.g. the year) by season g, at
+// most one value per cell, missing cells allowed. With n the number of
+// cycles from the first to the last, n_g the values present in season g,
+// R_ig the rank of x[i][g] within season g (average ranks for ties; a
+// missing cell gets the mid-rank (n_g + 1)/2) and
+// K_gh = Σ_{i<j} sgn(x_jg − x_ig)·sgn(x_jh − x_ih) over cycle pairs with all
+// four values present,
+//
+//	cov(S_g, S_h) = [K_gh + 4·Σ_i R_ig·R_ih − n(n_g + 1)(n_h + 1)] / 3
+//	Var_dep(S)    = Σ_g Σ_h cov(S_g, S_h)
+//
+// (the diagonal is this formula with h = g, which equals the
+// Mann–Kendall variance for a complete season without ties). This is the
+// variance behind scipy.stats.mstats.kendalltau_seasonal's
+// "global p-value (dep)" (scipy 1.10.1). Z_dep = (S − sgn S)/√Var_dep.
+type SeasonalDependence struct {
+	Cycles int
+	VarS   float64
+	Z, P   float64
+}
+
+// MaxDependenceWork bounds seasons² · cycles² / 2 for the dependence
+// correction (about a second of work).
+const MaxDependenceWork = 4e8
+
+// SeasonalDependent computes the correction for values in time order with
+// their season and cycle indices; S is the seasonal Kendall statistic.
+// It returns an error when a (cycle, season) cell holds two values or the
+// work would exceed MaxDependenceWork.
+func SeasonalDependent(y []float64, season, cycle []int, seasons int, s int64) (SeasonalDependence, error) {
+	var res SeasonalDependence
+	if len(y) == 0 {
+		return res, errors.New("no values")
+	}
+	c0, c1 := cycle[0], cycle[0]
+	for _, c := range cycle {
+		c0, c1 = min(c0, c), max(c1, c)
+	}
+	n := c1 - c0 + 1
+	res.Cycles = n
+	if float64(seasons)*float64(seasons)*float64(n)*float64(n)/2 > MaxDependenceWork {
+		return res, fmt.Errorf("%d cycles × %d seasons is too large for the between-season covariance", n, seasons)
+	}
+	x := make([]float64, n*seasons) // x[i*seasons+g]
+	for i := range x {
+		x[i] = math.NaN()
+	}
+	for k, v := range y {
+		cell := (cycle[k]-c0)*seasons + season[k]
+		if !math.IsNaN(x[cell]) {
+			return res, fmt.Errorf("cycle %d, season %d holds more than one value", cycle[k], season[k])
+		}
+		x[cell] = v
+	}
+	// ranks within each season, mid-rank for missing cells
+	R := make([]float64, n*seasons)
+	np := make([]int, seasons)
+	col := make([]float64, 0, n)
+	idx := make([]int, 0, n)
+	for g := 0; g < seasons; g++ {
+		col, idx = col[:0], idx[:0]
+		for i := 0; i < n; i++ {
+			if v := x[i*seasons+g]; !math.IsNaN(v) {
+				col = append(col, v)
+				idx = append(idx, i)
+			}
+		}
+		np[g] = len(col)
+		rk := Ranks(col)
+		mid := float64(np[g]+1) / 2
+		for i := 0; i < n; i++ {
+			R[i*seasons+g] = mid
+		}
+		for k, i := range idx {
+			R[i*seasons+g] = rk[k]
+		}
+	}
+	sgn := func(v float64) float64 {
+		switch {
+		case v > 0:
+			return 1
+		case v < 0:
+			return -1
+		}
+		return 0
+	}
+	nf := float64(n)
+	var total float64
+	for g := 0; g < seasons; g++ {
+		for h := g; h < seasons; h++ {
+			var K, rr float64
+			for i := 0; i < n; i++ {
+				xig, xih := x[i*seasons+g], x[i*seasons+h]
+				rr += R[i*seasons+g] * R[i*seasons+h]
+				if math.IsNaN(xig) || math.IsNaN(xih) {
+					continue
+				}
+				for j := i + 1; j < n; j++ {
+					xjg, xjh := x[j*seasons+g], x[j*seasons+h]
+					if math.IsNaN(xjg) || math.IsNaN(xjh) {
+						continue
+					}
+					K += sgn(xjg-xig) * sgn(xjh-xih)
+				}
+			}
+			cov := (K + 4*rr - nf*float64(np[g]+1)*float64(np[h]+1)) / 3
+			if g == h {
+				total += cov
+			} else {
+				total += 2 * cov
+			}
+		}
+	}
+	res.VarS = total
+	res.Z = MKZ(s, total)
+	res.P = NormalTwoSided(res.Z)
 	return res, nil
 }

@@ -19,7 +19,7 @@ same series, read by kendall_ref.R). Sources per block:
             scipy.stats.theilslopes (detrending slope), scipy.stats.rankdata
             and statsmodels.tsa.stattools.acf(adjusted=False, fft=False)
   seasonal  scipy.stats.mstats.kendalltau_seasonal (per-season S, the
-            per-season and global "indep" p-values with continuity
+            per-season and global "indep" and "dep" p-values with continuity
             correction); seasonal Sen slope by numpy brute force
   pettitt   the double-sum definition U_k = sum_{i<=k} sum_{j>k} sgn(y_i-y_j)
             in numpy; p = 2 exp(-6K^2/(n^3+n^2))
@@ -150,27 +150,41 @@ for n, phi in ((60, 0.6), (150, 0.4), (400, 0.7)):
                              "var_s_corrected": varc, "z_corrected": z,
                              "p_corrected": fl(2 * ss.norm.sf(abs(z)))})
 
-# Seasonal Kendall: complete years x seasons, continuous values (no ties)
-for years, m, seed_trend in ((10, 12, 0.15), (15, 4, -0.1), (8, 12, 0.0)):
+# Seasonal Kendall: years x seasons. The first three are complete with
+# continuous values; "missing" masks some cells (the "indep" p then uses
+# mstats' mid-rank variance, which equals the per-season Mann-Kendall
+# variance only without ties), "ties" rounds the values.
+for years, m, seed_trend, kind in ((10, 12, 0.15, ""), (15, 4, -0.1, ""), (8, 12, 0.0, ""),
+                                   (12, 6, 0.1, "missing"), (14, 4, 0.05, "ties")):
     X = rng.normal(0, 1, (years, m)) + seed_trend * np.arange(years)[:, None] + np.sin(np.arange(m) / m * 2 * np.pi)[None, :]
+    if kind == "ties":
+        X = np.round(X)
+    mask = np.zeros_like(X, dtype=bool)
+    if kind == "missing":
+        mask[rng.rand(years, m) < 0.15] = True
+    Xm = np.ma.array(X, mask=mask)
     Y0 = 30 * SPY  # a multiple of the period: slices start at the epoch
     t = np.array([[Y0 + yr * SPY + (g + 0.5) * SPY / m for g in range(m)] for yr in range(years)])
-    res = ms.kendalltau_seasonal(X)
-    # S per season (time order = row order)
-    S_szn = [int(sum(np.sign(X[i + 1:, g] - X[i, g]).sum() for i in range(years))) for g in range(m)]
+    res = ms.kendalltau_seasonal(Xm)
+    # S per season (time order = row order), present values only
+    S_szn = []
     slopes = []
     for g in range(m):
-        for i in range(years):
-            for j in range(i + 1, years):
+        rows = [i for i in range(years) if not mask[i, g]]
+        S_szn.append(int(sum(np.sign(X[j, g] - X[i, g]) for a, i in enumerate(rows) for j in rows[a + 1:])))
+        for a, i in enumerate(rows):
+            for j in rows[a + 1:]:
                 slopes.append((X[j, g] - X[i, g]) / ((t[j, g] - t[i, g]) / SPY))
-    name = "seasonal_%dx%d" % (years, m)
-    tt, yy = t.ravel(), X.ravel()
+    name = "seasonal_%dx%d%s" % (years, m, ("_" + kind) if kind else "")
+    keep = ~mask.ravel()
+    tt, yy = t.ravel()[keep], X.ravel()[keep]
     order = np.argsort(tt)
-    out["seasonal"].append({"name": name, "period": "1y", "seasons": m,
+    out["seasonal"].append({"name": name, "period": "1y", "seasons": m, "kind": kind,
                             "t": [float(v) for v in tt[order]], "y": [float(v) for v in yy[order]],
                             "s_season": S_szn, "s": int(sum(S_szn)),
                             "p_season": [fl(v) for v in np.asarray(res["seasonal p-value"])],
                             "p_global_indep": fl(res["global p-value (indep)"]),
+                            "p_global_dep": fl(res["global p-value (dep)"]),
                             "slope_per_year": fl(np.median(slopes))})
 
 # Pettitt: shifts, ties
