@@ -656,7 +656,17 @@ func (s *Store) importReadings(ctx context.Context, in *input, opt ReadingsOptio
 	cols := rowCols{station: iStation, variable: iVar, time: iTime, value: iValue, qualifier: iQual}
 	chunks, stop := im.parseAsync(cr, h, cols)
 	defer stop()
-	for c := range chunks {
+	for {
+		var c *parsedChunk
+		select {
+		case c = <-chunks:
+		case <-ctx.Done():
+			// The reader may be waiting on a pipe that stays silent.
+			return nil, b.progress(ctx)
+		}
+		if c == nil {
+			break
+		}
 		for i := range c.rows {
 			p := &c.rows[i]
 			b.res.RowsRead++
@@ -818,6 +828,7 @@ func (im *readingsImporter) parseAsync(cr *csvReader, h *header, cols rowCols) (
 	return chunks, func() {
 		once.Do(func() {
 			close(quit)
+			im.in.f.Close() // unblocks a read waiting on a pipe or terminal
 			wg.Wait()
 		})
 	}
