@@ -596,3 +596,52 @@ func TestKendallDocExamples(t *testing.T) {
 		t.Errorf("cross_corr = %v", got)
 	}
 }
+
+// TestCrossCorrSQLMissingSlots: pairs on a daily grid with missing days,
+// against R 4.2.2 ccf(y, x, lag.max = L, na.action = na.pass)
+// (testdata/reference/kendall_ref_r.json, kendall_ref.R).
+func TestCrossCorrSQLMissingSlots(t *testing.T) {
+	b, err := os.ReadFile(kRefPath("kendall_ref_r.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var r struct {
+		CCF []struct {
+			Name   string    `json:"name"`
+			Day    []float64 `json:"day"`
+			X      []float64 `json:"x"`
+			Y      []float64 `json:"y"`
+			MaxLag int       `json:"max_lag"`
+			Lags   []float64 `json:"lags"`
+			CcfYX  []float64 `json:"ccf_y_x"`
+		} `json:"ccf"`
+	}
+	if err := json.Unmarshal(b, &r); err != nil {
+		t.Fatal(err)
+	}
+	if len(r.CCF) < 2 {
+		t.Fatal("reference file lacks ccf cases")
+	}
+	db := openKendallStore(t)
+	for _, ref := range r.CCF {
+		tt := make([]float64, len(ref.Day))
+		for i, d := range ref.Day {
+			tt[i] = 1.5e9 + d*86400
+		}
+		insertK(t, db, ref.Name, tt, anys(ref.X), anys(ref.Y))
+		m := jsonMap(t, queryVal(t, db, `SELECT cross_correlogram(t, x, y, ?) FROM kobs WHERE g = ?`, ref.MaxLag, ref.Name))
+		if num(t, m, "missing_slots") == 0 || m["step"] != "1d" {
+			t.Fatalf("%s: %v", ref.Name, m)
+		}
+		lags := m["lags"].([]any)
+		if len(lags) != len(ref.Lags) {
+			t.Fatalf("%s: %d lags, R %d", ref.Name, len(lags), len(ref.Lags))
+		}
+		for i, l := range lags {
+			lm := l.(map[string]any)
+			if lm["lag"].(float64) != ref.Lags[i] || !kClose(lm["ccf"].(float64), ref.CcfYX[i], 1e-9) {
+				t.Errorf("%s lag %v: %v, R ccf(y, x) lag %v = %v", ref.Name, lm["lag"], lm["ccf"], ref.Lags[i], ref.CcfYX[i])
+			}
+		}
+	}
+}
