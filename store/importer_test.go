@@ -981,3 +981,25 @@ func TestImportReplaceCountsOnlyChanges(t *testing.T) {
 		t.Errorf("series_batches rows = %d, want 6003", n)
 	}
 }
+
+func TestImportCancelWhileInputIsSilent(t *testing.T) {
+	// The file is a pipe that delivers a header and one row and then stays
+	// open without data: a cancel must still end the import, changing nothing.
+	s := openTestStore(t)
+	before := snapshot(t, s)
+	pr, pw := io.Pipe()
+	ctx, cancel := context.WithCancel(context.Background())
+	go func() {
+		io.WriteString(pw, "station,time,value\nA,2021-01-01T00:00:00Z,1\n")
+		cancel() // the reader has taken the bytes; it now waits for more
+	}()
+	in := &input{f: pr, name: "pipe.csv", abs: "/x/pipe.csv", size: -1, h: sha256.New()}
+	_, err := s.importReadings(ctx, in, ReadingsOptions{Variable: "x"}, time.UTC)
+	if !errors.Is(err, context.Canceled) {
+		t.Fatalf("err = %v, want context.Canceled", err)
+	}
+	pw.Close()
+	if snapshot(t, s) != before {
+		t.Error("a cancelled import changed the store")
+	}
+}
