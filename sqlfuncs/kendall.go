@@ -23,7 +23,7 @@ package sqlfuncs
 //	S      = Σ_{i<j} sgn(y_j − y_i)                            Mann (1945)
 //	var_s  = [n(n−1)(2n+5) − Σ_g t_g(t_g−1)(2t_g+5)]/18         tie-corrected,
 //	         t_g the sizes of groups of equal y (Kendall 1975, Rank Correlation
-//	         Methods, 4th ed., ch. 4)
+//	         Methods, 4th ed., Griffin, London)
 //	z      = (S − sgn S)/√var_s  (continuity correction; 0 when S = 0)
 //	p      = 2·P(N(0,1) > |z|)   two-sided, normal approximation
 //	tau    = S/√(n0·(n0 − n2)), n0 = n(n−1)/2, n2 = tied pairs in y

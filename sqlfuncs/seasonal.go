@@ -39,7 +39,9 @@ package sqlfuncs
 //	slope_per_year = median over all within-season pairs of
 //	                 (y_b − y_a)/(t_b − t_a) × 31 557 600 s
 //	lower, upper   = the sen_slope rank rule at 95 % confidence with N the
-//	                 number of within-season pairs and var_s as above
+//	                 number of within-season pairs and var_s as above (this
+//	                 project's choice, the direct analogue of the one-series
+//	                 interval; it is not checked against an outside library)
 //
 // Between-season dependence. The seasons of one cycle (for period P the
 // cycle of t is floor(t/P), counted from the epoch; for calendar-month the

@@ -24,8 +24,8 @@ package sqlfuncs
 //	               Mann–Kendall variance; M1 = (N − C)/2 and M2 = (N + C)/2,
 //	               each rounded half to even; lower = the M1-th smallest
 //	               slope, upper = the (M2+1)-th, ranks clamped to 1..N
-//	               (Sen 1968 eq. 2.6; Gilbert 1987, Statistical Methods for
-//	               Environmental Pollution Monitoring, §16.5) — exactly
+//	               (Sen 1968 eq. 2.6; also given in Gilbert 1987, Statistical
+//	               Methods for Environmental Pollution Monitoring) — exactly
 //	               scipy.stats.theilslopes(y, x, confidence) in scipy 1.10.1
 //	intercept      median(y) − slope_per_year · median(t)/31 557 600 s: the
 //	               line through (median t, median y), evaluated at t = 0

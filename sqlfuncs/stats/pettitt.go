@@ -10,7 +10,7 @@ package stats
 // with r_i the ranks of y (average ranks for ties; the two forms agree
 // exactly because Σ_j sgn(y_i − y_j) = 2r_i − (n + 1)). The statistic is
 // K = max_k |U_k|, attained first at k* (the earliest split in case of equal
-// |U_k|), and its approximate two-sided significance (Pettitt 1979, eq. 2.4)
+// |U_k|), and its approximate two-sided significance (Pettitt 1979)
 //
 //	p ≈ 2·exp(−6K² / (n³ + n²)),  capped at 1.
 //

@@ -148,8 +148,8 @@ func SeasonalKendall(t, y []float64, season []int, seasons int, confidence float
 }
 
 // SeasonalDependence is the between-season covariance correction of the
-// seasonal Kendall variance (Dietz & Killeen 1981, Psychometrika
-// 46:29–38; Hirsch & Slack 1984, Water Resources Research 20(6):727–732).
+// seasonal Kendall variance (Dietz & Killeen 1981, JASA 76:169–174;
+// Hirsch & Slack 1984, Water Resources Research 20(6):727–732).
 //
 // The values form a matrix x[i][g]: cycle i (e.g. the year) by season g, at
 // most one value per cell, missing cells allowed. With n the number of

@@ -710,7 +710,7 @@ type SenResult struct {
 }
 
 // SenSlope computes the Theil–Sen slope and, when 0 < confidence < 1, its
-// rank-based confidence interval (Sen 1968, eq. 2.6; Gilbert 1987, §16.5):
+// rank-based confidence interval (Sen 1968, eq. 2.6; also in Gilbert 1987):
 //
 //	C  = z_{1−α/2}·√Var(S),  α = 1 − confidence, Var(S) the Mann–Kendall
 //	     variance with the tie correction for y (no time ties exist)
