@@ -19,7 +19,7 @@ func importFixture(name string) string {
 	return filepath.Join("..", "..", "testdata", "import", name)
 }
 
-func runImport(t *testing.T, args ...string) (stdout, stderr string, code int) {
+func importRunMain(t *testing.T, args ...string) (stdout, stderr string, code int) {
 	t.Helper()
 	var out, errw bytes.Buffer
 	code = Main(args, strings.NewReader(""), &out, &errw)
@@ -41,14 +41,14 @@ func importStoreCheck(t *testing.T, db string) *store.Store {
 
 func TestImportCmdStationsAndReadings(t *testing.T) {
 	db := filepath.Join(t.TempDir(), "r.db")
-	out, errs, code := runImport(t, "--db", db, "import", "stations", importFixture("stations.csv"))
+	out, errs, code := importRunMain(t, "--db", db, "import", "stations", importFixture("stations.csv"))
 	if code != 0 || out != "" {
 		t.Fatalf("stations: code %d, stdout %q, stderr %q", code, out, errs)
 	}
 	if want := "stations.csv → batch 1: 3 rows read, 3 new, 0 already stored (0 of them updated), 0 rejected\n"; !strings.HasSuffix(errs, want) {
 		t.Errorf("stations summary = %q, want %q", errs, want)
 	}
-	out, errs, code = runImport(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
+	out, errs, code = importRunMain(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
 		"--tz", "Europe/Berlin", importFixture("readings_rejects.csv"))
 	if code != 0 || out != "" {
 		t.Fatalf("readings: code %d, stdout %q, stderr %q", code, out, errs)
@@ -62,7 +62,7 @@ func TestImportCmdStationsAndReadings(t *testing.T) {
 
 	// The same file again fails with a one-line message naming file, line
 	// and time, exit code 1, and changes nothing.
-	_, errs, code = runImport(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
+	_, errs, code = importRunMain(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
 		"--tz", "Europe/Berlin", importFixture("readings_rejects.csv"))
 	if code != ExitFailed {
 		t.Errorf("duplicate import: exit %d, want %d", code, ExitFailed)
@@ -75,7 +75,7 @@ func TestImportCmdStationsAndReadings(t *testing.T) {
 	if strings.Count(errs, "\n") != 1 {
 		t.Errorf("error is not one line: %q", errs)
 	}
-	_, errs, code = runImport(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
+	_, errs, code = importRunMain(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
 		"--tz", "Europe/Berlin", "--on-duplicate", "replace", importFixture("readings_rejects.csv"))
 	if code != 0 || !strings.Contains(errs, "18 rejected (reasons in import_rejects, batch_id 3), 4 duplicates\n") {
 		t.Errorf("replace import: exit %d, %q", code, errs)
@@ -92,7 +92,7 @@ func TestImportCmdStationsAndReadings(t *testing.T) {
 
 func TestImportCmdDelimiterDecimalCommaTZ(t *testing.T) {
 	db := filepath.Join(t.TempDir(), "r.db")
-	_, errs, code := runImport(t, "--db", db, "import", "readings", "--variable", "temp", "--delimiter", ";",
+	_, errs, code := importRunMain(t, "--db", db, "import", "readings", "--variable", "temp", "--delimiter", ";",
 		"--decimal-comma", "--tz", "America/New_York", importFixture("decimal_comma.csv"))
 	if code != 0 || !strings.Contains(errs, "3 stored, 1 rejected") {
 		t.Fatalf("exit %d, %q", code, errs)
@@ -139,7 +139,7 @@ func TestImportCmdUsageErrors(t *testing.T) {
 		{[]string{"import", "stations", dir}, ExitFailed, "is a directory"},
 	}
 	for _, c := range cases {
-		_, errs, code := runImport(t, append([]string{"--db", db}, c.args...)...)
+		_, errs, code := importRunMain(t, append([]string{"--db", db}, c.args...)...)
 		if code != c.code || !strings.Contains(errs, c.want) {
 			t.Errorf("%v: exit %d, stderr %q; want exit %d and %q", c.args, code, errs, c.code, c.want)
 		}
@@ -148,13 +148,13 @@ func TestImportCmdUsageErrors(t *testing.T) {
 	if _, err := os.Stat(db); !os.IsNotExist(err) {
 		t.Errorf("a failed flag check created the store (stat: %v)", err)
 	}
-	if _, errs, code := runImport(t, "--db", db, "import", "readings", good); code != ExitFailed ||
+	if _, errs, code := importRunMain(t, "--db", db, "import", "readings", good); code != ExitFailed ||
 		!strings.Contains(errs, "readings_good.csv line 1: no variable") || strings.Count(errs, "\n") != 1 {
 		t.Errorf("no variable: exit %d, %q", code, errs)
 	}
 }
 
-func TestParseDelimiter(t *testing.T) {
+func TestImportParseDelimiter(t *testing.T) {
 	for in, want := range map[string]byte{",": ',', ";": ';', "tab": '\t', `\t`: '\t', "|": '|'} {
 		if got, err := parseDelimiter(in); err != nil || got != want {
 			t.Errorf("parseDelimiter(%q) = %q, %v", in, got, err)
