@@ -73,7 +73,7 @@ rejected with the reason.`,
   trendsql import stations --delimiter ';' --decimal-comma sites.csv`,
 		Args: exactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			delim, err := parseDelimiter(f.delimiter)
+			delim, err := importDelimiter(f.delimiter)
 			if err != nil {
 				return err
 			}
@@ -92,11 +92,11 @@ rejected with the reason.`,
 			if err != nil {
 				return err
 			}
-			fmt.Fprintln(e.errw, stationsSummary(res))
+			fmt.Fprintln(e.errw, importStationsSummary(res))
 			return nil
 		},
 	}
-	addCSVFlags(c, f)
+	addImportCSVFlags(c, f)
 	return c
 }
 
@@ -149,11 +149,11 @@ changes nothing and is counted as duplicate only).`,
 			if err != nil {
 				return err
 			}
-			fmt.Fprintln(e.errw, readingsSummary(res))
+			fmt.Fprintln(e.errw, importReadingsSummary(res))
 			return nil
 		},
 	}
-	addCSVFlags(c, f)
+	addImportCSVFlags(c, f)
 	fl := c.Flags()
 	fl.StringVar(&f.stationCol, "station-col", "", `column with the station id (default "station")`)
 	fl.StringVar(&f.timeCol, "time-col", "", `column with the time (default "time")`)
@@ -167,7 +167,7 @@ changes nothing and is counted as duplicate only).`,
 	return c
 }
 
-func addCSVFlags(c *cobra.Command, f *importFlags) {
+func addImportCSVFlags(c *cobra.Command, f *importFlags) {
 	c.Flags().StringVar(&f.delimiter, "delimiter", ",", `field separator: one character, or "tab"`)
 	c.Flags().BoolVar(&f.decimalComma, "decimal-comma", false, "numbers use a decimal comma (12,5); a point is then refused")
 }
@@ -175,7 +175,7 @@ func addCSVFlags(c *cobra.Command, f *importFlags) {
 // readingsOptions checks the flags and turns them into store options.
 func (f *importFlags) readingsOptions() (store.ReadingsOptions, error) {
 	var opt store.ReadingsOptions
-	delim, err := parseDelimiter(f.delimiter)
+	delim, err := importDelimiter(f.delimiter)
 	if err != nil {
 		return opt, err
 	}
@@ -197,7 +197,7 @@ func (f *importFlags) readingsOptions() (store.ReadingsOptions, error) {
 }
 
 // parseDelimiter accepts one ASCII character or "tab" / `\t`.
-func parseDelimiter(s string) (byte, error) {
+func importDelimiter(s string) (byte, error) {
 	switch s {
 	case "tab", `\t`, "\t":
 		return '\t', nil
@@ -276,7 +276,7 @@ func importCount(n int64, one, many string) string {
 	return fmt.Sprintf("%d %s", n, many)
 }
 
-func rejectNote(r *store.ImportResult) string {
+func importRejectNote(r *store.ImportResult) string {
 	if r.RowsRejected == 0 {
 		return "0 rejected"
 	}
@@ -284,9 +284,9 @@ func rejectNote(r *store.ImportResult) string {
 }
 
 // readingsSummary is the one-line account of a readings import.
-func readingsSummary(r *store.ImportResult) string {
+func importReadingsSummary(r *store.ImportResult) string {
 	s := fmt.Sprintf("%s → batch %d: %s read, %d stored, %s, %s",
-		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, rejectNote(r), importCount(r.RowsDuplicate, "duplicate", "duplicates"))
+		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, importRejectNote(r), importCount(r.RowsDuplicate, "duplicate", "duplicates"))
 	if r.RowsReplaced > 0 {
 		s += fmt.Sprintf(" (%d replaced)", r.RowsReplaced)
 	}
@@ -304,7 +304,7 @@ func readingsSummary(r *store.ImportResult) string {
 }
 
 // stationsSummary is the one-line account of a stations import.
-func stationsSummary(r *store.ImportResult) string {
+func importStationsSummary(r *store.ImportResult) string {
 	return fmt.Sprintf("%s → batch %d: %s read, %d new, %d already stored (%d of them updated), %s",
-		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, r.RowsDuplicate, r.RowsReplaced, rejectNote(r))
+		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, r.RowsDuplicate, r.RowsReplaced, importRejectNote(r))
 }

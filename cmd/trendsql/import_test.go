@@ -156,13 +156,13 @@ func TestImportCmdUsageErrors(t *testing.T) {
 
 func TestImportParseDelimiter(t *testing.T) {
 	for in, want := range map[string]byte{",": ',', ";": ';', "tab": '\t', `\t`: '\t', "|": '|'} {
-		if got, err := parseDelimiter(in); err != nil || got != want {
-			t.Errorf("parseDelimiter(%q) = %q, %v", in, got, err)
+		if got, err := importDelimiter(in); err != nil || got != want {
+			t.Errorf("importDelimiter(%q) = %q, %v", in, got, err)
 		}
 	}
 	for _, in := range []string{"", ";;", `"`, "\n", "é"} {
-		if _, err := parseDelimiter(in); err == nil {
-			t.Errorf("parseDelimiter(%q): no error", in)
+		if _, err := importDelimiter(in); err == nil {
+			t.Errorf("importDelimiter(%q): no error", in)
 		}
 	}
 }
