@@ -26,7 +26,8 @@ package sqlfuncs
 //	               slope, upper = the (M2+1)-th, ranks clamped to 1..N
 //	               (Sen 1968 eq. 2.6; also given in Gilbert 1987, Statistical
 //	               Methods for Environmental Pollution Monitoring) — exactly
-//	               scipy.stats.theilslopes(y, x, confidence) in scipy 1.10.1
+//	               scipy.stats.theilslopes(y, x, alpha=confidence) in scipy
+//	               1.10.1 (whose "alpha" is the confidence level)
 //	intercept      median(y) − slope_per_year · median(t)/31 557 600 s: the
 //	               line through (median t, median y), evaluated at t = 0
 //	               (1970-01-01T00:00:00Z); this is scipy.stats.theilslopes'
