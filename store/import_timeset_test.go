@@ -16,7 +16,7 @@ func TestTimeSetAgainstMap(t *testing.T) {
 		"irregular ascending": nil, // filled below
 		"random small range":  func(int) int64 { return rng.Int64N(400) * 60 },
 		"repeats then new":    func(i int) int64 { return int64(i%300) * 10 },
-		"descending then up":  func(i int) int64 { return int64(tsAbs(i-500)) * 7 },
+		"descending then up":  func(i int) int64 { return int64(impAbs(i-500)) * 7 },
 		"huge values":         func(i int) int64 { return (1 << 62) - int64(i%50)*3 },
 	}
 	var acc int64
@@ -59,7 +59,7 @@ func TestTimeSetRegularIsCompact(t *testing.T) {
 	}
 }
 
-func tsAbs(i int) int {
+func impAbs(i int) int {
 	if i < 0 {
 		return -i
 	}

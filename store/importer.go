@@ -179,7 +179,7 @@ func (e *dupError) Unwrap() error { return ErrDuplicate }
 const progressEvery = 4096
 
 // input is an opened import file with hashing and byte counting.
-type input struct {
+type importInput struct {
 	f     io.ReadCloser
 	name  string
 	abs   string
@@ -188,7 +188,7 @@ type input struct {
 	bytes atomic.Int64 // written by the reading goroutine, read for progress
 }
 
-func (in *input) Read(p []byte) (int, error) {
+func (in *importInput) Read(p []byte) (int, error) {
 	n, err := in.f.Read(p)
 	if n > 0 {
 		in.h.Write(p[:n])
@@ -197,12 +197,12 @@ func (in *input) Read(p []byte) (int, error) {
 	return n, err
 }
 
-func openInput(path string) (*input, error) {
+func openInput(path string) (*importInput, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, err
 	}
-	in := &input{f: f, name: path, abs: path, size: -1, h: sha256.New()}
+	in := &importInput{f: f, name: path, abs: path, size: -1, h: sha256.New()}
 	if st, err := f.Stat(); err == nil {
 		if st.IsDir() {
 			f.Close()
@@ -218,9 +218,9 @@ func openInput(path string) (*input, error) {
 
 // batch holds what every import kind shares: the transaction, the batch row,
 // the reject writer and the counts.
-type batch struct {
+type importBatch struct {
 	tx      *sql.Tx
-	in      *input
+	in      *importInput
 	res     ImportResult
 	rejects []any
 	nrej    int
@@ -229,7 +229,7 @@ type batch struct {
 
 const rejectsPerInsert = 200
 
-func (s *Store) beginBatch(ctx context.Context, kind string, in *input, options any, prog func(Progress)) (*batch, error) {
+func (s *Store) beginBatch(ctx context.Context, kind string, in *importInput, options any, prog func(Progress)) (*importBatch, error) {
 	opts, err := json.Marshal(options)
 	if err != nil {
 		return nil, err
@@ -238,10 +238,10 @@ func (s *Store) beginBatch(ctx context.Context, kind string, in *input, options 
 	if err != nil {
 		return nil, fmt.Errorf("import %s: begin: %w", in.name, err)
 	}
-	b := &batch{tx: tx, in: in, prog: prog}
+	b := &importBatch{tx: tx, in: in, prog: prog}
 	b.res.Kind, b.res.File, b.res.Source = kind, in.name, in.abs
 	r, err := tx.ExecContext(ctx, `INSERT INTO import_batches(kind, source, started_at, options) VALUES (?, ?, ?, ?)`,
-		kind, in.abs, nowText(), string(opts))
+		kind, in.abs, importNow(), string(opts))
 	if err == nil {
 		b.res.BatchID, err = r.LastInsertId()
 	}
@@ -252,10 +252,10 @@ func (s *Store) beginBatch(ctx context.Context, kind string, in *input, options 
 	return b, nil
 }
 
-func nowText() string { return time.Now().UTC().Format("2006-01-02T15:04:05.000Z") }
+func importNow() string { return time.Now().UTC().Format("2006-01-02T15:04:05.000Z") }
 
 // reject records one rejected record.
-func (b *batch) reject(ctx context.Context, line int, raw string, reason string) error {
+func (b *importBatch) reject(ctx context.Context, line int, raw string, reason string) error {
 	b.res.RowsRejected++
 	b.rejects = append(b.rejects, b.res.BatchID, line, capRaw(raw), reason)
 	b.nrej++
@@ -265,7 +265,7 @@ func (b *batch) reject(ctx context.Context, line int, raw string, reason string)
 	return nil
 }
 
-func (b *batch) flushRejects(ctx context.Context) error {
+func (b *importBatch) flushRejects(ctx context.Context) error {
 	if b.nrej == 0 {
 		return nil
 	}
@@ -279,7 +279,7 @@ func (b *batch) flushRejects(ctx context.Context) error {
 	return nil
 }
 
-func (b *batch) progress(ctx context.Context) error {
+func (b *importBatch) progress(ctx context.Context) error {
 	if b.prog != nil {
 		b.prog(Progress{Rows: b.res.RowsRead, Bytes: b.in.bytes.Load(), TotalBytes: b.in.size})
 	}
@@ -290,7 +290,7 @@ func (b *batch) progress(ctx context.Context) error {
 }
 
 // finish writes the counts and commits.
-func (b *batch) finish(ctx context.Context) error {
+func (b *importBatch) finish(ctx context.Context) error {
 	if err := b.flushRejects(ctx); err != nil {
 		return err
 	}
@@ -301,7 +301,7 @@ func (b *batch) finish(ctx context.Context) error {
 	r := &b.res
 	if _, err := b.tx.ExecContext(ctx, `UPDATE import_batches SET source_sha256 = ?, finished_at = ?,
 		rows_read = ?, rows_stored = ?, rows_rejected = ?, rows_duplicate = ?, rows_replaced = ? WHERE id = ?`,
-		r.SHA256, nowText(), r.RowsRead, r.RowsStored, r.RowsRejected, r.RowsDuplicate, r.RowsReplaced, r.BatchID); err != nil {
+		r.SHA256, importNow(), r.RowsRead, r.RowsStored, r.RowsRejected, r.RowsDuplicate, r.RowsReplaced, r.BatchID); err != nil {
 		return fmt.Errorf("import %s: record counts: %w", b.in.name, err)
 	}
 	if err := b.tx.Commit(); err != nil {
@@ -311,15 +311,15 @@ func (b *batch) finish(ctx context.Context) error {
 }
 
 // header maps column names (case-insensitive, trimmed) to indexes.
-type header struct {
+type csvHeader struct {
 	line  int // line number of the header
 	names []string
 	idx   map[string]int
 	dup   map[string]bool
 }
 
-func newHeader(fields []string) *header {
-	h := &header{idx: map[string]int{}, dup: map[string]bool{}}
+func newHeader(fields []string) *csvHeader {
+	h := &csvHeader{idx: map[string]int{}, dup: map[string]bool{}}
 	for i, f := range fields {
 		n := strings.TrimSpace(f)
 		h.names = append(h.names, n)
@@ -337,7 +337,7 @@ func newHeader(fields []string) *header {
 
 // find returns the index of column name, -1 if absent, or an error if the
 // header has it twice.
-func (h *header) find(name string) (int, error) {
+func (h *csvHeader) find(name string) (int, error) {
 	k := strings.ToLower(strings.TrimSpace(name))
 	i, ok := h.idx[k]
 	if !ok {
@@ -349,7 +349,7 @@ func (h *header) find(name string) (int, error) {
 	return i, nil
 }
 
-func (h *header) list() string {
+func (h *csvHeader) list() string {
 	q := make([]string, len(h.names))
 	for i, n := range h.names {
 		q[i] = strconv.Quote(n)
@@ -367,7 +367,7 @@ func (h *header) list() string {
 }
 
 // readHeader reads the header record.
-func readHeader(cr *csvReader, name string) (*header, error) {
+func readHeader(cr *csvReader, name string) (*csvHeader, error) {
 	rec, err := cr.next()
 	if err != nil {
 		return nil, &InputError{File: name, Msg: "read: " + err.Error()}
@@ -386,7 +386,7 @@ func readHeader(cr *csvReader, name string) (*header, error) {
 // checkWidth returns a reject reason when a record is malformed or its field
 // count differs from the header's, or when a column without a header name
 // holds text.
-func checkWidth(rec *csvRecord, h *header) string {
+func checkWidth(rec *csvRecord, h *csvHeader) string {
 	if rec.bad != "" {
 		return "malformed record: " + rec.bad
 	}
@@ -527,7 +527,7 @@ type storedVal struct {
 const pendingRows = 2048
 
 type readingsImporter struct {
-	*batch
+	*importBatch
 	opt     ReadingsOptions
 	loc     *time.Location
 	w       *ReadingWriter
@@ -581,7 +581,7 @@ func (s *Store) ImportReadings(ctx context.Context, path string, opt ReadingsOpt
 	return s.importReadings(ctx, in, opt, loc)
 }
 
-func (s *Store) importReadings(ctx context.Context, in *input, opt ReadingsOptions, loc *time.Location) (*ImportResult, error) {
+func (s *Store) importReadings(ctx context.Context, in *importInput, opt ReadingsOptions, loc *time.Location) (*ImportResult, error) {
 	cr := newCSVReader(in, delimOf(opt.Delimiter))
 	h, err := readHeader(cr, in.name)
 	if err != nil {
@@ -644,7 +644,7 @@ func (s *Store) importReadings(ctx context.Context, in *input, opt ReadingsOptio
 	}
 	defer b.tx.Rollback()
 
-	im := &readingsImporter{batch: b, opt: opt, loc: loc, byKey: map[seriesKey]*seriesState{},
+	im := &readingsImporter{importBatch: b, opt: opt, loc: loc, byKey: map[seriesKey]*seriesState{},
 		probes: map[*seriesState][]int64{}, found: map[storedKey]storedVal{}}
 	if err := im.prepare(ctx); err != nil {
 		return nil, err
@@ -784,7 +784,7 @@ const chunkRows = 1024
 // parseAsync starts the goroutine that reads and parses records. The
 // returned stop function ends it and waits for it; call it before the file
 // is closed.
-func (im *readingsImporter) parseAsync(cr *csvReader, h *header, cols rowCols) (<-chan *parsedChunk, func()) {
+func (im *readingsImporter) parseAsync(cr *csvReader, h *csvHeader, cols rowCols) (<-chan *parsedChunk, func()) {
 	chunks := make(chan *parsedChunk, 4)
 	im.free = make(chan *parsedChunk, 8)
 	quit := make(chan struct{})
@@ -844,7 +844,7 @@ func (im *readingsImporter) recycle(c *parsedChunk) {
 
 // parse checks one record and parses its fields. It touches no database
 // and no importer state, so it runs on the reading goroutine.
-func (im *readingsImporter) parse(r *csvRecord, h *header, c rowCols) parsedRow {
+func (im *readingsImporter) parse(r *csvRecord, h *csvHeader, c rowCols) parsedRow {
 	p := parsedRow{line: r.line, raw: r.raw}
 	if p.reason = checkWidth(r, h); p.reason != "" {
 		return p

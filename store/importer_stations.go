@@ -56,7 +56,7 @@ func (s *Store) ImportStations(ctx context.Context, path string, opt StationsOpt
 	return s.importStations(ctx, in, opt)
 }
 
-func (s *Store) importStations(ctx context.Context, in *input, opt StationsOptions) (*ImportResult, error) {
+func (s *Store) importStations(ctx context.Context, in *importInput, opt StationsOptions) (*ImportResult, error) {
 	cr := newCSVReader(in, delimOf(opt.Delimiter))
 	h, err := readHeader(cr, in.name)
 	if err != nil {
@@ -156,8 +156,8 @@ type stationFields struct {
 	meta                map[string]json.RawMessage
 }
 
-func stationRow(ctx context.Context, b *batch, sel *sql.Stmt, r *csvRecord, iID int, known map[string]int,
-	metaIdx []int, h *header, decimalComma bool) (string, error) {
+func stationRow(ctx context.Context, b *importBatch, sel *sql.Stmt, r *csvRecord, iID int, known map[string]int,
+	metaIdx []int, h *csvHeader, decimalComma bool) (string, error) {
 	f := r.fields
 	id := strings.TrimSpace(f[iID])
 	if id == "" {
@@ -220,7 +220,7 @@ func stationRow(ctx context.Context, b *batch, sel *sql.Stmt, r *csvRecord, iID 
 			return "", err
 		}
 		if _, err := b.tx.ExecContext(ctx, `INSERT INTO stations(id, name, latitude, longitude, elevation_m, metadata) VALUES (?, ?, ?, ?, ?, ?)`,
-			id, ptrArg(in.name), ptrArg(in.lat), ptrArg(in.lon), ptrArg(in.elevation), metaText); err != nil {
+			id, importNullable(in.name), importNullable(in.lat), importNullable(in.lon), importNullable(in.elevation), metaText); err != nil {
 			return "", fmt.Errorf("import %s line %d: insert station %q: %w", b.in.name, r.line, id, err)
 		}
 		b.res.RowsStored++
@@ -268,14 +268,14 @@ func stationRow(ctx context.Context, b *batch, sel *sql.Stmt, r *csvRecord, iID 
 		return "", err
 	}
 	if _, err := b.tx.ExecContext(ctx, `UPDATE stations SET name = ?, latitude = ?, longitude = ?, elevation_m = ?, metadata = ? WHERE id = ?`,
-		ptrArg(st.name), ptrArg(st.lat), ptrArg(st.lon), ptrArg(st.elevation), metaText, id); err != nil {
+		importNullable(st.name), importNullable(st.lat), importNullable(st.lon), importNullable(st.elevation), metaText, id); err != nil {
 		return "", fmt.Errorf("import %s line %d: update station %q: %w", b.in.name, r.line, id, err)
 	}
 	b.res.RowsReplaced++
 	return "", nil
 }
 
-func ptrArg[T any](p *T) any {
+func importNullable[T any](p *T) any {
 	if p == nil {
 		return nil
 	}

@@ -24,10 +24,10 @@ import (
 	"time"
 )
 
-func fixture(name string) string { return filepath.Join("..", "testdata", "import", name) }
+func impFixture(name string) string { return filepath.Join("..", "testdata", "import", name) }
 
 // openTestStore opens a fresh store and checks its integrity at the end.
-func openTestStore(t testing.TB) *Store {
+func impOpenStore(t testing.TB) *Store {
 	t.Helper()
 	ctx := context.Background()
 	s, err := Open(ctx, filepath.Join(t.TempDir(), "test.db"), Options{})
@@ -43,21 +43,21 @@ func openTestStore(t testing.TB) *Store {
 	return s
 }
 
-func checkIntegrity(t *testing.T, s *Store) {
+func impIntegrity(t *testing.T, s *Store) {
 	t.Helper()
 	if err := s.IntegrityCheck(context.Background()); err != nil {
 		t.Fatal(err)
 	}
 }
 
-var importTables = []string{"stations", "series", "readings", "import_batches", "import_rejects", "series_batches"}
+var impTables = []string{"stations", "series", "readings", "import_batches", "import_rejects", "series_batches"}
 
 // snapshot renders the full content of every table the import writes, so
 // two snapshots are equal only if nothing changed.
-func snapshot(t *testing.T, s *Store) string {
+func impSnapshot(t *testing.T, s *Store) string {
 	t.Helper()
 	var b strings.Builder
-	for _, tab := range importTables {
+	for _, tab := range impTables {
 		rows, err := s.DB.Query("SELECT * FROM " + tab + " ORDER BY 1, 2")
 		if err != nil {
 			t.Fatal(err)
@@ -82,7 +82,7 @@ func snapshot(t *testing.T, s *Store) string {
 	return b.String()
 }
 
-func count(t *testing.T, s *Store, q string, args ...any) int64 {
+func impCount(t *testing.T, s *Store, q string, args ...any) int64 {
 	t.Helper()
 	var n int64
 	if err := s.DB.QueryRow(q, args...).Scan(&n); err != nil {
@@ -91,18 +91,18 @@ func count(t *testing.T, s *Store, q string, args ...any) int64 {
 	return n
 }
 
-type counts struct{ read, stored, rejected, dup, replaced int64 }
+type impCounts struct{ read, stored, rejected, dup, replaced int64 }
 
-func checkCounts(t *testing.T, s *Store, res *ImportResult, want counts) {
+func impCheckCounts(t *testing.T, s *Store, res *ImportResult, want impCounts) {
 	t.Helper()
-	got := counts{res.RowsRead, res.RowsStored, res.RowsRejected, res.RowsDuplicate, res.RowsReplaced}
+	got := impCounts{res.RowsRead, res.RowsStored, res.RowsRejected, res.RowsDuplicate, res.RowsReplaced}
 	if got != want {
 		t.Errorf("result counts (read, stored, rejected, dup, replaced) = %+v, want %+v", got, want)
 	}
 	if got.read != got.stored+got.rejected+got.dup {
 		t.Errorf("read %d != stored+rejected+duplicate %d", got.read, got.stored+got.rejected+got.dup)
 	}
-	var db counts
+	var db impCounts
 	if err := s.DB.QueryRow(`SELECT rows_read, rows_stored, rows_rejected, rows_duplicate, rows_replaced FROM import_batches WHERE id = ?`,
 		res.BatchID).Scan(&db.read, &db.stored, &db.rejected, &db.dup, &db.replaced); err != nil {
 		t.Fatal(err)
@@ -110,29 +110,29 @@ func checkCounts(t *testing.T, s *Store, res *ImportResult, want counts) {
 	if db != want {
 		t.Errorf("import_batches counts = %+v, want %+v", db, want)
 	}
-	if n := count(t, s, `SELECT count(*) FROM import_rejects WHERE batch_id = ?`, res.BatchID); n != want.rejected {
+	if n := impCount(t, s, `SELECT count(*) FROM import_rejects WHERE batch_id = ?`, res.BatchID); n != want.rejected {
 		t.Errorf("import_rejects has %d rows for the batch, want %d", n, want.rejected)
 	}
-	checkIntegrity(t, s)
+	impIntegrity(t, s)
 }
 
-type reading struct {
+type impReading struct {
 	station, variable string
 	t                 int64
 	v                 float64
 	q                 string // "<nil>" for NULL
 }
 
-func readingsOf(t *testing.T, s *Store) []reading {
+func impReadingsOf(t *testing.T, s *Store) []impReading {
 	t.Helper()
 	rows, err := s.DB.Query(`SELECT station_id, variable, t, value, qualifier FROM readings_view ORDER BY station_id, variable, t`)
 	if err != nil {
 		t.Fatal(err)
 	}
 	defer rows.Close()
-	var out []reading
+	var out []impReading
 	for rows.Next() {
-		var r reading
+		var r impReading
 		var q sql.NullString
 		if err := rows.Scan(&r.station, &r.variable, &r.t, &r.v, &q); err != nil {
 			t.Fatal(err)
@@ -146,16 +146,16 @@ func readingsOf(t *testing.T, s *Store) []reading {
 	return out
 }
 
-func checkReadings(t *testing.T, s *Store, want []reading) {
+func impCheckReadings(t *testing.T, s *Store, want []impReading) {
 	t.Helper()
-	got := readingsOf(t, s)
+	got := impReadingsOf(t, s)
 	if fmt.Sprint(got) != fmt.Sprint(want) {
 		t.Errorf("readings:\n got %v\nwant %v", got, want)
 	}
 }
 
 // rejectsOf returns line -> (reason, raw) for a batch.
-func rejectsOf(t *testing.T, s *Store, batch int64) map[int][2]string {
+func impRejectsOf(t *testing.T, s *Store, batch int64) map[int][2]string {
 	t.Helper()
 	rows, err := s.DB.Query(`SELECT line, reason, raw FROM import_rejects WHERE batch_id = ?`, batch)
 	if err != nil {
@@ -174,9 +174,9 @@ func rejectsOf(t *testing.T, s *Store, batch int64) map[int][2]string {
 	return out
 }
 
-func checkRejects(t *testing.T, s *Store, batch int64, want map[int]string) {
+func impCheckRejects(t *testing.T, s *Store, batch int64, want map[int]string) {
 	t.Helper()
-	got := rejectsOf(t, s, batch)
+	got := impRejectsOf(t, s, batch)
 	for line, sub := range want {
 		r, ok := got[line]
 		if !ok {
@@ -196,12 +196,12 @@ func checkRejects(t *testing.T, s *Store, batch int64, want map[int]string) {
 
 func TestImportStationsAndMerge(t *testing.T) {
 	ctx := context.Background()
-	s := openTestStore(t)
-	res, err := s.ImportStations(ctx, fixture("stations.csv"), StationsOptions{})
+	s := impOpenStore(t)
+	res, err := s.ImportStations(ctx, impFixture("stations.csv"), StationsOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 3, stored: 3})
+	impCheckCounts(t, s, res, impCounts{read: 3, stored: 3})
 	type st struct {
 		name           sql.NullString
 		lat, lon, elev sql.NullFloat64
@@ -228,14 +228,14 @@ func TestImportStationsAndMerge(t *testing.T) {
 		t.Errorf("W3 = %+v", w3)
 	}
 
-	res, err = s.ImportStations(ctx, fixture("stations_update.csv"), StationsOptions{})
+	res, err = s.ImportStations(ctx, impFixture("stations_update.csv"), StationsOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	// G1 identical (duplicate), G2 and W3 changed (duplicate+replaced), N4
 	// new, N4 again on line 12 (duplicate+replaced), six rejects.
-	checkCounts(t, s, res, counts{read: 11, stored: 1, rejected: 6, dup: 4, replaced: 3})
-	checkRejects(t, s, res.BatchID, map[int]string{
+	impCheckCounts(t, s, res, impCounts{read: 11, stored: 1, rejected: 6, dup: 4, replaced: 3})
+	impCheckRejects(t, s, res.BatchID, map[int]string{
 		6:  "latitude: 91 is outside [-90, 90]",
 		7:  "longitude: -180.5 is outside [-180, 180]",
 		8:  `latitude: value "abc" is not a number`,
@@ -243,7 +243,7 @@ func TestImportStationsAndMerge(t *testing.T) {
 		10: "missing station id",
 		11: `metadata: "[1]" is not a JSON object`,
 	})
-	if r := rejectsOf(t, s, res.BatchID)[6][1]; r != "B5,Bad latitude,91,0,,," {
+	if r := impRejectsOf(t, s, res.BatchID)[6][1]; r != "B5,Bad latitude,91,0,,," {
 		t.Errorf("raw of line 6 = %q", r)
 	}
 	// G2: the empty name keeps the stored one; aquifer overwritten, the
@@ -260,12 +260,12 @@ func TestImportStationsAndMerge(t *testing.T) {
 	if g1 := get("G1"); g1.meta != `{"install_date":"2015-06-01","sensor_model":"PT-200"}` {
 		t.Errorf("G1 after merge = %+v", g1)
 	}
-	if n := count(t, s, `SELECT count(*) FROM stations WHERE id LIKE 'B%'`); n != 0 {
+	if n := impCount(t, s, `SELECT count(*) FROM stations WHERE id LIKE 'B%'`); n != 0 {
 		t.Errorf("%d rejected stations were stored", n)
 	}
 }
 
-func fileSHA(t *testing.T, path string) string {
+func impFileSHA(t *testing.T, path string) string {
 	b, err := os.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
@@ -274,7 +274,7 @@ func fileSHA(t *testing.T, path string) string {
 	return hex.EncodeToString(h[:])
 }
 
-var goodReadings = []reading{
+var impGoodReadings = []impReading{
 	{"G1", "stage", 1609459200, 1.25, "<nil>"},
 	{"G1", "stage", 1609462800, 1.5, "E"},
 	{"G1", "stage", 1609466400, 1.75, "<nil>"},
@@ -285,22 +285,22 @@ var goodReadings = []reading{
 
 func TestImportReadingsGood(t *testing.T) {
 	ctx := context.Background()
-	s := openTestStore(t)
+	s := impOpenStore(t)
 	var last Progress
 	calls := 0
-	res, err := s.ImportReadings(ctx, fixture("readings_good.csv"), ReadingsOptions{Variable: "stage", Unit: "m",
+	res, err := s.ImportReadings(ctx, impFixture("readings_good.csv"), ReadingsOptions{Variable: "stage", Unit: "m",
 		Progress: func(p Progress) { last = p; calls++ }})
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 6, stored: 6})
+	impCheckCounts(t, s, res, impCounts{read: 6, stored: 6})
 	if res.StationsCreated != 2 || res.SeriesCreated != 2 || res.SeriesWritten != 2 {
 		t.Errorf("created stations %d, series %d, written %d; want 2, 2, 2", res.StationsCreated, res.SeriesCreated, res.SeriesWritten)
 	}
 	// The file has a byte order mark, CRLF line ends, a blank line, all time
 	// forms and a qualifier with blanks that is kept verbatim.
-	checkReadings(t, s, goodReadings)
-	st, _ := os.Stat(fixture("readings_good.csv"))
+	impCheckReadings(t, s, impGoodReadings)
+	st, _ := os.Stat(impFixture("readings_good.csv"))
 	if calls == 0 || last.Rows != 6 || last.Bytes != st.Size() || last.TotalBytes != st.Size() {
 		t.Errorf("progress: %d calls, last %+v, file size %d", calls, last, st.Size())
 	}
@@ -310,8 +310,8 @@ func TestImportReadingsGood(t *testing.T) {
 		Scan(&kind, &source, &sha, &opts, &started, &finished); err != nil {
 		t.Fatal(err)
 	}
-	abs, _ := filepath.Abs(fixture("readings_good.csv"))
-	if kind != "readings" || source != abs || sha != fileSHA(t, fixture("readings_good.csv")) || !finished.Valid || started == "" {
+	abs, _ := filepath.Abs(impFixture("readings_good.csv"))
+	if kind != "readings" || source != abs || sha != impFileSHA(t, impFixture("readings_good.csv")) || !finished.Valid || started == "" {
 		t.Errorf("batch: kind %q source %q sha %q started %q finished %v", kind, source, sha, started, finished)
 	}
 	var o map[string]any
@@ -321,46 +321,46 @@ func TestImportReadingsGood(t *testing.T) {
 	if o["tz"] != "UTC" || o["on_duplicate"] != "error" || o["variable"] != "stage" || o["unit"] != "m" || o["station_col"] != "station" || o["qualifier_col"] != "qualifier" {
 		t.Errorf("options = %s", opts)
 	}
-	if n := count(t, s, `SELECT count(*) FROM series WHERE unit = 'm'`); n != 2 {
+	if n := impCount(t, s, `SELECT count(*) FROM series WHERE unit = 'm'`); n != 2 {
 		t.Errorf("%d series with unit m, want 2", n)
 	}
-	if n := count(t, s, `SELECT count(*) FROM series_batches WHERE batch_id = ? AND rows = 3`, res.BatchID); n != 2 {
+	if n := impCount(t, s, `SELECT count(*) FROM series_batches WHERE batch_id = ? AND rows = 3`, res.BatchID); n != 2 {
 		t.Errorf("series_batches: %d series with 3 rows, want 2", n)
 	}
 	// Stations created by a readings import have their id only.
-	if n := count(t, s, `SELECT count(*) FROM stations WHERE name IS NULL AND metadata = '{}'`); n != 2 {
+	if n := impCount(t, s, `SELECT count(*) FROM stations WHERE name IS NULL AND metadata = '{}'`); n != 2 {
 		t.Errorf("%d bare stations, want 2", n)
 	}
 }
 
 func TestImportReadingsAfterStations(t *testing.T) {
 	ctx := context.Background()
-	s := openTestStore(t)
-	if _, err := s.ImportStations(ctx, fixture("stations.csv"), StationsOptions{}); err != nil {
+	s := impOpenStore(t)
+	if _, err := s.ImportStations(ctx, impFixture("stations.csv"), StationsOptions{}); err != nil {
 		t.Fatal(err)
 	}
-	res, err := s.ImportReadings(ctx, fixture("readings_good.csv"), ReadingsOptions{Variable: "stage"})
+	res, err := s.ImportReadings(ctx, impFixture("readings_good.csv"), ReadingsOptions{Variable: "stage"})
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 6, stored: 6})
+	impCheckCounts(t, s, res, impCounts{read: 6, stored: 6})
 	if res.StationsCreated != 0 {
 		t.Errorf("created %d stations, want 0", res.StationsCreated)
 	}
-	if n := count(t, s, `SELECT count(*) FROM readings_view WHERE station_name = 'Mill Weir gauge'`); n != 3 {
+	if n := impCount(t, s, `SELECT count(*) FROM readings_view WHERE station_name = 'Mill Weir gauge'`); n != 3 {
 		t.Errorf("%d readings joined to G1's name, want 3", n)
 	}
 }
 
 func TestImportReadingsRejects(t *testing.T) {
 	ctx := context.Background()
-	s := openTestStore(t)
-	res, err := s.ImportReadings(ctx, fixture("readings_rejects.csv"), ReadingsOptions{Variable: "level", Unit: "m", TZ: "Europe/Berlin"})
+	s := impOpenStore(t)
+	res, err := s.ImportReadings(ctx, impFixture("readings_rejects.csv"), ReadingsOptions{Variable: "level", Unit: "m", TZ: "Europe/Berlin"})
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 22, stored: 4, rejected: 18})
-	checkRejects(t, s, res.BatchID, map[int]string{
+	impCheckCounts(t, s, res, impCounts{read: 22, stored: 4, rejected: 18})
+	impCheckRejects(t, s, res.BatchID, map[int]string{
 		3:  "empty value",
 		4:  `value "NA" is a missing-value marker`,
 		5:  `value "NaN" is not a number (NaN)`,
@@ -380,7 +380,7 @@ func TestImportReadingsRejects(t *testing.T) {
 		19: "malformed record: text after a closing quote",
 		22: `value "1_000" is not a number`,
 	})
-	rj := rejectsOf(t, s, res.BatchID)
+	rj := impRejectsOf(t, s, res.BatchID)
 	for line, raw := range map[int]string{3: "R1,2021-03-28 01:15,,", 19: `R1,2021-03-28 05:30,"2.0,"q`, 22: "R1,2021-03-28 06:15,1_000,"} {
 		if rj[line][1] != raw {
 			t.Errorf("raw of line %d = %q, want %q", line, rj[line][1], raw)
@@ -391,7 +391,7 @@ func TestImportReadingsRejects(t *testing.T) {
 	}
 	// Local times: 01:00 CET, 06:00 CEST (a quoted two-line qualifier with an
 	// escaped quote), an explicit offset, and a padded value.
-	checkReadings(t, s, []reading{
+	impCheckReadings(t, s, []impReading{
 		{"R1", "level", 1616889600, 1, "<nil>"},
 		{"R1", "level", 1616904000, 3.5, "multi\nline \"flag\""},
 		{"R1", "level", 1616905800, 4.25, "<nil>"},
@@ -400,33 +400,33 @@ func TestImportReadingsRejects(t *testing.T) {
 
 	// A unit differing from the stored unit rejects that series' rows; a new
 	// station in the same file is created.
-	res, err = s.ImportReadings(ctx, fixture("unit_conflict.csv"), ReadingsOptions{Variable: "level", Unit: "cm"})
+	res, err = s.ImportReadings(ctx, impFixture("unit_conflict.csv"), ReadingsOptions{Variable: "level", Unit: "cm"})
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 3, stored: 1, rejected: 2})
-	checkRejects(t, s, res.BatchID, map[int]string{
+	impCheckCounts(t, s, res, impCounts{read: 3, stored: 1, rejected: 2})
+	impCheckRejects(t, s, res.BatchID, map[int]string{
 		2: `unit conflict: station "R1" variable "level" is stored in "m", this import gives "cm"`,
 		4: "unit conflict",
 	})
 	if res.StationsCreated != 1 || res.SeriesCreated != 1 {
 		t.Errorf("created %d stations %d series, want 1 1", res.StationsCreated, res.SeriesCreated)
 	}
-	if n := count(t, s, `SELECT count(*) FROM series WHERE station_id = 'R1' AND unit = 'm'`); n != 1 {
+	if n := impCount(t, s, `SELECT count(*) FROM series WHERE station_id = 'R1' AND unit = 'm'`); n != 1 {
 		t.Errorf("R1's unit changed")
 	}
 }
 
 func TestImportDuplicatesWithinFile(t *testing.T) {
 	ctx := context.Background()
-	file := fixture("dup_within.csv")
+	file := impFixture("dup_within.csv")
 
 	t.Run("error", func(t *testing.T) {
-		s := openTestStore(t)
-		if _, err := s.ImportStations(ctx, fixture("stations.csv"), StationsOptions{}); err != nil {
+		s := impOpenStore(t)
+		if _, err := s.ImportStations(ctx, impFixture("stations.csv"), StationsOptions{}); err != nil {
 			t.Fatal(err)
 		}
-		before := snapshot(t, s)
+		before := impSnapshot(t, s)
 		_, err := s.ImportReadings(ctx, file, ReadingsOptions{Variable: "stage"})
 		if !errors.Is(err, ErrDuplicate) {
 			t.Fatalf("err = %v, want a duplicate error", err)
@@ -440,22 +440,22 @@ func TestImportDuplicatesWithinFile(t *testing.T) {
 				t.Errorf("error %q does not contain %q", err, sub)
 			}
 		}
-		if after := snapshot(t, s); after != before {
+		if after := impSnapshot(t, s); after != before {
 			t.Errorf("store changed by a failed import:\nbefore\n%s\nafter\n%s", before, after)
 		}
-		checkIntegrity(t, s)
+		impIntegrity(t, s)
 	})
 
 	t.Run("keep-first", func(t *testing.T) {
-		s := openTestStore(t)
+		s := impOpenStore(t)
 		res, err := s.ImportReadings(ctx, file, ReadingsOptions{Variable: "stage", OnDuplicate: DupKeepFirst})
 		if err != nil {
 			t.Fatal(err)
 		}
 		// Lines 6, 9 and 10 repeat earlier times (9 and 10 after the
 		// series went out of order on line 8); line 11 is NA.
-		checkCounts(t, s, res, counts{read: 10, stored: 6, rejected: 1, dup: 3})
-		checkReadings(t, s, []reading{
+		impCheckCounts(t, s, res, impCounts{read: 10, stored: 6, rejected: 1, dup: 3})
+		impCheckReadings(t, s, []impReading{
 			{"D1", "stage", 1609459200, 1, "<nil>"},
 			{"D1", "stage", 1609461000, 7, "<nil>"},
 			{"D1", "stage", 1609462800, 2, "<nil>"},
@@ -463,19 +463,19 @@ func TestImportDuplicatesWithinFile(t *testing.T) {
 			{"D1", "stage", 1609470000, 4, "<nil>"},
 			{"D2", "stage", 1609459200, 5, "<nil>"},
 		})
-		if n := count(t, s, `SELECT rows FROM series_batches JOIN series ON series.id = series_id WHERE station_id = 'D1'`); n != 5 {
+		if n := impCount(t, s, `SELECT rows FROM series_batches JOIN series ON series.id = series_id WHERE station_id = 'D1'`); n != 5 {
 			t.Errorf("series_batches rows for D1 = %d, want 5", n)
 		}
 	})
 
 	t.Run("replace", func(t *testing.T) {
-		s := openTestStore(t)
+		s := impOpenStore(t)
 		res, err := s.ImportReadings(ctx, file, ReadingsOptions{Variable: "stage", OnDuplicate: DupReplace})
 		if err != nil {
 			t.Fatal(err)
 		}
-		checkCounts(t, s, res, counts{read: 10, stored: 6, rejected: 1, dup: 3, replaced: 3})
-		checkReadings(t, s, []reading{
+		impCheckCounts(t, s, res, impCounts{read: 10, stored: 6, rejected: 1, dup: 3, replaced: 3})
+		impCheckReadings(t, s, []impReading{
 			{"D1", "stage", 1609459200, 1, "<nil>"},
 			{"D1", "stage", 1609461000, 7, "<nil>"},
 			{"D1", "stage", 1609462800, 9, "E"},
@@ -483,7 +483,7 @@ func TestImportDuplicatesWithinFile(t *testing.T) {
 			{"D1", "stage", 1609470000, 8.5, "<nil>"},
 			{"D2", "stage", 1609459200, 5, "<nil>"},
 		})
-		if n := count(t, s, `SELECT rows FROM series_batches JOIN series ON series.id = series_id WHERE station_id = 'D1'`); n != 8 {
+		if n := impCount(t, s, `SELECT rows FROM series_batches JOIN series ON series.id = series_id WHERE station_id = 'D1'`); n != 8 {
 			t.Errorf("series_batches rows for D1 = %d, want 8", n)
 		}
 	})
@@ -492,16 +492,16 @@ func TestImportDuplicatesWithinFile(t *testing.T) {
 func TestImportDuplicatesAgainstStored(t *testing.T) {
 	ctx := context.Background()
 	setup := func(t *testing.T) *Store {
-		s := openTestStore(t)
-		if _, err := s.ImportReadings(ctx, fixture("readings_good.csv"), ReadingsOptions{Variable: "stage"}); err != nil {
+		s := impOpenStore(t)
+		if _, err := s.ImportReadings(ctx, impFixture("readings_good.csv"), ReadingsOptions{Variable: "stage"}); err != nil {
 			t.Fatal(err)
 		}
 		return s
 	}
-	more := fixture("readings_more.csv")
+	more := impFixture("readings_more.csv")
 	t.Run("error", func(t *testing.T) {
 		s := setup(t)
-		before := snapshot(t, s)
+		before := impSnapshot(t, s)
 		_, err := s.ImportReadings(ctx, more, ReadingsOptions{Variable: "stage"})
 		if !errors.Is(err, ErrDuplicate) {
 			t.Fatalf("err = %v, want a duplicate error", err)
@@ -511,10 +511,10 @@ func TestImportDuplicatesAgainstStored(t *testing.T) {
 				t.Errorf("error %q does not contain %q", err, sub)
 			}
 		}
-		if after := snapshot(t, s); after != before {
+		if after := impSnapshot(t, s); after != before {
 			t.Errorf("store changed by a failed import")
 		}
-		if n := count(t, s, `SELECT count(*) FROM import_batches`); n != 1 {
+		if n := impCount(t, s, `SELECT count(*) FROM import_batches`); n != 1 {
 			t.Errorf("%d batches recorded, want 1", n)
 		}
 	})
@@ -524,12 +524,12 @@ func TestImportDuplicatesAgainstStored(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		checkCounts(t, s, res, counts{read: 4, stored: 2, dup: 2})
-		want := append([]reading(nil), goodReadings[:3]...)
-		want = append(want, reading{"G1", "stage", 1609473600, 2, "<nil>"})
-		want = append(want, goodReadings[3:]...)
-		want = append(want, reading{"G3", "stage", 1609459200, 7, "<nil>"})
-		checkReadings(t, s, want)
+		impCheckCounts(t, s, res, impCounts{read: 4, stored: 2, dup: 2})
+		want := append([]impReading(nil), impGoodReadings[:3]...)
+		want = append(want, impReading{"G1", "stage", 1609473600, 2, "<nil>"})
+		want = append(want, impGoodReadings[3:]...)
+		want = append(want, impReading{"G3", "stage", 1609459200, 7, "<nil>"})
+		impCheckReadings(t, s, want)
 	})
 	t.Run("replace", func(t *testing.T) {
 		s := setup(t)
@@ -539,14 +539,14 @@ func TestImportDuplicatesAgainstStored(t *testing.T) {
 		}
 		// Line 2 equals the stored reading (duplicate only), line 3 differs
 		// (duplicate and replaced).
-		checkCounts(t, s, res, counts{read: 4, stored: 2, dup: 2, replaced: 1})
-		want := append([]reading(nil), goodReadings[:2]...)
-		want = append(want, reading{"G1", "stage", 1609466400, 1.8, "<nil>"}, reading{"G1", "stage", 1609473600, 2, "<nil>"})
-		want = append(want, goodReadings[3:]...)
-		want = append(want, reading{"G3", "stage", 1609459200, 7, "<nil>"})
-		checkReadings(t, s, want)
+		impCheckCounts(t, s, res, impCounts{read: 4, stored: 2, dup: 2, replaced: 1})
+		want := append([]impReading(nil), impGoodReadings[:2]...)
+		want = append(want, impReading{"G1", "stage", 1609466400, 1.8, "<nil>"}, impReading{"G1", "stage", 1609473600, 2, "<nil>"})
+		want = append(want, impGoodReadings[3:]...)
+		want = append(want, impReading{"G3", "stage", 1609459200, 7, "<nil>"})
+		impCheckReadings(t, s, want)
 		// G1 got 1 new and 1 replaced row in this batch, G3 one new row.
-		if n := count(t, s, `SELECT sum(rows) FROM series_batches WHERE batch_id = ?`, res.BatchID); n != 3 {
+		if n := impCount(t, s, `SELECT sum(rows) FROM series_batches WHERE batch_id = ?`, res.BatchID); n != 3 {
 			t.Errorf("series_batches rows = %d, want 3", n)
 		}
 	})
@@ -554,18 +554,18 @@ func TestImportDuplicatesAgainstStored(t *testing.T) {
 
 func TestImportSameFileAgain(t *testing.T) {
 	ctx := context.Background()
-	s := openTestStore(t)
-	file := fixture("readings_good.csv")
+	s := impOpenStore(t)
+	file := impFixture("readings_good.csv")
 	opt := ReadingsOptions{Variable: "stage", Unit: "m"}
 	first, err := s.ImportReadings(ctx, file, opt)
 	if err != nil {
 		t.Fatal(err)
 	}
-	before := snapshot(t, s)
+	before := impSnapshot(t, s)
 	if _, err := s.ImportReadings(ctx, file, opt); !errors.Is(err, ErrDuplicate) {
 		t.Fatalf("second import: err = %v, want a duplicate error", err)
 	}
-	if snapshot(t, s) != before {
+	if impSnapshot(t, s) != before {
 		t.Fatal("failed re-import changed the store")
 	}
 	opt.OnDuplicate = DupKeepFirst
@@ -573,7 +573,7 @@ func TestImportSameFileAgain(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 6, dup: 6})
+	impCheckCounts(t, s, res, impCounts{read: 6, dup: 6})
 	if res.SHA256 != first.SHA256 || res.SeriesWritten != 0 {
 		t.Errorf("sha %s vs %s, series written %d", res.SHA256, first.SHA256, res.SeriesWritten)
 	}
@@ -584,54 +584,54 @@ func TestImportSameFileAgain(t *testing.T) {
 	}
 	// Replacing readings by identical ones changes nothing and marks no
 	// series as changed.
-	checkCounts(t, s, res, counts{read: 6, dup: 6, replaced: 0})
+	impCheckCounts(t, s, res, impCounts{read: 6, dup: 6, replaced: 0})
 	if res.SeriesWritten != 0 {
 		t.Errorf("series written %d, want 0", res.SeriesWritten)
 	}
-	checkReadings(t, s, goodReadings)
-	if n := count(t, s, `SELECT count(*) FROM import_batches`); n != 3 {
+	impCheckReadings(t, s, impGoodReadings)
+	if n := impCount(t, s, `SELECT count(*) FROM import_batches`); n != 3 {
 		t.Errorf("%d batches, want 3", n)
 	}
 }
 
 func TestImportDecimalComma(t *testing.T) {
 	ctx := context.Background()
-	s := openTestStore(t)
-	file := fixture("decimal_comma.csv")
+	s := impOpenStore(t)
+	file := impFixture("decimal_comma.csv")
 	res, err := s.ImportReadings(ctx, file, ReadingsOptions{Variable: "temp", Unit: "degC", Delimiter: ';', DecimalComma: true, TZ: "America/New_York"})
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 4, stored: 3, rejected: 1})
-	checkRejects(t, s, res.BatchID, map[int]string{4: `value "1.234,5" has a point, but decimal comma is set`})
-	checkReadings(t, s, []reading{
+	impCheckCounts(t, s, res, impCounts{read: 4, stored: 3, rejected: 1})
+	impCheckRejects(t, s, res.BatchID, map[int]string{4: `value "1.234,5" has a point, but decimal comma is set`})
+	impCheckReadings(t, s, []impReading{
 		{"C1", "temp", 1619884800, 12.5, "<nil>"},
 		{"C1", "temp", 1619888400, -0.25, "geschätzt"},
 		{"C1", "temp", 1619895600, 1500, "<nil>"},
 	})
 
 	// Without the option the same values are rejected, never misread.
-	s2 := openTestStore(t)
+	s2 := impOpenStore(t)
 	res, err = s2.ImportReadings(ctx, file, ReadingsOptions{Variable: "temp", Delimiter: ';'})
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s2, res, counts{read: 4, rejected: 4})
-	checkRejects(t, s2, res.BatchID, map[int]string{2: "decimal comma?", 3: "decimal comma?", 4: "not a number", 5: "decimal comma?"})
+	impCheckCounts(t, s2, res, impCounts{read: 4, rejected: 4})
+	impCheckRejects(t, s2, res.BatchID, map[int]string{2: "decimal comma?", 3: "decimal comma?", 4: "not a number", 5: "decimal comma?"})
 }
 
 func TestImportCustomColumnsAndTZ(t *testing.T) {
 	ctx := context.Background()
-	s := openTestStore(t)
-	res, err := s.ImportReadings(ctx, fixture("custom_columns.csv"), ReadingsOptions{
+	s := impOpenStore(t)
+	res, err := s.ImportReadings(ctx, impFixture("custom_columns.csv"), ReadingsOptions{
 		StationCol: "site", TimeCol: "when", ValueCol: "reading", QualifierCol: "flag", VariableCol: "param",
 		Unit: "m", TZ: "America/New_York"})
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 7, stored: 5, rejected: 2})
-	checkRejects(t, s, res.BatchID, map[int]string{3: "daylight-saving overlap", 8: "missing variable"})
-	checkReadings(t, s, []reading{
+	impCheckCounts(t, s, res, impCounts{read: 7, stored: 5, rejected: 2})
+	impCheckRejects(t, s, res.BatchID, map[int]string{3: "daylight-saving overlap", 8: "missing variable"})
+	impCheckReadings(t, s, []impReading{
 		{"NY1", "discharge", 1636259400, 0.1, "<nil>"},
 		{"NY1", "stage", 1636259400, 1, "<nil>"},
 		{"NY1", "stage", 1636263000, 2.1, "<nil>"},
@@ -645,7 +645,7 @@ func TestImportCustomColumnsAndTZ(t *testing.T) {
 
 func TestImportInputErrorsChangeNothing(t *testing.T) {
 	ctx := context.Background()
-	s := openTestStore(t)
+	s := impOpenStore(t)
 	dir := t.TempDir()
 	write := func(name, text string) string {
 		p := filepath.Join(dir, name)
@@ -654,7 +654,7 @@ func TestImportInputErrorsChangeNothing(t *testing.T) {
 		}
 		return p
 	}
-	before := snapshot(t, s)
+	before := impSnapshot(t, s)
 	cases := []struct {
 		file string
 		opt  ReadingsOptions
@@ -697,13 +697,13 @@ func TestImportInputErrorsChangeNothing(t *testing.T) {
 	if _, err := s.ImportStations(ctx, write("st.csv", "code,name\nA,B\n"), StationsOptions{}); err == nil || !strings.Contains(err.Error(), `needs "id"`) {
 		t.Errorf("stations without id column: %v", err)
 	}
-	if snapshot(t, s) != before {
+	if impSnapshot(t, s) != before {
 		t.Error("a failed import changed the store")
 	}
 }
 
 // bigReadings writes a generated readings file of n rows over 10 stations.
-func bigReadings(t testing.TB, n int) string {
+func impBigReadings(t testing.TB, n int) string {
 	p := filepath.Join(t.TempDir(), "big.csv")
 	f, err := os.Create(p)
 	if err != nil {
@@ -735,12 +735,12 @@ func bigReadings(t testing.TB, n int) string {
 }
 
 func TestImportCancelRollsBack(t *testing.T) {
-	s := openTestStore(t)
-	if _, err := s.ImportReadings(context.Background(), fixture("readings_good.csv"), ReadingsOptions{Variable: "stage"}); err != nil {
+	s := impOpenStore(t)
+	if _, err := s.ImportReadings(context.Background(), impFixture("readings_good.csv"), ReadingsOptions{Variable: "stage"}); err != nil {
 		t.Fatal(err)
 	}
-	file := bigReadings(t, 20000)
-	before := snapshot(t, s)
+	file := impBigReadings(t, 20000)
+	before := impSnapshot(t, s)
 	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
 	_, err := s.ImportReadings(ctx, file, ReadingsOptions{Variable: "stage", Progress: func(p Progress) {
@@ -751,51 +751,51 @@ func TestImportCancelRollsBack(t *testing.T) {
 	if !errors.Is(err, context.Canceled) {
 		t.Fatalf("err = %v, want context.Canceled", err)
 	}
-	if snapshot(t, s) != before {
+	if impSnapshot(t, s) != before {
 		t.Error("a cancelled import changed the store")
 	}
-	checkIntegrity(t, s)
+	impIntegrity(t, s)
 }
 
-// failingReader returns its bytes, then an I/O error.
-type failingReader struct {
+// impFailingReader returns its bytes, then an I/O error.
+type impFailingReader struct {
 	r io.Reader
 }
 
-func (f *failingReader) Read(p []byte) (int, error) {
+func (f *impFailingReader) Read(p []byte) (int, error) {
 	n, err := f.r.Read(p)
 	if err == io.EOF {
 		return n, errors.New("simulated device error")
 	}
 	return n, err
 }
-func (f *failingReader) Close() error { return nil }
+func (f *impFailingReader) Close() error { return nil }
 
 func TestImportIOErrorRollsBack(t *testing.T) {
 	ctx := context.Background()
-	s := openTestStore(t)
-	if _, err := s.ImportStations(ctx, fixture("stations.csv"), StationsOptions{}); err != nil {
+	s := impOpenStore(t)
+	if _, err := s.ImportStations(ctx, impFixture("stations.csv"), StationsOptions{}); err != nil {
 		t.Fatal(err)
 	}
-	before := snapshot(t, s)
-	data, err := os.ReadFile(bigReadings(t, 10000))
+	before := impSnapshot(t, s)
+	data, err := os.ReadFile(impBigReadings(t, 10000))
 	if err != nil {
 		t.Fatal(err)
 	}
 	// The reader fails after 60% of the file, well after the first writes.
-	in := &input{f: &failingReader{strings.NewReader(string(data[:len(data)*6/10]))}, name: "big.csv", abs: "/x/big.csv", size: int64(len(data)), h: sha256.New()}
+	in := &importInput{f: &impFailingReader{strings.NewReader(string(data[:len(data)*6/10]))}, name: "big.csv", abs: "/x/big.csv", size: int64(len(data)), h: sha256.New()}
 	_, err = s.importReadings(ctx, in, ReadingsOptions{Variable: "stage"}, time.UTC)
 	if err == nil || !strings.Contains(err.Error(), "simulated device error") || !strings.Contains(err.Error(), "big.csv") {
 		t.Fatalf("err = %v", err)
 	}
-	if snapshot(t, s) != before {
+	if impSnapshot(t, s) != before {
 		t.Error("an import that hit an I/O error changed the store")
 	}
-	in = &input{f: &failingReader{strings.NewReader("id,name\nA,B\nC,D\n")}, name: "st.csv", abs: "/x/st.csv", size: -1, h: sha256.New()}
+	in = &importInput{f: &impFailingReader{strings.NewReader("id,name\nA,B\nC,D\n")}, name: "st.csv", abs: "/x/st.csv", size: -1, h: sha256.New()}
 	if _, err := s.importStations(ctx, in, StationsOptions{}); err == nil {
 		t.Fatal("stations import ignored an I/O error")
 	}
-	if snapshot(t, s) != before {
+	if impSnapshot(t, s) != before {
 		t.Error("a stations import that hit an I/O error changed the store")
 	}
 }
@@ -805,19 +805,19 @@ func TestImportBigFileOutOfOrder(t *testing.T) {
 	// same file again with keep-first, exercises the batched stored-reading
 	// lookup across chunk boundaries.
 	ctx := context.Background()
-	s := openTestStore(t)
-	file := bigReadings(t, 12000)
+	s := impOpenStore(t)
+	file := impBigReadings(t, 12000)
 	res, err := s.ImportReadings(ctx, file, ReadingsOptions{Variable: "stage"})
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 12000, stored: 12000})
+	impCheckCounts(t, s, res, impCounts{read: 12000, stored: 12000})
 	res, err = s.ImportReadings(ctx, file, ReadingsOptions{Variable: "stage", OnDuplicate: DupKeepFirst})
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 12000, dup: 12000})
-	if n := count(t, s, `SELECT count(*) FROM readings WHERE qualifier = 'E'`); n != 10*((1200+96)/97) {
+	impCheckCounts(t, s, res, impCounts{read: 12000, dup: 12000})
+	if n := impCount(t, s, `SELECT count(*) FROM readings WHERE qualifier = 'E'`); n != 10*((1200+96)/97) {
 		t.Errorf("%d flagged readings", n)
 	}
 }
@@ -882,7 +882,7 @@ func TestParseValue(t *testing.T) {
 // store per iteration and reports rows per second.
 func BenchmarkImportReadings(b *testing.B) {
 	const rows = 200000
-	file := bigReadings(b, rows)
+	file := impBigReadings(b, rows)
 	b.ReportAllocs()
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
@@ -912,8 +912,8 @@ func TestImportSparseOverlap(t *testing.T) {
 	// exact times instead; both duplicates and the new in-between time must
 	// be classified right.
 	ctx := context.Background()
-	s := openTestStore(t)
-	if _, err := s.ImportReadings(ctx, bigReadings(t, 12000), ReadingsOptions{Variable: "stage"}); err != nil {
+	s := impOpenStore(t)
+	if _, err := s.ImportReadings(ctx, impBigReadings(t, 12000), ReadingsOptions{Variable: "stage"}); err != nil {
 		t.Fatal(err)
 	}
 	p := filepath.Join(t.TempDir(), "sparse.csv")
@@ -926,8 +926,8 @@ func TestImportSparseOverlap(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 3, stored: 1, dup: 2})
-	if n := count(t, s, `SELECT count(*) FROM readings_view WHERE value < 0`); n != 1 {
+	impCheckCounts(t, s, res, impCounts{read: 3, stored: 1, dup: 2})
+	if n := impCount(t, s, `SELECT count(*) FROM readings_view WHERE value < 0`); n != 1 {
 		t.Errorf("%d negative values stored, want 1 (the new half-hour reading)", n)
 	}
 	_, err = s.ImportReadings(ctx, p, ReadingsOptions{Variable: "stage"})
@@ -941,8 +941,8 @@ func TestImportReplaceCountsOnlyChanges(t *testing.T) {
 	// still queued in the writer): identical repeats are duplicates only,
 	// differing ones are replaced, and the last differing one wins.
 	ctx := context.Background()
-	s := openTestStore(t)
-	big, err := os.ReadFile(bigReadings(t, 6000)) // S00..S09, 600 hourly rows each from 2010-01-01
+	s := impOpenStore(t)
+	big, err := os.ReadFile(impBigReadings(t, 6000)) // S00..S09, 600 hourly rows each from 2010-01-01
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -964,7 +964,7 @@ func TestImportReplaceCountsOnlyChanges(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkCounts(t, s, res, counts{read: 6007, stored: 6000, dup: 7, replaced: 3})
+	impCheckCounts(t, s, res, impCounts{read: 6007, stored: 6000, dup: 7, replaced: 3})
 	var v float64
 	var q string
 	if err := s.DB.QueryRow(`SELECT value, qualifier FROM readings_view WHERE station_id = 'S00' AND t = 1262311200`).Scan(&v, &q); err != nil {
@@ -973,11 +973,11 @@ func TestImportReplaceCountsOnlyChanges(t *testing.T) {
 	if v != -6 || q != "X" {
 		t.Errorf("S00 02:00 = %v %q, want -6 X", v, q)
 	}
-	if n := count(t, s, `SELECT count(*) FROM readings_view WHERE value < 0`); n != 2 {
+	if n := impCount(t, s, `SELECT count(*) FROM readings_view WHERE value < 0`); n != 2 {
 		t.Errorf("%d negative readings, want 2", n)
 	}
 	// 600 new rows per station; S00 got 2 replacements, S09 one.
-	if n := count(t, s, `SELECT sum(rows) FROM series_batches WHERE batch_id = ?`, res.BatchID); n != 6003 {
+	if n := impCount(t, s, `SELECT sum(rows) FROM series_batches WHERE batch_id = ?`, res.BatchID); n != 6003 {
 		t.Errorf("series_batches rows = %d, want 6003", n)
 	}
 }
@@ -985,21 +985,21 @@ func TestImportReplaceCountsOnlyChanges(t *testing.T) {
 func TestImportCancelWhileInputIsSilent(t *testing.T) {
 	// The file is a pipe that delivers a header and one row and then stays
 	// open without data: a cancel must still end the import, changing nothing.
-	s := openTestStore(t)
-	before := snapshot(t, s)
+	s := impOpenStore(t)
+	before := impSnapshot(t, s)
 	pr, pw := io.Pipe()
 	ctx, cancel := context.WithCancel(context.Background())
 	go func() {
 		io.WriteString(pw, "station,time,value\nA,2021-01-01T00:00:00Z,1\n")
 		cancel() // the reader has taken the bytes; it now waits for more
 	}()
-	in := &input{f: pr, name: "pipe.csv", abs: "/x/pipe.csv", size: -1, h: sha256.New()}
+	in := &importInput{f: pr, name: "pipe.csv", abs: "/x/pipe.csv", size: -1, h: sha256.New()}
 	_, err := s.importReadings(ctx, in, ReadingsOptions{Variable: "x"}, time.UTC)
 	if !errors.Is(err, context.Canceled) {
 		t.Fatalf("err = %v, want context.Canceled", err)
 	}
 	pw.Close()
-	if snapshot(t, s) != before {
+	if impSnapshot(t, s) != before {
 		t.Error("a cancelled import changed the store")
 	}
 }
