@@ -1003,3 +1003,22 @@ func TestImportCancelWhileInputIsSilent(t *testing.T) {
 		t.Error("a cancelled import changed the store")
 	}
 }
+
+func TestImportStationsDecimalComma(t *testing.T) {
+	ctx := context.Background()
+	s := impOpenStore(t)
+	res, err := s.ImportStations(ctx, impFixture("stations_semicolon.csv"), StationsOptions{Delimiter: ';', DecimalComma: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	impCheckCounts(t, s, res, impCounts{read: 2, stored: 1, rejected: 1})
+	impCheckRejects(t, s, res.BatchID, map[int]string{3: `latitude: value "52.25" has a point, but decimal comma is set`})
+	var name, meta string
+	var lat, lon, elev float64
+	if err := s.DB.QueryRow(`SELECT name, latitude, longitude, elevation_m, metadata FROM stations WHERE id = 'K1'`).Scan(&name, &lat, &lon, &elev, &meta); err != nil {
+		t.Fatal(err)
+	}
+	if name != "Kanal Nord" || lat != 52.5 || lon != 13.25 || elev != 34.5 || meta != `{"aquifer":"Sand"}` {
+		t.Errorf("K1 = %q %v %v %v %s", name, lat, lon, elev, meta)
+	}
+}
