@@ -130,6 +130,26 @@ ORDER BY s.station_id;`,
 		Needs: []string{"trend_fit", "trend_residual", "sample_acf", "ljung_box", "ljung_box_p"},
 	},
 	{
+		Explain: "Monthly manual readings: Mann–Kendall test and Theil–Sen slope per year with its 95% interval.",
+		SQL: `WITH k AS (
+  SELECT s.station_id, s.variable, s.unit,
+         mann_kendall(r.t, r.value) AS mk,
+         sen_slope(r.t, r.value)    AS sen
+  FROM readings r JOIN series s ON s.id = r.series_id
+  WHERE s.station_id IN ('VOR-M02', 'VOR-M03', 'VOR-M05', 'VOR-M07')
+  GROUP BY s.id)
+SELECT station_id, variable, unit,
+       mk ->> '$.n'                         AS n,
+       round(sen ->> '$.slope_per_year', 3) AS sen_per_year,
+       round(sen ->> '$.lower', 3) || ' to ' || round(sen ->> '$.upper', 3) AS interval_95,
+       round(mk ->> '$.tau', 3)             AS tau,
+       CASE WHEN mk ->> '$.p' < 0.0001 THEN '< 0.0001'
+            ELSE printf('%.4f', mk ->> '$.p') END AS p
+FROM k
+ORDER BY station_id, variable;`,
+		Needs: []string{"mann_kendall", "sen_slope"},
+	},
+	{
 		Explain: "VOR-W09 got a new sensor (date in its metadata): mean level in the year before and the year after.",
 		SQL: `WITH w AS (
   SELECT r.t, r.value,
@@ -145,6 +165,22 @@ FROM w
 WHERE abs(t - swap) < 31557600
 GROUP BY period
 ORDER BY min(t);`,
+	},
+	{
+		Explain: "Pettitt's change-point test on VOR-W09's deseasonalised levels, beside the replacement date on record.",
+		SQL: `WITH w AS (
+  SELECT r.t, r.value FROM readings r JOIN series s ON s.id = r.series_id
+  WHERE s.station_id = 'VOR-W09'),
+m AS (
+  SELECT trend_fit(t, value, 'degree=0, period=1y, harmonics=2') AS model FROM w),
+pt AS (
+  SELECT pettitt(w.t, trend_residual(m.model, w.t, w.value)) AS p FROM w, m)
+SELECT json_extract(st.metadata, '$.sensor_replaced')  AS replaced_on_record,
+       substr(pt.p ->> '$.t_change', 1, 10)            AS pettitt_change,
+       round((pt.p ->> '$.median_after') - (pt.p ->> '$.median_before'), 3) AS median_shift_m
+FROM pt, stations st
+WHERE st.id = 'VOR-W09';`,
+		Needs: []string{"pettitt", "trend_fit", "trend_residual"},
 	},
 }
 
