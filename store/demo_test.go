@@ -165,8 +165,11 @@ func TestTourQueriesRunOnDemo(t *testing.T) {
 	// Long enough to include the year before the VOR-W09 sensor replacement.
 	s, _ := buildDemo(t, DemoOptions{MaxYears: 7.5})
 	steps := TourFor(func(string) bool { return true })
-	if len(steps) < 5 || len(steps) > 10 {
-		t.Errorf("tour has %d steps; keep it to 5–8 (plus function steps)", len(steps))
+	if len(steps) < 5 || len(steps) > 8 {
+		t.Errorf("tour with every function has %d steps; keep it to 5–8", len(steps))
+	}
+	if plain := TourFor(func(string) bool { return false }); len(plain) < 5 || len(plain) > 8 {
+		t.Errorf("tour without trendsql functions has %d steps; keep it to 5–8", len(plain))
 	}
 	have := map[string]bool{}
 	rows, err := s.DB.Query(`SELECT name FROM pragma_function_list`)
