@@ -191,8 +191,24 @@ func TestTourQueriesRunOnDemo(t *testing.T) {
 			t.Errorf("step %d: %v\n%s", i+1, err, st.SQL)
 			continue
 		}
+		// A NULL outside the qualifier column means a renamed JSON key or a
+		// function returning nothing: the step would show ∅ to the user.
+		cols, _ := rows.Columns()
+		vals := make([]any, len(cols))
+		ptrs := make([]any, len(cols))
+		for k := range vals {
+			ptrs[k] = &vals[k]
+		}
 		n := 0
 		for rows.Next() {
+			if err := rows.Scan(ptrs...); err != nil {
+				t.Fatal(err)
+			}
+			for k, v := range vals {
+				if v == nil && cols[k] != "qualifier" {
+					t.Errorf("step %d row %d: column %s is NULL", i+1, n+1, cols[k])
+				}
+			}
 			n++
 		}
 		if err := rows.Err(); err != nil {
