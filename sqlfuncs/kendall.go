@@ -39,8 +39,12 @@ package sqlfuncs
 //	correction_factor = 1 + 2/(n(n−1)(n−2)) · Σ_{kept k} (n−k)(n−k−1)(n−k−2)·r_k
 //	var_s_corrected   = var_s · correction_factor
 //
-// with z_corrected and p_corrected as above. Lags count rows, so the
-// correction presumes (near-)regular sampling. A factor ≤ 0 leaves the
+// with z_corrected and p_corrected as above. The factor multiplies the
+// tie-corrected var_s, which is the paper's n(n−1)(2n+5)/18 when no values
+// are tied. The detrending slope is sen_slope's (per second of t), and the
+// lags count rows, so the correction presumes (near-)regular sampling. Every
+// lag 1..n−1 is examined by default (the rank ACF is computed by FFT);
+// max_lag=L examines lags 1..L only. A factor ≤ 0 leaves the
 // corrected fields null. Needs n ≥ 3 (else the corrected fields are null).
 //
 // JSON keys: n, s, var_s, z, p, tau, concordant, discordant, tied_pairs
