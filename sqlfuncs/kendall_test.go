@@ -645,3 +645,102 @@ func TestCrossCorrSQLMissingSlots(t *testing.T) {
 		}
 	}
 }
+
+// TestSeasonalKendallLiveScipy draws random year × season matrices (with
+// ties and missing cells), stores them as readings in 1/m-year slices and
+// compares seasonal_kendall with /usr/bin/python3 scipy 1.10.1
+// scipy.stats.mstats.kendalltau_seasonal ("global p-value (indep)" and
+// "(dep)"). Skips when scipy is missing locally; fails when CI is set.
+func TestSeasonalKendallLiveScipy(t *testing.T) {
+	const py = "/usr/bin/python3"
+	if err := exec.Command(py, "-c", "import scipy.stats.mstats").Run(); err != nil {
+		if os.Getenv("CI") != "" {
+			t.Fatalf("CI: %s with scipy is required: %v", py, err)
+		}
+		t.Skipf("%s with scipy not available: %v", py, err)
+	}
+	db := openKendallStore(t)
+	rng := rand.New(rand.NewPCG(uint64(os.Getpid()), 7))
+	type mat struct {
+		Name    string      `json:"name"`
+		Seasons int         `json:"seasons"`
+		X       [][]float64 `json:"x"` // NaN → missing, sent as null
+	}
+	var mats []mat
+	const year = 31557600.0
+	for c := 0; c < 8; c++ {
+		years, m := 4+rng.IntN(12), 2+rng.IntN(11)
+		mt := mat{Name: "slive" + strconv.Itoa(c), Seasons: m}
+		var tt, yy []float64
+		for i := 0; i < years; i++ {
+			row := make([]float64, m)
+			for g := 0; g < m; g++ {
+				v := rng.NormFloat64() + 0.1*float64(i)*float64(c%3-1)
+				if c%2 == 0 {
+					v = math.Round(v) // ties
+				}
+				if rng.Float64() < 0.1 {
+					row[g] = math.NaN()
+					continue
+				}
+				row[g] = v
+				tt = append(tt, 40*year+float64(i)*year+(float64(g)+0.5)*year/float64(m))
+				yy = append(yy, v)
+			}
+			mt.X = append(mt.X, row)
+		}
+		mats = append(mats, mt)
+		insertK(t, db, mt.Name, tt, nil, anys(yy))
+	}
+	type jmat struct {
+		Name string       `json:"name"`
+		X    [][]*float64 `json:"x"`
+	}
+	var send []jmat
+	for _, mt := range mats {
+		jm := jmat{Name: mt.Name}
+		for _, row := range mt.X {
+			r := make([]*float64, len(row))
+			for g := range row {
+				if !math.IsNaN(row[g]) {
+					v := row[g]
+					r[g] = &v
+				}
+			}
+			jm.X = append(jm.X, r)
+		}
+		send = append(send, jm)
+	}
+	in, _ := json.Marshal(send)
+	script := `
+import json, sys, warnings
+import numpy as np
+import scipy.stats.mstats as ms
+warnings.simplefilter("ignore")
+out = []
+for c in json.load(sys.stdin):
+    x = np.array([[np.nan if v is None else v for v in row] for row in c["x"]])
+    r = ms.kendalltau_seasonal(np.ma.masked_invalid(x))
+    out.append({"indep": float(r["global p-value (indep)"]), "dep": float(r["global p-value (dep)"])})
+json.dump(out, sys.stdout)
+`
+	cmd := exec.Command(py, "-c", script)
+	cmd.Stdin = bytes.NewReader(in)
+	outb, err := cmd.Output()
+	if err != nil {
+		t.Fatalf("python: %v", err)
+	}
+	var ref []struct{ Indep, Dep float64 }
+	if err := json.Unmarshal(outb, &ref); err != nil {
+		t.Fatal(err)
+	}
+	for i, mt := range mats {
+		m := jsonMap(t, queryVal(t, db, `SELECT seasonal_kendall(t, y, '1y', ?) FROM kobs WHERE g = ?`, mt.Seasons, mt.Name))
+		if math.IsNaN(ref[i].Indep) {
+			continue
+		}
+		if !kClose(num(t, m, "p"), ref[i].Indep, 1e-7) || !kClose(num(t, m, "p_dependent"), ref[i].Dep, 1e-7) {
+			t.Errorf("%s (%d×%d): p %v p_dependent %v; scipy indep %v dep %v", mt.Name, len(mt.X), mt.Seasons, m["p"], m["p_dependent"], ref[i].Indep, ref[i].Dep)
+		}
+	}
+}
