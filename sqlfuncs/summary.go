@@ -13,6 +13,9 @@ package sqlfuncs
 //	                        season blocks (see SeasonBlocks)
 //	sen_* (no period)     = sen_slope(t, y, confidence)
 //	sen_* (with period)   = the seasonal Sen slope of that seasonal_kendall
+//	                        (interval at --confidence by the same rank rule;
+//	                        seasonal_kendall reports the 95 % interval, so
+//	                        the two agree at the default 0.95)
 //	lb_*, series_correlograms
 //	                      = ljung_box / correlogram of the residuals
 //	                        y − trend_value(model, t) on the inferred time grid

@@ -833,11 +833,34 @@ func TestSummarizeRunBookkeeping(t *testing.T) {
 		t.Errorf("second --changed-only: %v, want nothing to do", err)
 	}
 	// Other parameters: nothing to compare with, so everything is computed.
+	// A time window and another confidence level: the figures are those of
+	// the SQL functions over the window's readings.
 	oc2 := oc
 	oc2.Model.MaxLag = 12
-	if res, err := fx.s.Summarize(ctx, oc2); err != nil || res.Computed != 5 {
-		t.Errorf("--changed-only with other parameters: %v, %+v; want all 5 computed", err, res)
+	oc2.Model.Confidence = 0.9
+	since, until := int64(1577836800), int64(1640995199) // 2020-01-01T00:00:00Z .. 2021-12-31T23:59:59Z
+	oc2.Since, oc2.Until = &since, &until
+	res2, err := fx.s.Summarize(ctx, oc2)
+	if err != nil || res2.Computed != 5 {
+		t.Fatalf("--changed-only with other parameters: %v, %+v; want all 5 computed", err, res2)
 	}
+	row := storedRow(t, db, res2.RunID, fx.ids["daily"])
+	window := `FROM readings WHERE series_id = ? AND t BETWEEN ? AND ?`
+	var n, t0, t1 int64
+	if err := db.QueryRow(`SELECT count(*), min(t), max(t) `+window, fx.ids["daily"], since, until).Scan(&n, &t0, &t1); err != nil {
+		t.Fatal(err)
+	}
+	if n < 600 || n > 731 {
+		t.Fatalf("fixture: the window should hold about two years of daily readings, has %d", n)
+	}
+	sen := sqlJSON(t, db, `SELECT sen_slope(t, value, 0.9) `+window, fx.ids["daily"], since, until)
+	tf := sqlJSON(t, db, `SELECT trend_fit(t, value) `+window, fx.ids["daily"], since, until)
+	checkFigures(t, row, "SQL functions over 2020–2021 at confidence 0.9", []figure{
+		{"n", n, 0}, {"t_first", t0, 0}, {"t_last", t1, 0},
+		{"sen_slope_per_year", sen["slope_per_year"], relExact}, {"sen_lower", sen["lower"], relExact},
+		{"sen_upper", sen["upper"], relExact}, {"sen_confidence", 0.9, 0},
+		{"slope_per_year", tf["slope_per_year"], relExact}, {"hac_p", tf["hac_p"], relP},
+	})
 
 	// The lock: while held, a run without Wait returns ErrBusy; with Wait
 	// it runs once the lock is released.

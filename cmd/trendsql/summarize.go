@@ -145,8 +145,11 @@ func runSummarize(cmd *cobra.Command, e *env, o summarizeOptions) error {
 	case errors.Is(err, store.ErrBusy):
 		return &exitError{code: ExitNothing, err: err}
 	case errors.Is(err, store.ErrNothingToDo):
-		fmt.Fprintf(e.errw, "summarize: nothing to do: %d series selected, %d unchanged since their last summary\n", res.Selected, res.Skipped)
-		return &exitError{code: ExitNothing, err: errors.New("nothing to summarize")}
+		// One line (cron logs): the reason and exit code 3.
+		if res.Selected == 0 {
+			return &exitError{code: ExitNothing, err: errors.New("summarize: nothing to do: no series match the selection")}
+		}
+		return &exitError{code: ExitNothing, err: fmt.Errorf("summarize: nothing to do: %d series selected, all %d unchanged since their last summary with the same parameters", res.Selected, res.Skipped)}
 	case err != nil:
 		if res != nil && res.RunID > 0 {
 			return fmt.Errorf("summarize run %d failed (recorded in summary_runs): %w", res.RunID, err)
@@ -155,7 +158,10 @@ func runSummarize(cmd *cobra.Command, e *env, o summarizeOptions) error {
 	}
 	fmt.Fprintf(e.errw, "summarize run %d: %d series computed, %d unchanged skipped, %d with notes, %d with a trend at FDR %.2g; %s\n",
 		res.RunID, res.Computed, res.Skipped, res.Noted, res.Trending, o.alpha, res.Elapsed.Round(time.Millisecond))
-	fmt.Fprintln(e.errw, "  (statistical trends are not causal findings; agency procedures and qualified review govern decisions)")
+	if isTerminalWriter(e.errw) {
+		// People read this; under cron the summary stays one line.
+		fmt.Fprintln(e.errw, "  (statistical trends are not causal findings; agency procedures and qualified review govern decisions)")
+	}
 	return nil
 }
 

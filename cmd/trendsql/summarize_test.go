@@ -354,6 +354,9 @@ func TestSummarizeChangedOnlyAfterImport(t *testing.T) {
 	if wantMsg := fmt.Sprintf("3 series computed, %d unchanged skipped", total-3); !strings.Contains(errs, wantMsg) {
 		t.Errorf("summary line %q lacks %q", errs, wantMsg)
 	}
+	if strings.Count(errs, "\n") != 1 {
+		t.Errorf("summarize without a terminal printed %q; want one summary line (cron)", errs)
+	}
 	second := queryInt(t, ro, `SELECT max(id) FROM summary_runs WHERE status = 'ok'`)
 	rows, err := ro.Query(`SELECT series_id, n FROM series_summaries WHERE run_id = ? ORDER BY series_id`, second)
 	if err != nil {
@@ -406,8 +409,8 @@ func TestSummarizeChangedOnlyAfterImport(t *testing.T) {
 	// Nothing new since: exit code 3 and a clear message, no run recorded.
 	runsBefore := queryInt(t, ro, `SELECT count(*) FROM summary_runs`)
 	_, errs, code = runBin(t, "", "summarize", "--db", db, "--period", "1y", "--changed-only", "--quiet")
-	if code != ExitNothing || !strings.Contains(errs, "nothing to do") {
-		t.Errorf("second --changed-only: exit %d, stderr %q; want %d and 'nothing to do'", code, errs, ExitNothing)
+	if code != ExitNothing || !strings.Contains(errs, "nothing to do") || strings.Count(errs, "\n") != 1 {
+		t.Errorf("second --changed-only: exit %d, stderr %q; want %d and one line saying 'nothing to do'", code, errs, ExitNothing)
 	}
 	if n := queryInt(t, ro, `SELECT count(*) FROM summary_runs`); n != runsBefore {
 		t.Errorf("a run with nothing to do recorded a run row (%d → %d)", runsBefore, n)
