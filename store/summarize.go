@@ -229,7 +229,20 @@ func (s *Store) selectSeries(ctx context.Context, o SummarizeOptions) ([]seriesR
 		q += ` AND (` + o.Where + `)`
 	}
 	q += ` ORDER BY s.id`
-	rows, err := s.DB.QueryContext(ctx, q, args...)
+	// The --where text is the user's SQL and is pasted into the query. The
+	// driver runs every statement of a multi-statement text, so a condition
+	// such as "1=1) ORDER BY s.id; DELETE FROM ..." could write: run the
+	// selection on a connection that refuses writes (PRAGMA query_only).
+	conn, err := s.DB.Conn(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("summarize: select series: %w", err)
+	}
+	defer conn.Close()
+	if _, err := conn.ExecContext(ctx, `PRAGMA query_only = 1`); err != nil {
+		return nil, fmt.Errorf("summarize: select series: %w", err)
+	}
+	defer conn.ExecContext(context.Background(), `PRAGMA query_only = 0`)
+	rows, err := conn.QueryContext(ctx, q, args...)
 	if err != nil {
 		return nil, fmt.Errorf("summarize: select series (check --where): %w", err)
 	}

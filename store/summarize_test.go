@@ -895,6 +895,20 @@ func TestSummarizeRunBookkeeping(t *testing.T) {
 	if _, err := fx.s.Summarize(ctx, of); err == nil || !strings.Contains(err.Error(), "--where") {
 		t.Errorf("bad --where: %v, want an error naming --where", err)
 	}
+	// The condition cannot write, even smuggled in as a second statement.
+	for _, where := range []string{
+		"1=1) ORDER BY s.id; UPDATE stations SET name = 'changed'; SELECT 1 WHERE (1",
+		"(SELECT count(*) FROM (SELECT 1)) > 0); UPDATE stations SET name = 'changed' --",
+	} {
+		ow := o
+		ow.Where = where
+		_, err := fx.s.Summarize(ctx, ow)
+		var changed int64
+		_ = db.QueryRow(`SELECT count(*) FROM stations WHERE name = 'changed'`).Scan(&changed)
+		if err == nil || changed != 0 {
+			t.Errorf("--where %q: err %v, %d stations renamed; want an error and no change", where, err, changed)
+		}
+	}
 	cctx, cancel := context.WithCancel(ctx)
 	oc3 := o
 	oc3.Progress = func(done, total int) { cancel() }
