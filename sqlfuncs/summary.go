@@ -10,7 +10,12 @@ package sqlfuncs
 //	mk_* (no period)      = mann_kendall(t, y, 'correct=hamed-rao'): the
 //	                        corrected var_s, z and p are stored
 //	mk_* (with period)    = seasonal_kendall(tb, yb, P, seasons) over the
-//	                        season blocks (see SeasonBlocks)
+//	                        season blocks (see SeasonBlocks): mk_s is s;
+//	                        mk_var_s, mk_z, mk_p are var_s_dependent,
+//	                        z_dependent, p_dependent (the Hirsch & Slack 1984
+//	                        between-season covariance correction; blocks hold
+//	                        one value per season and cycle, so it applies),
+//	                        or var_s, z, p where it is undefined
 //	sen_* (no period)     = sen_slope(t, y, confidence)
 //	sen_* (with period)   = the seasonal Sen slope of that seasonal_kendall
 //	                        (interval at --confidence by the same rank rule;
@@ -141,9 +146,23 @@ func SummarizeSeries(t, y []float64, o stats.SummaryOptions) (s stats.SeriesSumm
 		if err != nil {
 			note("seasonal Kendall: %v", err)
 		} else {
-			s.MKMethod = "seasonal-kendall/block-means"
 			sv := float64(sk.S)
-			s.MKS, s.MKVarS, s.MKZ, s.MKP = &sv, fp(sk.VarS), fp(sk.Z), fp(sk.P)
+			s.MKS = &sv
+			cycle := make([]int, len(bt))
+			for i, ti := range bt {
+				cycle[i] = int(math.Floor(ti / o.PeriodS))
+			}
+			dep, derr := stats.SeasonalDependent(by, season, cycle, o.Seasons, sk.S)
+			if derr == nil && !math.IsNaN(dep.P) {
+				s.MKMethod = "seasonal-kendall/block-means/hirsch-slack"
+				s.MKVarS, s.MKZ, s.MKP = fp(dep.VarS), fp(dep.Z), fp(dep.P)
+			} else {
+				s.MKMethod = "seasonal-kendall/block-means"
+				s.MKVarS, s.MKZ, s.MKP = fp(sk.VarS), fp(sk.Z), fp(sk.P)
+				if derr != nil {
+					note("between-season covariance not applied: %v", derr)
+				}
+			}
 			if sk.Pairs > 0 {
 				s.SenSlopePerYear = fp(sk.Sen.Slope * timefmt.SecondsPerYear)
 				s.SenLower = fp(sk.Sen.Lower * timefmt.SecondsPerYear)
