@@ -96,24 +96,37 @@ func (o SummarizeOptions) parameters() runParameters {
 	}
 }
 
-// lockSummarize takes the store's summarize lock.
-func lockSummarize(path string, wait bool) (release func(), err error) {
+// lockPoll is how often a waiting run retries the summarize lock.
+const lockPoll = 200 * time.Millisecond
+
+// lockSummarize takes the store's summarize lock. With wait it retries
+// until the lock is free or ctx ends (a blocking flock could not be
+// interrupted: Ctrl-C would be ignored while waiting).
+func lockSummarize(ctx context.Context, path string, wait bool) (release func(), err error) {
 	f, err := os.OpenFile(path+".summarize-lock", os.O_CREATE|os.O_RDWR, 0o644)
 	if err != nil {
 		return nil, fmt.Errorf("summarize lock: %w", err)
 	}
-	how := syscall.LOCK_EX
-	if !wait {
-		how |= syscall.LOCK_NB
-	}
-	if err := syscall.Flock(int(f.Fd()), how); err != nil {
-		f.Close()
-		if errors.Is(err, syscall.EWOULDBLOCK) {
+	for {
+		err := syscall.Flock(int(f.Fd()), syscall.LOCK_EX|syscall.LOCK_NB)
+		if err == nil {
+			return func() { syscall.Flock(int(f.Fd()), syscall.LOCK_UN); f.Close() }, nil
+		}
+		if !errors.Is(err, syscall.EWOULDBLOCK) && !errors.Is(err, syscall.EINTR) {
+			f.Close()
+			return nil, fmt.Errorf("summarize lock: %w", err)
+		}
+		if !wait {
+			f.Close()
 			return nil, ErrBusy
 		}
-		return nil, fmt.Errorf("summarize lock: %w", err)
+		select {
+		case <-ctx.Done():
+			f.Close()
+			return nil, fmt.Errorf("summarize: stopped while waiting for another run to finish: %w", ctx.Err())
+		case <-time.After(lockPoll):
+		}
 	}
-	return func() { syscall.Flock(int(f.Fd()), syscall.LOCK_UN); f.Close() }, nil
 }
 
 type seriesRef struct {
@@ -131,7 +144,7 @@ func (s *Store) Summarize(ctx context.Context, o SummarizeOptions) (*SummarizeRe
 		return nil, errors.New("summarize: no analyzer")
 	}
 	start := time.Now()
-	release, err := lockSummarize(s.Path, o.Wait)
+	release, err := lockSummarize(ctx, s.Path, o.Wait)
 	if err != nil {
 		return nil, err
 	}

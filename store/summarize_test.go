@@ -440,12 +440,15 @@ func TestSummaryFiguresEqualSQLFunctions(t *testing.T) {
 					FROM readings WHERE series_id = %d GROUP BY t / %d, g`, fixtureYear, fixtureYear, id, fixtureYear)
 				t.Run(label+"/seasonal_kendall_block_means", func(t *testing.T) {
 					sk := sqlJSON(t, db, `SELECT seasonal_kendall(tb, yb, ?, 12) FROM (`+blocks+`)`, fixtureYear)
-					if row["mk_method"] != "seasonal-kendall/block-means" {
-						t.Errorf("mk_method = %v", row["mk_method"])
+					// Blocks hold one value per (cycle, season), so the
+					// between-season covariance correction applies and is
+					// what the summary stores.
+					if row["mk_method"] != "seasonal-kendall/block-means/hirsch-slack" || sk["p_dependent"] == nil {
+						t.Errorf("mk_method = %v, seasonal_kendall p_dependent = %v (note %v); want the Hirsch–Slack variant", row["mk_method"], sk["p_dependent"], sk["dependent_note"])
 					}
 					checkFigures(t, row, "seasonal_kendall(tb, yb, 31557600, 12) over season blocks", []figure{
-						{"mk_s", sk["s"], 0}, {"mk_var_s", sk["var_s"], relExact},
-						{"mk_z", sk["z"], relExact}, {"mk_p", sk["p"], relP},
+						{"mk_s", sk["s"], 0}, {"mk_var_s", sk["var_s_dependent"], relExact},
+						{"mk_z", sk["z_dependent"], relExact}, {"mk_p", sk["p_dependent"], relP},
 						{"mk_tau", nil, 0}, {"mk_correction_factor", nil, 0},
 						{"sen_slope_per_year", sk["slope_per_year"], relMean},
 						{"sen_lower", sk["lower"], relMean}, {"sen_upper", sk["upper"], relMean},
@@ -864,12 +867,29 @@ func TestSummarizeRunBookkeeping(t *testing.T) {
 
 	// The lock: while held, a run without Wait returns ErrBusy; with Wait
 	// it runs once the lock is released.
-	release, err := lockSummarize(fx.s.Path, false)
+	release, err := lockSummarize(ctx, fx.s.Path, false)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if _, err := fx.s.Summarize(ctx, o); !errors.Is(err, ErrBusy) {
 		t.Errorf("Summarize while locked: %v, want ErrBusy", err)
+	}
+	// A waiting run stops when its context ends (Ctrl-C), without a run row.
+	runsBefore := 0
+	_ = db.QueryRow(`SELECT count(*) FROM summary_runs`).Scan(&runsBefore)
+	wctx, wcancel := context.WithCancel(ctx)
+	stopped := make(chan error, 1)
+	ow0 := o
+	ow0.Wait = true
+	go func() { _, err := fx.s.Summarize(wctx, ow0); stopped <- err }()
+	wcancel()
+	if err := <-stopped; !errors.Is(err, context.Canceled) || !strings.Contains(err.Error(), "waiting") {
+		t.Errorf("cancelled while waiting for the lock: %v, want context.Canceled while waiting", err)
+	}
+	runsAfter := 0
+	_ = db.QueryRow(`SELECT count(*) FROM summary_runs`).Scan(&runsAfter)
+	if runsAfter != runsBefore {
+		t.Errorf("a run cancelled while waiting recorded a run row (%d → %d)", runsBefore, runsAfter)
 	}
 	done := make(chan error, 1)
 	ow := o

@@ -497,6 +497,23 @@ func TestSummarizeLock(t *testing.T) {
 		t.Errorf("the refused run recorded a run row (%d rows)", n)
 	}
 
+	// Ctrl-C while waiting ends the waiting process, before the first run
+	// has finished, without a run row.
+	d := startSummarize(t, db, "--period", "1y", "--wait", "--quiet")
+	time.Sleep(100 * time.Millisecond) // let it reach the lock (a signal before that ends it too)
+	if err := d.cmd.Process.Signal(os.Interrupt); err != nil {
+		t.Fatal(err)
+	}
+	if err := d.wait(); exitCode(err) != ExitFailed {
+		t.Errorf("summarize --wait after SIGINT: %v, want exit %d\n%s", err, ExitFailed, d.stderr.String())
+	}
+	if a.ended() {
+		t.Error("the first run ended before the interrupted waiter: SIGINT did not end the wait")
+	}
+	if n := queryInt(t, ro, `SELECT count(*) FROM summary_runs`); n != 1 {
+		t.Errorf("the interrupted waiter recorded a run row (%d rows)", n)
+	}
+
 	c := startSummarize(t, db, "--period", "1y", "--wait", "--quiet")
 	if err := a.wait(); err != nil {
 		t.Fatalf("first summarize: %v\n%s", err, a.stderr.String())
