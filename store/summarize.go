@@ -168,8 +168,9 @@ func (s *Store) Summarize(ctx context.Context, o SummarizeOptions) (*SummarizeRe
 		return nil, fmt.Errorf("summarize: %w", err)
 	}
 	todo := selected
+	var keptP []float64 // stored mk_p of the series --changed-only skips
 	if o.ChangedOnly {
-		todo, err = s.changedSince(ctx, selected, string(pjson))
+		todo, keptP, err = s.changedSince(ctx, selected, string(pjson))
 		if err != nil {
 			return nil, err
 		}
@@ -203,7 +204,7 @@ func (s *Store) Summarize(ctx context.Context, o SummarizeOptions) (*SummarizeRe
 	if err != nil {
 		return fail(err)
 	}
-	adjustFDR(results, o.Model.Alpha)
+	adjustFDRWith(results, keptP, o.Model.Alpha)
 	for _, sr := range results {
 		if sr.sum.Problem != "" {
 			res.Noted++
@@ -275,51 +276,65 @@ func placeholders(n int) string { return strings.TrimSuffix(strings.Repeat("?,",
 
 // changedSince keeps the series that have no successful summary with the
 // same parameters, or that an import batch touched after that summary's run
-// started (import batches newer than the run's high-water mark).
-func (s *Store) changedSince(ctx context.Context, in []seriesRef, params string) ([]seriesRef, error) {
+// started (import batches newer than the run's high-water mark). For the
+// series it skips it also returns the rank-test p-value of that summary
+// (where there is one), so the false-discovery-rate adjustment still spans
+// every selected series.
+func (s *Store) changedSince(ctx context.Context, in []seriesRef, params string) ([]seriesRef, []float64, error) {
 	rows, err := s.DB.QueryContext(ctx, `
-		SELECT ss.series_id, max(r.batch_high_water)
+		SELECT ss.series_id, r.batch_high_water, ss.mk_p
 		FROM series_summaries ss JOIN summary_runs r ON r.id = ss.run_id
 		WHERE r.status = 'ok' AND r.parameters = ?
-		GROUP BY ss.series_id`, params)
+		ORDER BY ss.run_id`, params)
 	if err != nil {
-		return nil, fmt.Errorf("summarize: previous runs: %w", err)
+		return nil, nil, fmt.Errorf("summarize: previous runs: %w", err)
 	}
-	last := map[int64]int64{}
+	type prev struct {
+		hw int64
+		p  sql.NullFloat64
+	}
+	last := map[int64]prev{} // the latest summary with these parameters
 	for rows.Next() {
-		var id, hw int64
-		if err := rows.Scan(&id, &hw); err != nil {
+		var id int64
+		var pr prev
+		if err := rows.Scan(&id, &pr.hw, &pr.p); err != nil {
 			rows.Close()
-			return nil, err
+			return nil, nil, err
 		}
-		last[id] = hw
+		last[id] = pr
 	}
 	rows.Close()
 	if err := rows.Err(); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	newest := map[int64]int64{}
 	rows, err = s.DB.QueryContext(ctx, `SELECT series_id, max(batch_id) FROM series_batches GROUP BY series_id`)
 	if err != nil {
-		return nil, fmt.Errorf("summarize: import batches: %w", err)
+		return nil, nil, fmt.Errorf("summarize: import batches: %w", err)
 	}
 	for rows.Next() {
 		var id, b int64
 		if err := rows.Scan(&id, &b); err != nil {
 			rows.Close()
-			return nil, err
+			return nil, nil, err
 		}
 		newest[id] = b
 	}
 	rows.Close()
+	if err := rows.Err(); err != nil {
+		return nil, nil, err
+	}
 	var out []seriesRef
+	var kept []float64
 	for _, r := range in {
-		hw, done := last[r.id]
-		if !done || newest[r.id] > hw {
+		pr, done := last[r.id]
+		if !done || newest[r.id] > pr.hw {
 			out = append(out, r)
+		} else if pr.p.Valid && !math.IsNaN(pr.p.Float64) {
+			kept = append(kept, pr.p.Float64)
 		}
 	}
-	return out, rows.Err()
+	return out, kept, nil
 }
 
 type seriesResult struct {
@@ -450,29 +465,49 @@ func (s *Store) loadSeries(ctx context.Context, id int64, since, until *int64, b
 // field significance in geoscience see Wilks 2016, BAMS 97(12):2263–2273):
 // with the m available p-values sorted, p_(i) adjusted = min over j ≥ i of
 // m·p_(j)/j, capped at 1.
-func adjustFDR(results []*seriesResult, alpha float64) {
-	var idx []int
+func adjustFDR(results []*seriesResult, alpha float64) { adjustFDRWith(results, nil, alpha) }
+
+// adjustFDRWith adjusts the results' p-values within the family made of
+// them and the other p-values (series of the selection that --changed-only
+// did not recompute, with their stored p), and sets only the results'. A
+// nightly --changed-only run thus adjusts its few new p-values across the
+// whole selection, as a full run would, instead of across the changed
+// series alone.
+func adjustFDRWith(results []*seriesResult, others []float64, alpha float64) {
+	type entry struct {
+		p   float64
+		res int // index into results, or -1 for another series' p
+	}
+	var fam []entry
 	for i, r := range results {
 		if r.sum.MKP != nil && !math.IsNaN(*r.sum.MKP) {
-			idx = append(idx, i)
+			fam = append(fam, entry{*r.sum.MKP, i})
 		}
 	}
-	sort.SliceStable(idx, func(a, b int) bool { return *results[idx[a]].sum.MKP < *results[idx[b]].sum.MKP })
-	m := float64(len(idx))
-	adj := make([]float64, len(idx))
+	if len(fam) == 0 {
+		return
+	}
+	for _, p := range others {
+		fam = append(fam, entry{p, -1})
+	}
+	sort.SliceStable(fam, func(a, b int) bool { return fam[a].p < fam[b].p })
+	m := float64(len(fam))
 	minSoFar := 1.0
-	for k := len(idx) - 1; k >= 0; k-- {
-		v := *results[idx[k]].sum.MKP * m / float64(k+1)
-		if v < minSoFar {
+	adj := make([]float64, len(fam))
+	for k := len(fam) - 1; k >= 0; k-- {
+		if v := fam[k].p * m / float64(k+1); v < minSoFar {
 			minSoFar = v
 		}
 		adj[k] = minSoFar
 	}
-	for k, i := range idx {
+	for k, e := range fam {
+		if e.res < 0 {
+			continue
+		}
 		p := adj[k]
 		det := p <= alpha
-		results[i].pFDR = &p
-		results[i].trendDetected = &det
+		results[e.res].pFDR = &p
+		results[e.res].trendDetected = &det
 	}
 }
 

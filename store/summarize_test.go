@@ -747,6 +747,31 @@ func TestAdjustFDRAgainstR(t *testing.T) {
 					t.Errorf("p[%d]: trend_detected %v, want %v (adjusted %v ≤ %v)", i, r.trendDetected, det, *want, c.Alpha)
 				}
 			}
+			// --changed-only: only some series are recomputed, the others
+			// enter the family with their stored p. The recomputed ones get
+			// the values p.adjust gives over the whole vector.
+			var part []*seriesResult
+			var wantPart []*float64
+			var others []float64
+			for i, p := range c.P {
+				switch {
+				case p == nil:
+				case i%2 == 0:
+					v := *p
+					r := &seriesResult{}
+					r.sum.MKP = &v
+					part = append(part, r)
+					wantPart = append(wantPart, c.Adjusted[i])
+				default:
+					others = append(others, *p)
+				}
+			}
+			adjustFDRWith(part, others, c.Alpha)
+			for i, r := range part {
+				if r.pFDR == nil || !sameNum(*r.pFDR, *wantPart[i], 1e-9) {
+					t.Errorf("family with %d stored p-values: recomputed series %d adjusted %v, R p.adjust over all gives %v", len(others), i, r.pFDR, *wantPart[i])
+				}
+			}
 		})
 	}
 }
@@ -816,6 +841,25 @@ func TestSummarizeRunBookkeeping(t *testing.T) {
 	if len(ids) != 1 || ids[0] != fx.ids["daily"] {
 		t.Errorf("changed-only run summarised %v, want [%d]", ids, fx.ids["daily"])
 	}
+	// Its FDR-adjusted p is adjusted across the whole selection: the new
+	// p-value together with the stored ones of the skipped series.
+	var pNew, pFDR float64
+	if err := db.QueryRow(`SELECT mk_p, trend_p_fdr FROM series_summaries WHERE run_id = ?`, res.RunID).Scan(&pNew, &pFDR); err != nil {
+		t.Fatal(err)
+	}
+	family := []float64{pNew}
+	rows, _ = db.Query(`SELECT mk_p FROM series_summaries WHERE run_id = ? AND series_id <> ? AND mk_p IS NOT NULL`, first.RunID, fx.ids["daily"])
+	for _, r := range scanAll(t, rows) {
+		family = append(family, asFloat(r[0]))
+	}
+	if len(family) != 4 {
+		t.Fatalf("family of %d p-values, want 4 (the short series has none)", len(family))
+	}
+	t.Run("changed_only_fdr_family", func(t *testing.T) {
+		if want, ok := rBHAdjust(t, family); ok && !sameNum(pFDR, want[0], relExact) {
+			t.Errorf("changed-only trend_p_fdr = %v, R p.adjust(%v, \"BH\")[1] = %v", pFDR, family, want[0])
+		}
+	})
 	var hw int64
 	_ = db.QueryRow(`SELECT batch_high_water FROM summary_runs WHERE id = ?`, res.RunID).Scan(&hw)
 	if hw != b {

@@ -45,6 +45,10 @@ interval, the residual sample ACF and Ljung–Box test, the Pettitt change-point
 test and plain flags — and store them in series_summaries,
 series_correlograms and summary_runs. A run is all-or-nothing.
 
+trend_detected rests on the rank-test p-value adjusted by Benjamini–Hochberg
+across all selected series; under --changed-only the unchanged series enter
+that adjustment with their stored p-values.
+
 Exit codes: 0 run stored; 1 run failed (recorded as failed); 2 usage error;
 3 nothing to do (e.g. --changed-only found no changes) or another run holds
 the store and --wait was not given.`,
