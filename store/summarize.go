@@ -21,6 +21,7 @@ import (
 	"fmt"
 	"math"
 	"os"
+	"path/filepath"
 	"runtime"
 	"sort"
 	"strings"
@@ -103,6 +104,11 @@ const lockPoll = 200 * time.Millisecond
 // until the lock is free or ctx ends (a blocking flock could not be
 // interrupted: Ctrl-C would be ignored while waiting).
 func lockSummarize(ctx context.Context, path string, wait bool) (release func(), err error) {
+	// One lock file per store file, however the store was named: resolve
+	// symbolic links so two paths to one file share the lock.
+	if p, err := filepath.EvalSymlinks(path); err == nil {
+		path = p
+	}
 	f, err := os.OpenFile(path+".summarize-lock", os.O_CREATE|os.O_RDWR, 0o644)
 	if err != nil {
 		return nil, fmt.Errorf("summarize lock: %w", err)

@@ -918,6 +918,19 @@ func TestSummarizeRunBookkeeping(t *testing.T) {
 	if _, err := fx.s.Summarize(ctx, o); !errors.Is(err, ErrBusy) {
 		t.Errorf("Summarize while locked: %v, want ErrBusy", err)
 	}
+	// The same store through a symbolic link shares the lock.
+	link := filepath.Join(t.TempDir(), "link.db")
+	if err := os.Symlink(fx.s.Path, link); err != nil {
+		t.Fatal(err)
+	}
+	viaLink, err := Open(ctx, link, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := viaLink.Summarize(ctx, o); !errors.Is(err, ErrBusy) {
+		t.Errorf("Summarize through a symbolic link while locked: %v, want ErrBusy", err)
+	}
+	viaLink.Close()
 	// A waiting run stops when its context ends (Ctrl-C), without a run row.
 	runsBefore := 0
 	_ = db.QueryRow(`SELECT count(*) FROM summary_runs`).Scan(&runsBefore)
