@@ -632,6 +632,24 @@ func TestSummaryFiguresEqualSQLFunctions(t *testing.T) {
 	})
 }
 
+func mustQuery(t *testing.T, db *sql.DB, q string, args ...any) *sql.Rows {
+	t.Helper()
+	rows, err := db.Query(q, args...)
+	if err != nil {
+		t.Fatalf("%s: %v", q, err)
+	}
+	return rows
+}
+
+func queryInt64(t *testing.T, db *sql.DB, q string, args ...any) int64 {
+	t.Helper()
+	var n int64
+	if err := db.QueryRow(q, args...).Scan(&n); err != nil {
+		t.Fatalf("%s: %v", q, err)
+	}
+	return n
+}
+
 func scanAll(t *testing.T, rows *sql.Rows) [][]any {
 	t.Helper()
 	defer rows.Close()
@@ -985,6 +1003,36 @@ func TestSummarizeRunBookkeeping(t *testing.T) {
 		if err == nil || changed != 0 {
 			t.Errorf("--where %q: err %v, %d stations renamed; want an error and no change", where, err, changed)
 		}
+	}
+	// A run whose write fails half-way (here: the irregular series'
+	// correlogram repeats a lag, a primary-key violation after the rows of
+	// the series before it were inserted) is recorded as failed with its error, and none of
+	// its rows is visible.
+	viewBefore := fmt.Sprint(scanAll(t, mustQuery(t, db, `SELECT series_id, run_id FROM latest_series_summaries ORDER BY series_id`)))
+	obad := o
+	obad.Analyze = func(tt, y []float64, opts stats.SummaryOptions) stats.SeriesSummary {
+		sum := sqlfuncs.SummarizeSeries(tt, y, opts)
+		if len(tt) > 50 && len(tt) < 100 { // the irregular series, written after the daily and hourly ones
+			sum.Correlogram = append(sum.Correlogram, sum.Correlogram[len(sum.Correlogram)-1])
+		}
+		return sum
+	}
+	obad.Workers = 1
+	rbad, err := fx.s.Summarize(ctx, obad)
+	if err == nil || rbad == nil || rbad.RunID == 0 || !strings.Contains(err.Error(), "correlogram") {
+		t.Fatalf("run with a failing write: %v, %+v; want a correlogram write error", err, rbad)
+	}
+	var badErr sql.NullString
+	if err := db.QueryRow(`SELECT status, error FROM summary_runs WHERE id = ?`, rbad.RunID).Scan(&status, &badErr); err != nil ||
+		status != "failed" || !strings.Contains(badErr.String, "UNIQUE") {
+		t.Errorf("failed run row: status %q, error %v (%v); want failed with the constraint error", status, badErr, err)
+	}
+	if ss, cg := queryInt64(t, db, `SELECT count(*) FROM series_summaries WHERE run_id = ?`, rbad.RunID),
+		queryInt64(t, db, `SELECT count(*) FROM series_correlograms WHERE run_id = ?`, rbad.RunID); ss != 0 || cg != 0 {
+		t.Errorf("failed run left %d summaries and %d correlogram rows", ss, cg)
+	}
+	if after := fmt.Sprint(scanAll(t, mustQuery(t, db, `SELECT series_id, run_id FROM latest_series_summaries ORDER BY series_id`))); after != viewBefore {
+		t.Errorf("latest_series_summaries changed after a failed run:\n before %s\n after  %s", viewBefore, after)
 	}
 	cctx, cancel := context.WithCancel(ctx)
 	oc3 := o
