@@ -537,3 +537,37 @@ func TestSummarizeLock(t *testing.T) {
 	}
 	checkIntegrity(t, db)
 }
+
+// TestSummarizeOnTerminal: on a terminal (a pseudo-terminal made by
+// util-linux script(1); skipped when absent) summarize shows a progress bar
+// and the reading note; --quiet drops the bar. Without a terminal the other
+// tests check that it prints one line.
+func TestSummarizeOnTerminal(t *testing.T) {
+	scriptBin, err := exec.LookPath("script")
+	if err != nil {
+		t.Skip("script(1) not installed: cannot make a pseudo-terminal")
+	}
+	db := demoCopy(t)
+	for _, quiet := range []bool{false, true} {
+		line := bin(t) + " summarize --db " + db + " --period 1y"
+		if quiet {
+			line += " --quiet"
+		}
+		ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute) // guards against a hang only
+		cmd := exec.CommandContext(ctx, scriptBin, "-qfec", line, "/dev/null")
+		cmd.Env = append(os.Environ(), "TERM=dumb")
+		raw, err := cmd.Output()
+		cancel()
+		if err != nil {
+			t.Fatalf("summarize on a terminal (quiet %v): %v\n%s", quiet, err, raw)
+		}
+		out := string(raw)
+		if !strings.Contains(out, "series computed") || !strings.Contains(out, "not causal findings") {
+			t.Errorf("terminal output (quiet %v) lacks the summary or the note:\n%q", quiet, out)
+		}
+		if bar := strings.Contains(out, "summarizing"); bar == quiet {
+			t.Errorf("terminal output (quiet %v): progress bar shown = %v:\n%q", quiet, bar, out)
+		}
+	}
+	checkIntegrity(t, db)
+}
