@@ -282,12 +282,14 @@ func fastSlopeStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 		return
 	}
 	// The steps of comoments.add in regr.go, without the argument boxing.
+	// finish() (the derived means and centred sums) is left to the result
+	// callback: update reads only n, the shift and the shifted sums, so the
+	// result is the same bit for bit and a row costs one update.
 	if c.n == 0 {
 		*c = comoments{x0: x, y0: y}
 	}
 	c.n++
 	c.update(y, x, 1)
-	c.finish()
 }
 
 func fastSlopeInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
@@ -312,12 +314,14 @@ func fastSlopeInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 	}
 	c.n--
 	c.update(y, x, -1)
-	c.finish()
 }
 
 func fastSlopeResult(tls *libc.TLS, ctx uintptr) {
 	defer fastRecover(tls, ctx)
 	c := fastState(tls, ctx, false)
+	if c != nil {
+		c.finish()
+	}
 	if c == nil || c.n == 0 || c.sxx == 0 {
 		sqlite3.Xsqlite3_result_null(tls, ctx)
 		return
