@@ -258,16 +258,21 @@ func TestSummarizeSurvivesSIGKILL(t *testing.T) {
 
 	// 2. Inside the write transaction: a long correlogram (--max-lag 5000)
 	// makes the one final transaction write megabytes; its pages spill into
-	// the WAL file before the commit, so a WAL past 1 MiB means the
-	// transaction is open. (Whether the kill came before the commit is
+	// the WAL file before the commit, so a WAL grown by 1 MiB since the run
+	// row appeared means the transaction is open. (Whether the kill came before the commit is
 	// then checked by the run's status, not assumed.)
 	run = startSummarize(t, db, "--period", "1y", "--max-lag", "5000", "--quiet")
 	killed2 := waitRunning(t, ro, run, killed1)
 	interrupted(killed1) // the lock holder cleaned up the dead run first
-	killWhen(t, run, "the write transaction spilled into the WAL", func() bool {
+	walSize := func() int64 {
 		fi, err := os.Stat(db + "-wal")
-		return err == nil && fi.Size() > 1<<20
-	})
+		if err != nil {
+			return 0
+		}
+		return fi.Size()
+	}
+	base := walSize() // computing writes nothing: growth past this is the final transaction
+	killWhen(t, run, "the write transaction spilled into the WAL", func() bool { return walSize() > base+1<<20 })
 	afterKill(killed2)
 
 	// The OS released the lock with the process: the next run needs no
