@@ -48,7 +48,7 @@ CREATE TABLE series_summaries (
     r2                   REAL,
     pct_per_decade       REAL,      -- 10 * slope_per_year / |mean| * 100
     -- rank-based trend
-    mk_method            TEXT,      -- 'mann-kendall/hamed-rao' or 'seasonal-kendall'
+    mk_method            TEXT,      -- 'mann-kendall/hamed-rao', 'seasonal-kendall/block-means/hirsch-slack' or 'seasonal-kendall/block-means'
     mk_s                 REAL,
     mk_var_s             REAL,
     mk_z                 REAL,
@@ -59,7 +59,7 @@ CREATE TABLE series_summaries (
     sen_lower            REAL,
     sen_upper            REAL,
     sen_confidence       REAL,
-    trend_p_fdr          REAL,      -- Benjamini–Hochberg adjusted mk_p across the run's series
+    trend_p_fdr          REAL,      -- Benjamini–Hochberg adjusted mk_p across the run's selected series
     -- residual dependence
     resid_acf1           REAL,
     acf_basis            TEXT,      -- 'time-grid' (lags in sampling steps) or 'reading-order' (irregular times: lags in readings)
