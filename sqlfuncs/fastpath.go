@@ -95,10 +95,10 @@ func fastpathHook(c sqlite.ExecQuerierContext, _ string) error {
 	fastpath.tried = true
 	if err != nil {
 		fastpath.active = false
-		fastpath.reason = "regr_slope uses the public driver API: " + err.Error()
+		fastpath.reason = "regr_slope and trend_slope use the public driver API: " + err.Error()
 	} else if !fastpath.active {
 		fastpath.active = true
-		fastpath.reason = "regr_slope uses the C-level adapter (sqlfuncs/fastpath.go)"
+		fastpath.reason = "regr_slope and trend_slope use the C-level adapter (sqlfuncs/fastpath.go, fastpath_series.go)"
 	}
 	return nil
 }
@@ -177,7 +177,7 @@ func installFastPath(c any) error {
 	if rc != sqlite3.SQLITE_OK {
 		return fmt.Errorf("sqlite3_create_window_function returned %d", rc)
 	}
-	return nil
+	return installFastSeries(h)
 }
 
 // cFunc turns a top-level Go function into the function-pointer form the

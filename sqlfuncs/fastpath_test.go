@@ -176,14 +176,11 @@ func TestFastPathNullsTextAndErrors(t *testing.T) {
 		{`SELECT regr_slope(column1, column2) FROM (VALUES ('2.5', 1), (' 4.5 ', '2'))`, 2.0},
 		// An exact line y = 3 − 0.5 x (common practice: least squares
 		// reproduces an exact line).
-		{`SELECT regr_slope(3 - 0.5 * value, value) FROM generate_series(1, 10)`, -0.5},
+		{`WITH RECURSIVE s(v) AS (SELECT 1 UNION ALL SELECT v + 1 FROM s WHERE v < 10) SELECT regr_slope(3 - 0.5 * v, v) FROM s`, -0.5},
 	}
 	for _, c := range cases {
 		var got any
 		err := s.DB.QueryRow(c.q).Scan(&got)
-		if err != nil && strings.Contains(err.Error(), "generate_series") {
-			continue // not compiled into this driver build
-		}
 		if err != nil {
 			t.Fatalf("%s: %v", c.q, err)
 		}
