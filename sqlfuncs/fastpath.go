@@ -95,10 +95,10 @@ func fastpathHook(c sqlite.ExecQuerierContext, _ string) error {
 	fastpath.tried = true
 	if err != nil {
 		fastpath.active = false
-		fastpath.reason = "regr_slope and trend_slope use the public driver API: " + err.Error()
+		fastpath.reason = "regr_slope and the series aggregates use the public driver API: " + err.Error()
 	} else if !fastpath.active {
 		fastpath.active = true
-		fastpath.reason = "regr_slope and trend_slope use the C-level adapter (sqlfuncs/fastpath.go, fastpath_series.go)"
+		fastpath.reason = fmt.Sprintf("regr_slope and %d series aggregates use the C-level adapter (sqlfuncs/fastpath.go, fastpath_series.go)", len(fastSeriesFactories.list))
 	}
 	return nil
 }

@@ -1,30 +1,40 @@
 package sqlfuncs
 
-// Zero-allocation Step path for trend_slope(t, y) (the only series aggregate
-// that uses it), on the same connection hook as the regr_slope adapter in
-// fastpath.go, with the same version pin, checks and fallback.
+// Zero-allocation Step path for the series aggregates of (t, y [, options])
+// (trend_slope, trend_fit, sample_acf, correlogram, ljung_box, mann_kendall,
+// sen_slope, ... — every defineSeries function with one value column), on
+// the same connection hook as the regr_slope adapter in fastpath.go, with the
+// same version pin, checks and fallback.
 //
-// The public API boxes t and y into interfaces on every row (two heap
-// allocations). Here SQLite calls plain callbacks: Step reads t and y with
-// sqlite3_value_* and appends them to the group's buffer. The buffer is the
-// public implementation's own seriesAgg (made by its MakeAggregate), so the
-// value is computed by exactly the same code (sorting check, tie errors,
-// stats.TrendSlope); only the per-row argument handling differs. The
-// sqlite3_aggregate_context memory holds the index of that seriesAgg in
-// liveSeries (an integer, no Go pointer). Window frames work: the inverse
-// callback hands the removed row to seriesAgg.WindowInverse (boxing there,
-// which only window queries pay). Calls with another argument count keep
-// the public registration (SQLite picks the exact-arity function first).
+// The public API boxes every argument of every row into an interface (one
+// heap allocation per number). Here SQLite calls plain callbacks for each
+// valid argument count. The group's state is the public implementation's own
+// seriesAgg (made by its MakeAggregate), so values are computed by exactly
+// the same code; the sqlite3_aggregate_context memory holds the index of
+// that seriesAgg in liveSeries (an integer, no Go pointer).
 //
-// Step replicates seriesAgg.Step for a function without option arguments:
-// TestFastSeriesMatchesPublic compares every result with the public path, so
-// a change to seriesAgg.Step that this file does not follow fails loudly.
+// Step handles only the common case itself — t and y are finite INTEGER or
+// REAL values (or y is NULL) and the option arguments are the same values,
+// of the same type, as on the group's first row — by appending (t, y) to the
+// buffer as seriesAgg.Step does. Every other row (the group's first, text
+// times, numeric text, NULL times, changed options, ...) is boxed and handed
+// to seriesAgg.Step itself, so conversions, checks and error messages are
+// the public ones. Window frames work: the inverse callback hands the
+// removed row to seriesAgg.WindowInverse (boxing there, which only window
+// queries pay). Argument counts outside the function's range keep the
+// public variadic registration (SQLite picks the exact-arity function first).
+//
+// TestFastSeriesMatchesPublic drives the public aggregate directly and
+// compares values and errors; every SQL test of these functions also runs
+// through this adapter, so a change to seriesAgg.Step that this file does not
+// follow fails loudly.
 
 import (
 	"database/sql/driver"
 	"errors"
 	"fmt"
 	"math"
+	"sort"
 	"sync"
 	"unsafe"
 
@@ -32,9 +42,6 @@ import (
 	"modernc.org/sqlite"
 	sqlite3 "modernc.org/sqlite/lib"
 )
-
-// fastSeriesNames are the series aggregates given the adapter.
-var fastSeriesNames = []string{"trend_slope"}
 
 var liveSeries struct {
 	sync.RWMutex
@@ -47,8 +54,21 @@ var liveSeries struct {
 type fastSeriesSlot struct{ id int32 }
 
 type fastSeriesFactory struct {
-	name string
-	make func(sqlite.FunctionContext) (sqlite.AggregateFunction, error)
+	name             string
+	make             func(sqlite.FunctionContext) (sqlite.AggregateFunction, error)
+	minArgs, maxArgs int
+}
+
+// FastSeriesFunctions lists the series aggregates the adapter serves (empty
+// until the first connection has been opened).
+func FastSeriesFunctions() []string {
+	fastSeriesFactories.Lock()
+	defer fastSeriesFactories.Unlock()
+	out := make([]string, 0, len(fastSeriesFactories.list))
+	for _, f := range fastSeriesFactories.list {
+		out = append(out, f.name)
+	}
+	return out
 }
 
 var fastSeriesFactories struct {
@@ -67,33 +87,42 @@ func installFastSeries(h connHandle) error {
 		fastSeriesFactories.byName = map[string]*fastSeriesFactory{}
 		fastSeriesFactories.zNames = map[string]uintptr{}
 		mu.Lock()
-		for _, name := range fastSeriesNames {
-			d, ok := definitions[name]
-			if !ok || d.impl == nil || d.impl.MakeAggregate == nil {
+		names := make([]string, 0, len(definitions))
+		for name := range definitions {
+			names = append(names, name)
+		}
+		sort.Strings(names)
+		for _, name := range names {
+			d := definitions[name]
+			if d.impl == nil || d.impl.MakeAggregate == nil {
 				continue
 			}
 			agg, err := d.impl.MakeAggregate(sqlite.FunctionContext{})
-			if _, isSeries := agg.(*seriesAgg); err != nil || !isSeries || agg.(*seriesAgg).spec.values != 1 || agg.(*seriesAgg).spec.maxOptions != 0 {
+			sa, isSeries := agg.(*seriesAgg)
+			if err != nil || !isSeries || sa.spec.values != 1 || sa.spec.maxOptions > 4 || sa.spec.minOptions < 0 {
 				continue
 			}
-			f := &fastSeriesFactory{name: name, make: d.impl.MakeAggregate}
-			fastSeriesFactories.byName[name] = f
-			fastSeriesFactories.list = append(fastSeriesFactories.list, f)
 			z, err := libc.CString(name)
 			if err != nil {
 				mu.Unlock()
 				return err
 			}
+			f := &fastSeriesFactory{name: name, make: d.impl.MakeAggregate,
+				minArgs: 2 + sa.spec.minOptions, maxArgs: 2 + sa.spec.maxOptions}
+			fastSeriesFactories.byName[name] = f
+			fastSeriesFactories.list = append(fastSeriesFactories.list, f)
 			fastSeriesFactories.zNames[name] = z
 		}
 		mu.Unlock()
 	}
 	for i, f := range fastSeriesFactories.list {
-		rc := sqlite3.Xsqlite3_create_window_function(h.tls, h.db, fastSeriesFactories.zNames[f.name], 2,
-			sqlite3.SQLITE_UTF8|sqlite3.SQLITE_DETERMINISTIC, uintptr(i+1),
-			cFunc(fastSeriesStep), cFunc(fastSeriesFinal), cFunc(fastSeriesValue), cFunc(fastSeriesInverse), 0)
-		if rc != sqlite3.SQLITE_OK {
-			return fmt.Errorf("sqlite3_create_window_function(%s) returned %d", f.name, rc)
+		for n := f.minArgs; n <= f.maxArgs; n++ {
+			rc := sqlite3.Xsqlite3_create_window_function(h.tls, h.db, fastSeriesFactories.zNames[f.name], int32(n),
+				sqlite3.SQLITE_UTF8|sqlite3.SQLITE_DETERMINISTIC, uintptr(i+1),
+				cFunc(fastSeriesStep), cFunc(fastSeriesFinal), cFunc(fastSeriesValue), cFunc(fastSeriesInverse), 0)
+			if rc != sqlite3.SQLITE_OK {
+				return fmt.Errorf("sqlite3_create_window_function(%s, %d) returned %d", f.name, n, rc)
+			}
 		}
 	}
 	return nil
@@ -156,38 +185,59 @@ func releaseSeriesSlot(slot *fastSeriesSlot) {
 	slot.id = 0
 }
 
-// fastSeriesArgs reads (t, y) as seriesAgg.row would: t must be a finite
-// number or a time text; y is a finite number, numeric text, or NULL.
-func fastSeriesArgs(tls *libc.TLS, a *seriesAgg, argv uintptr) (t, y float64, ok bool, err error) {
-	v := at[[2]uintptr](argv)
-	name := a.name()
-	switch sqlite3.Xsqlite3_value_type(tls, v[0]) {
+// fastNumber reads a finite INTEGER or REAL value; ok is false for anything
+// else (the caller then takes the public path).
+func fastNumber(tls *libc.TLS, v uintptr) (x float64, null, ok bool) {
+	switch sqlite3.Xsqlite3_value_type(tls, v) {
 	case sqlite3.SQLITE_INTEGER:
-		t = float64(sqlite3.Xsqlite3_value_int64(tls, v[0]))
+		return float64(sqlite3.Xsqlite3_value_int64(tls, v)), false, true
 	case sqlite3.SQLITE_FLOAT:
-		t = sqlite3.Xsqlite3_value_double(tls, v[0])
-		if math.IsNaN(t) || math.IsInf(t, 0) {
-			t, err = argTime(name, a.argName(0), t)
-		}
-	default:
-		t, err = argTime(name, a.argName(0), fastBoxed(tls, v[0]))
-	}
-	if err != nil {
-		return 0, 0, false, err
-	}
-	switch sqlite3.Xsqlite3_value_type(tls, v[1]) {
+		x = sqlite3.Xsqlite3_value_double(tls, v)
+		return x, false, !math.IsNaN(x) && !math.IsInf(x, 0)
 	case sqlite3.SQLITE_NULL:
-		return t, 0, false, nil
-	case sqlite3.SQLITE_INTEGER:
-		return t, float64(sqlite3.Xsqlite3_value_int64(tls, v[1])), true, nil
-	case sqlite3.SQLITE_FLOAT:
-		y = sqlite3.Xsqlite3_value_double(tls, v[1])
-		if !math.IsNaN(y) && !math.IsInf(y, 0) {
-			return t, y, true, nil
-		}
+		return 0, true, false
 	}
-	y, ok, err = argValue(name, a.argName(1), fastBoxed(tls, v[1]))
-	return t, y, ok, err
+	return 0, false, false
+}
+
+// sameOption says whether an option argument equals, in type and value, the
+// one stored from the group's first row (anything else takes the public
+// path, which decides).
+func sameOption(tls *libc.TLS, v uintptr, stored driver.Value) bool {
+	switch sqlite3.Xsqlite3_value_type(tls, v) {
+	case sqlite3.SQLITE_INTEGER:
+		s, ok := stored.(int64)
+		return ok && s == sqlite3.Xsqlite3_value_int64(tls, v)
+	case sqlite3.SQLITE_FLOAT:
+		s, ok := stored.(float64)
+		return ok && s == sqlite3.Xsqlite3_value_double(tls, v)
+	case sqlite3.SQLITE_TEXT:
+		s, ok := stored.(string)
+		if !ok {
+			return false
+		}
+		p := sqlite3.Xsqlite3_value_text(tls, v)
+		n := int(sqlite3.Xsqlite3_value_bytes(tls, v))
+		if n != len(s) {
+			return false
+		}
+		return n == 0 || unsafe.String(at[byte](p), n) == s
+	case sqlite3.SQLITE_NULL:
+		return stored == nil
+	}
+	return false
+}
+
+// fastRowArgs boxes the row's arguments as the driver would.
+func fastRowArgs(tls *libc.TLS, argc int32, argv uintptr) []driver.Value {
+	args := make([]driver.Value, argc)
+	if argc == 0 {
+		return args
+	}
+	for i, v := range unsafe.Slice(at[uintptr](argv), int(argc)) {
+		args[i] = fastBoxed(tls, v)
+	}
+	return args
 }
 
 // fastBoxed converts a value the way the driver does (the slow path, for
@@ -233,25 +283,31 @@ func fastSeriesStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 		fastError(tls, ctx, err)
 		return
 	}
-	t, y, ok, err := fastSeriesArgs(tls, a, argv)
-	if err != nil {
+	if a.stepped && int(argc) == 2+len(a.opts) {
+		v := unsafe.Slice(at[uintptr](argv), int(argc))
+		t, _, tok := fastNumber(tls, v[0])
+		y, ynull, yok := fastNumber(tls, v[1])
+		same := tok && (yok || ynull)
+		for j := 2; same && j < len(v); j++ {
+			same = sameOption(tls, v[j], a.opts[j-2])
+		}
+		if same {
+			// seriesAgg.Step for a row whose conversions cannot fail.
+			if ynull {
+				return
+			}
+			if n := len(a.t); n > a.head && t <= a.t[n-1] {
+				a.sorted = false
+			}
+			a.t = append(a.t, t)
+			a.y = append(a.y, y)
+			return
+		}
+	}
+	// The public path: the group's first row and anything unusual.
+	if err := a.Step(nil, fastRowArgs(tls, argc, argv)); err != nil {
 		fastError(tls, ctx, err)
-		return
 	}
-	// seriesAgg.Step for a function without option arguments.
-	if !a.stepped {
-		a.opts = nil
-		a.stepped = true
-		a.sorted = true
-	}
-	if !ok {
-		return
-	}
-	if n := len(a.t); n > a.head && t <= a.t[n-1] {
-		a.sorted = false
-	}
-	a.t = append(a.t, t)
-	a.y = append(a.y, y)
 }
 
 func fastSeriesInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
@@ -261,8 +317,7 @@ func fastSeriesInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 		fastError(tls, ctx, err)
 		return
 	}
-	v := at[[2]uintptr](argv)
-	if err := a.WindowInverse(nil, []driver.Value{fastBoxed(tls, v[0]), fastBoxed(tls, v[1])}); err != nil {
+	if err := a.WindowInverse(nil, fastRowArgs(tls, argc, argv)); err != nil {
 		fastError(tls, ctx, err)
 	}
 }

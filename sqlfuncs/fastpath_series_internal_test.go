@@ -40,15 +40,25 @@ func fastSeriesDB(t *testing.T) *sql.DB {
 // public runs the public trend_slope over rows (each a (t, y) pair).
 func public(t *testing.T, rows [][2]driver.Value) (driver.Value, error) {
 	t.Helper()
+	args := make([][]driver.Value, len(rows))
+	for i, r := range rows {
+		args[i] = []driver.Value{r[0], r[1]}
+	}
+	return publicAgg(t, "trend_slope", args)
+}
+
+// publicAgg runs the public-API aggregate name over the rows' arguments.
+func publicAgg(t *testing.T, name string, rows [][]driver.Value) (driver.Value, error) {
+	t.Helper()
 	mu.Lock()
-	d := definitions["trend_slope"]
+	d := definitions[name]
 	mu.Unlock()
 	agg, err := d.impl.MakeAggregate(sqlite.FunctionContext{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	for _, r := range rows {
-		if err := agg.Step(nil, []driver.Value{r[0], r[1]}); err != nil {
+		if err := agg.Step(nil, r); err != nil {
 			return nil, err
 		}
 	}
@@ -67,10 +77,76 @@ func TestFastSeriesActive(t *testing.T) {
 	if active, why := FastPathStatus(); !active {
 		t.Fatalf("THE C-LEVEL ADAPTER IS OFF: %s", why)
 	}
-	fastSeriesFactories.Lock()
-	defer fastSeriesFactories.Unlock()
-	if _, ok := fastSeriesFactories.byName["trend_slope"]; !ok {
-		t.Fatal("trend_slope is not a series aggregate without options any more: fastpath_series.go no longer applies to it")
+	served := strings.Join(FastSeriesFunctions(), " ")
+	for _, name := range []string{"trend_slope", "trend_fit", "sample_acf", "correlogram", "ljung_box", "mann_kendall", "sen_slope"} {
+		if !strings.Contains(" "+served+" ", " "+name+" ") {
+			t.Errorf("%s is not served by the adapter (served: %s)", name, served)
+		}
+	}
+}
+
+// Functions with option arguments: the adapter compares options without
+// boxing; results and the error for an option that changes within a group
+// must be the public ones.
+func TestFastSeriesOptionsMatchPublic(t *testing.T) {
+	db := fastSeriesDB(t)
+	var base [][]driver.Value
+	for i := 0; i < 400; i++ {
+		var y driver.Value = 5 + 0.002*float64(i) + math.Cos(float64(i)/5)
+		if i%41 == 0 {
+			y = nil
+		}
+		base = append(base, []driver.Value{int64(1420070400 + 3600*i), y})
+	}
+	tx, _ := db.Begin()
+	for _, r := range base {
+		if _, err := tx.Exec(`INSERT INTO r VALUES (1, ?, ?)`, r[0], r[1]); err != nil {
+			t.Fatal(err)
+		}
+	}
+	tx.Commit()
+	cases := []struct {
+		name string
+		opts []driver.Value
+		sql  string
+	}{
+		{"sample_acf", []driver.Value{int64(1)}, "sample_acf(t, y, 1)"},
+		{"correlogram", []driver.Value{int64(5)}, "correlogram(t, y, 5)"},
+		{"ljung_box", []driver.Value{int64(6)}, "ljung_box(t, y, 6)"},
+		{"ljung_box", []driver.Value{int64(6), int64(1)}, "ljung_box(t, y, 6, 1)"},
+		{"mann_kendall", nil, "mann_kendall(t, y)"},
+		{"sen_slope", []driver.Value{0.9}, "sen_slope(t, y, 0.9)"},
+		{"trend_fit", []driver.Value{"period=1y,harmonics=1"}, "trend_fit(t, y, 'period=1y,harmonics=1')"},
+	}
+	for _, c := range cases {
+		rows := make([][]driver.Value, len(base))
+		for i, r := range base {
+			rows[i] = append(append([]driver.Value{}, r...), c.opts...)
+		}
+		want, werr := publicAgg(t, c.name, rows)
+		var got any
+		err := db.QueryRow(`SELECT ` + c.sql + ` FROM r`).Scan(&got)
+		if werr != nil || err != nil {
+			t.Fatalf("%s: errors %v / %v", c.sql, werr, err)
+		}
+		if fmt.Sprintf("%v", got) != fmt.Sprintf("%v", want) {
+			t.Errorf("%s: adapter %v, public %v", c.sql, got, want)
+		}
+	}
+	// An option that changes within the group.
+	rows := make([][]driver.Value, len(base))
+	for i, r := range base {
+		lag := int64(1)
+		if i >= 200 {
+			lag = 2
+		}
+		rows[i] = append(append([]driver.Value{}, r...), lag)
+	}
+	_, werr := publicAgg(t, "sample_acf", rows)
+	var got any
+	err := db.QueryRow(`SELECT sample_acf(t, y, CASE WHEN t >= 1420070400 + 3600 * 200 THEN 2 ELSE 1 END) FROM r`).Scan(&got)
+	if werr == nil || err == nil || !strings.Contains(err.Error(), werr.Error()) {
+		t.Errorf("changing option: adapter %v, public %v", err, werr)
 	}
 }
 
