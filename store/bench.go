@@ -360,7 +360,7 @@ type BenchReport struct {
 	GenerateSec  float64      `json:"generate_csv_s"`
 	ImportMethod string       `json:"import_method"`
 	PeakReset    bool         `json:"peak_rss_reset_per_item"`
-	FastPath     string       `json:"regr_slope_path"`
+	FastPath     string       `json:"adapter"`
 	Items        []BenchItem  `json:"items"`
 	ProcessPeak  int64        `json:"process_peak_rss_bytes"`
 	Elapsed      float64      `json:"elapsed_s"`
