@@ -238,8 +238,28 @@ func TestFastSeriesMatchesPublic(t *testing.T) {
 	}
 }
 
+// liveAggregates counts the adapter's groups still holding a slot.
+func liveAggregates() int {
+	liveSeries.RLock()
+	defer liveSeries.RUnlock()
+	n := 0
+	for _, a := range liveSeries.aggs {
+		if a != nil {
+			n++
+		}
+	}
+	return n
+}
+
 func TestFastSeriesErrorsMatchPublic(t *testing.T) {
 	db := fastSeriesDB(t)
+	defer func() {
+		// Every group's slot is released, also after errors: SQLite
+		// finalizes aggregate contexts when a statement is reset.
+		if n := liveAggregates(); n != 0 {
+			t.Errorf("%d adapter slots still held after the statements ended", n)
+		}
+	}()
 	cases := [][][2]driver.Value{
 		{{int64(5), 1.0}, {int64(5), 2.0}, {int64(6), 3.0}},       // tied times
 		{{int64(5), 1.0}, {nil, 2.0}},                             // NULL time
@@ -285,6 +305,18 @@ func TestFastSeriesNoAllocationsPerRow(t *testing.T) {
 		}
 		runtime.ReadMemStats(&m1)
 		return m1.Mallocs - m0.Mallocs
+	}
+	// A statement abandoned half-way releases its groups' slots.
+	ctx, cancel := context.WithCancel(context.Background())
+	rows, err := db.QueryContext(ctx, `SELECT trend_slope(t, y) OVER (ORDER BY t ROWS 50 PRECEDING) FROM r`)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows.Next()
+	cancel()
+	rows.Close()
+	if n := liveAggregates(); n != 0 {
+		t.Errorf("%d adapter slots held after an abandoned statement", n)
 	}
 	base := count(`SELECT avg(y) FROM r`)
 	fast := count(`SELECT trend_slope(t, y) FROM r`)
