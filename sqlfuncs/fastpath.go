@@ -1,49 +1,56 @@
 package sqlfuncs
 
-// Zero-allocation adapter for regr_slope (the only function that uses it).
+// Zero-allocation adapter for the SQL:2003 regression aggregates (regr_*,
+// covar_*, corr of regr.go) and, in fastpath_series.go, for the series
+// aggregates.
 //
 // Why. The driver's public aggregate API (sqlite.FunctionImpl) hands every
 // row's arguments to Go as []driver.Value; each int64 or float64 argument is
 // boxed into an interface, one Go heap allocation per argument per row.
 // Over millions of rows that costs more than the arithmetic. This file
-// registers regr_slope directly with SQLite's C-level API
+// registers the functions directly with SQLite's C-level API
 // (sqlite3_create_window_function), reads arguments with sqlite3_value_*
 // and keeps the running state in sqlite3_aggregate_context memory, so the
 // Step path allocates nothing.
 //
 // How. A connection hook (sqlite.RegisterConnectionHook) runs after the
 // driver has registered the public-API functions on each new connection and
-// re-registers regr_slope(y, x) on that connection with the callbacks below.
-// It needs the connection's sqlite3* handle and libc TLS, which the driver
-// keeps in unexported fields; handleOf checks by reflection that the
-// connection type, its field names, types and order are exactly what this
-// adapter was written against before reading them.
+// re-registers them on that connection with the callbacks below. It needs
+// the connection's sqlite3* handle and libc TLS, which the driver keeps in
+// unexported fields; handleOf checks by reflection that the connection type,
+// its field names, types and order are exactly what this adapter was written
+// against before reading them.
 //
 // Safety net. If anything does not match — a different driver version than
 // FastPathDriverVersion, a changed connection layout, TRENDSQL_FASTPATH=off
 // in the environment, or a failing registration — the hook leaves the
-// connection alone and regr_slope keeps its public-API implementation from
-// regr.go (same arithmetic, same results, only slower). FastPathStatus says
-// which path is in use and why; TestFastPathActive fails loudly when a driver
+// connection alone and every function keeps its public-API implementation
+// (same arithmetic, same results, only slower). FastPathStatus says which
+// path is in use and why; TestFastPathActive fails loudly when a driver
 // upgrade disables the adapter, so the upgrade cannot go unnoticed. After
 // upgrading modernc.org/sqlite: re-read conn.go (fields db, tls) and the
 // aggregate trampolines in sqlite.go, then update FastPathDriverVersion.
 //
-// Semantics are those of regr_slope in regr.go (SQL:2003, rows with a NULL
-// argument ignored, numeric TEXT accepted, non-numeric text or a non-finite
-// value an error naming the function and argument, the same co-moment state
-// and update/finish arithmetic, exact inverse for window frames), and
-// TestFastPathMatchesPublic checks the results are bit-for-bit those of the
-// public path. If regr.go changes how add/remove drive that state, that test
-// fails until this file follows.
+// Semantics are those of regr.go: the state is regr.go's comoments, updated
+// by its update method in the same steps as comoments.add/remove, and the
+// value is computed by the public function's own result func (taken from the
+// aggregate its MakeAggregate returns), so nothing is duplicated. Rows with a
+// NULL argument are ignored; numeric TEXT is accepted and non-numeric text
+// or a non-finite value is an error naming the function and argument (the
+// public argValue decides those cases). TestFastPathMatchesPublic and
+// TestFastRegrMatchesPublic check results bit for bit against the public
+// path; if regr.go changes how add/remove drive the state, they fail until
+// this file follows.
 
 import (
+	"database/sql/driver"
 	"errors"
 	"fmt"
 	"math"
 	"os"
 	"reflect"
 	"runtime/debug"
+	"sort"
 	"strings"
 	"sync"
 	"unsafe"
@@ -67,7 +74,32 @@ var fastpath struct {
 	sync.Mutex
 	tried, active bool
 	reason        string
-	zName         uintptr // "regr_slope" as a C string, kept for the process
+}
+
+// fastRegrFunc is one regression aggregate served by the adapter.
+type fastRegrFunc struct {
+	name   string
+	zName  uintptr // name as a C string, kept for the process
+	result func(c *comoments) driver.Value
+}
+
+// fastRegr lists them; index+1 is the pApp of the registration.
+var fastRegr struct {
+	sync.Mutex
+	done bool
+	list []fastRegrFunc
+}
+
+// FastRegrFunctions lists the regression aggregates the adapter serves
+// (empty until the first connection has been opened).
+func FastRegrFunctions() []string {
+	fastRegr.Lock()
+	defer fastRegr.Unlock()
+	out := make([]string, 0, len(fastRegr.list))
+	for _, f := range fastRegr.list {
+		out = append(out, f.name)
+	}
+	return out
 }
 
 // FastPathStatus reports whether connections opened so far use the
@@ -95,10 +127,10 @@ func fastpathHook(c sqlite.ExecQuerierContext, _ string) error {
 	fastpath.tried = true
 	if err != nil {
 		fastpath.active = false
-		fastpath.reason = "regr_slope and the series aggregates use the public driver API: " + err.Error()
+		fastpath.reason = "the regression and series aggregates use the public driver API: " + err.Error()
 	} else if !fastpath.active {
 		fastpath.active = true
-		fastpath.reason = fmt.Sprintf("regr_slope and %d series aggregates use the C-level adapter (sqlfuncs/fastpath.go, fastpath_series.go)", len(fastSeriesFactories.list))
+		fastpath.reason = fmt.Sprintf("%d regression and %d series aggregates use the C-level adapter (sqlfuncs/fastpath.go, fastpath_series.go)", len(fastRegr.list), len(fastSeriesFactories.list))
 	}
 	return nil
 }
@@ -160,24 +192,61 @@ func installFastPath(c any) error {
 	if err != nil {
 		return err
 	}
-	fastpath.Lock()
-	if fastpath.zName == 0 {
-		p, err := libc.CString("regr_slope")
-		if err != nil {
-			fastpath.Unlock()
-			return err
+	fastRegr.Lock()
+	if !fastRegr.done {
+		fastRegr.done = true
+		mu.Lock()
+		names := make([]string, 0, len(definitions))
+		for name := range definitions {
+			names = append(names, name)
 		}
-		fastpath.zName = p
+		sort.Strings(names)
+		for _, name := range names {
+			d := definitions[name]
+			if d.impl == nil || d.impl.MakeAggregate == nil || d.impl.NArgs != 2 {
+				continue
+			}
+			agg, err := d.impl.MakeAggregate(sqlite.FunctionContext{})
+			sa, ok := agg.(*streamAgg)
+			if err != nil || !ok {
+				continue
+			}
+			rf, ok := sa.st.(*regrFunc)
+			if !ok || rf.result == nil {
+				continue
+			}
+			z, err := libc.CString(name)
+			if err != nil {
+				mu.Unlock()
+				fastRegr.Unlock()
+				return err
+			}
+			fastRegr.list = append(fastRegr.list, fastRegrFunc{name: name, zName: z, result: rf.result})
+		}
+		mu.Unlock()
 	}
-	name := fastpath.zName
-	fastpath.Unlock()
-	rc := sqlite3.Xsqlite3_create_window_function(h.tls, h.db, name, 2,
-		sqlite3.SQLITE_UTF8|sqlite3.SQLITE_DETERMINISTIC, 0,
-		cFunc(fastSlopeStep), cFunc(fastSlopeFinal), cFunc(fastSlopeValue), cFunc(fastSlopeInverse), 0)
-	if rc != sqlite3.SQLITE_OK {
-		return fmt.Errorf("sqlite3_create_window_function returned %d", rc)
+	list := fastRegr.list
+	fastRegr.Unlock()
+	for i, f := range list {
+		rc := sqlite3.Xsqlite3_create_window_function(h.tls, h.db, f.zName, 2,
+			sqlite3.SQLITE_UTF8|sqlite3.SQLITE_DETERMINISTIC, uintptr(i+1),
+			cFunc(fastRegrStep), cFunc(fastRegrFinal), cFunc(fastRegrValue), cFunc(fastRegrInverse), 0)
+		if rc != sqlite3.SQLITE_OK {
+			return fmt.Errorf("sqlite3_create_window_function(%s) returned %d", f.name, rc)
+		}
 	}
 	return installFastSeries(h)
+}
+
+// fastRegrOf returns the function a callback serves.
+func fastRegrOf(tls *libc.TLS, ctx uintptr) fastRegrFunc {
+	i := int(sqlite3.Xsqlite3_user_data(tls, ctx)) - 1
+	fastRegr.Lock()
+	defer fastRegr.Unlock()
+	if i < 0 || i >= len(fastRegr.list) {
+		return fastRegrFunc{name: "regression aggregate", result: func(*comoments) driver.Value { return nil }}
+	}
+	return fastRegr.list[i]
 }
 
 // cFunc turns a top-level Go function into the function-pointer form the
@@ -224,8 +293,9 @@ func fastError(tls *libc.TLS, ctx uintptr, err error) {
 	libc.Xfree(tls, msg)
 }
 
-// fastArg reads argument i as regr.go's argValue would.
-func fastArg(tls *libc.TLS, argv uintptr, i int, name string) (float64, bool, error) {
+// fastArg reads argument i as regr.go's argValue would; anything but a
+// finite INTEGER or REAL, or NULL, goes to argValue itself.
+func fastArg(tls *libc.TLS, ctx uintptr, argv uintptr, i int, arg string) (float64, bool, error) {
 	v := at[[2]uintptr](argv)[i]
 	switch sqlite3.Xsqlite3_value_type(tls, v) {
 	case sqlite3.SQLITE_NULL:
@@ -234,26 +304,23 @@ func fastArg(tls *libc.TLS, argv uintptr, i int, name string) (float64, bool, er
 		return float64(sqlite3.Xsqlite3_value_int64(tls, v)), true, nil
 	case sqlite3.SQLITE_FLOAT:
 		x := sqlite3.Xsqlite3_value_double(tls, v)
-		if math.IsNaN(x) || math.IsInf(x, 0) {
-			return argValue("regr_slope", name, x)
+		if !math.IsNaN(x) && !math.IsInf(x, 0) {
+			return x, true, nil
 		}
-		return x, true, nil
-	case sqlite3.SQLITE_TEXT:
-		return argValue("regr_slope", name, libc.GoString(sqlite3.Xsqlite3_value_text(tls, v)))
-	default:
-		return argValue("regr_slope", name, []byte(nil))
 	}
+	return argValue(fastRegrOf(tls, ctx).name, arg, fastBoxed(tls, v))
 }
 
-func fastPair(tls *libc.TLS, argc int32, argv uintptr) (y, x float64, ok bool, err error) {
+func fastPair(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) (y, x float64, ok bool, err error) {
 	if argc != 2 {
-		return 0, 0, false, fmt.Errorf("regr_slope: wrong number of arguments (%d); usage: regr_slope(y, x)", argc)
+		name := fastRegrOf(tls, ctx).name
+		return 0, 0, false, fmt.Errorf("%s: wrong number of arguments (%d); usage: %s(y, x)", name, argc, name)
 	}
-	y, oky, err := fastArg(tls, argv, 0, "y")
+	y, oky, err := fastArg(tls, ctx, argv, 0, "y")
 	if err != nil {
 		return 0, 0, false, err
 	}
-	x, okx, err := fastArg(tls, argv, 1, "x")
+	x, okx, err := fastArg(tls, ctx, argv, 1, "x")
 	if err != nil {
 		return 0, 0, false, err
 	}
@@ -262,13 +329,13 @@ func fastPair(tls *libc.TLS, argc int32, argv uintptr) (y, x float64, ok bool, e
 
 func fastRecover(tls *libc.TLS, ctx uintptr) {
 	if r := recover(); r != nil {
-		fastError(tls, ctx, fmt.Errorf("regr_slope: internal error: %v", r))
+		fastError(tls, ctx, fmt.Errorf("%s: internal error: %v", fastRegrOf(tls, ctx).name, r))
 	}
 }
 
-func fastSlopeStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
+func fastRegrStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 	defer fastRecover(tls, ctx)
-	y, x, ok, err := fastPair(tls, argc, argv)
+	y, x, ok, err := fastPair(tls, ctx, argc, argv)
 	if err != nil {
 		fastError(tls, ctx, err)
 		return
@@ -282,9 +349,6 @@ func fastSlopeStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 		return
 	}
 	// The steps of comoments.add in regr.go, without the argument boxing.
-	// finish() (the derived means and centred sums) is left to the result
-	// callback: update reads only n, the shift and the shifted sums, so the
-	// result is the same bit for bit and a row costs one update.
 	if c.n == 0 {
 		*c = comoments{x0: x, y0: y}
 	}
@@ -292,9 +356,9 @@ func fastSlopeStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 	c.update(y, x, 1)
 }
 
-func fastSlopeInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
+func fastRegrInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 	defer fastRecover(tls, ctx)
-	y, x, ok, err := fastPair(tls, argc, argv)
+	y, x, ok, err := fastPair(tls, ctx, argc, argv)
 	if err != nil {
 		fastError(tls, ctx, err)
 		return
@@ -316,18 +380,27 @@ func fastSlopeInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 	c.update(y, x, -1)
 }
 
-func fastSlopeResult(tls *libc.TLS, ctx uintptr) {
+// fastRegrResult computes the value with the public function's result func
+// (regrFunc.value: finish, then result).
+func fastRegrResult(tls *libc.TLS, ctx uintptr) {
 	defer fastRecover(tls, ctx)
+	f := fastRegrOf(tls, ctx)
 	c := fastState(tls, ctx, false)
-	if c != nil {
-		c.finish()
+	if c == nil {
+		c = &comoments{} // no row was ever stepped: the empty set
 	}
-	if c == nil || c.n == 0 || c.sxx == 0 {
+	c.finish()
+	switch v := f.result(c).(type) {
+	case nil:
 		sqlite3.Xsqlite3_result_null(tls, ctx)
-		return
+	case float64:
+		sqlite3.Xsqlite3_result_double(tls, ctx, v)
+	case int64:
+		sqlite3.Xsqlite3_result_int64(tls, ctx, v)
+	default:
+		fastError(tls, ctx, fmt.Errorf("%s: internal error: result of type %T", f.name, v))
 	}
-	sqlite3.Xsqlite3_result_double(tls, ctx, c.sxy/c.sxx)
 }
 
-func fastSlopeValue(tls *libc.TLS, ctx uintptr) { fastSlopeResult(tls, ctx) }
-func fastSlopeFinal(tls *libc.TLS, ctx uintptr) { fastSlopeResult(tls, ctx) }
+func fastRegrValue(tls *libc.TLS, ctx uintptr) { fastRegrResult(tls, ctx) }
+func fastRegrFinal(tls *libc.TLS, ctx uintptr) { fastRegrResult(tls, ctx) }

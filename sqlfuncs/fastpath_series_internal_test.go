@@ -327,3 +327,92 @@ func TestFastSeriesNoAllocationsPerRow(t *testing.T) {
 		t.Fatalf("trend_slope made %d Go allocations over 20000 rows (avg() %d): the Step path allocates per row", fast, base)
 	}
 }
+
+// Every regression aggregate through the adapter against its public-API
+// implementation driven directly: grouped, empty, with NULLs, numeric text,
+// and over a sliding window frame (inverse steps).
+func TestFastRegrMatchesPublic(t *testing.T) {
+	db := fastSeriesDB(t)
+	var rows [][]driver.Value // (y, x)
+	for i := 0; i < 300; i++ {
+		var y driver.Value = 3 + 0.5*float64(i) + 7*math.Sin(float64(i))
+		var x driver.Value = int64(1700000000 + 60*i)
+		switch {
+		case i%29 == 0:
+			y = nil
+		case i%31 == 0:
+			x = nil
+		case i == 100:
+			y = " 12.5"
+		}
+		rows = append(rows, []driver.Value{y, x})
+	}
+	tx, _ := db.Begin()
+	for i, r := range rows {
+		if _, err := tx.Exec(`INSERT INTO r VALUES (?, ?, ?)`, i, r[1], r[0]); err != nil {
+			t.Fatal(err)
+		}
+	}
+	tx.Commit()
+	names := FastRegrFunctions()
+	if len(names) < 12 {
+		t.Fatalf("adapter serves %d regression aggregates: %v", len(names), names)
+	}
+	for _, name := range names {
+		want, werr := publicAgg(t, name, rows)
+		var got any
+		err := db.QueryRow(`SELECT ` + name + `(y, t) FROM r ORDER BY g`).Scan(&got)
+		if werr != nil || err != nil {
+			t.Fatalf("%s: errors %v / %v", name, werr, err)
+		}
+		if fmt.Sprintf("%#v", got) != fmt.Sprintf("%#v", want) {
+			t.Errorf("%s: adapter %#v, public %#v", name, got, want)
+		}
+		want, _ = publicAgg(t, name, nil)
+		if err := db.QueryRow(`SELECT ` + name + `(y, t) FROM r WHERE 0`).Scan(&got); err != nil {
+			t.Fatal(err)
+		}
+		if fmt.Sprintf("%#v", got) != fmt.Sprintf("%#v", want) {
+			t.Errorf("%s of the empty set: adapter %#v, public %#v", name, got, want)
+		}
+		w, err := db.Query(`SELECT ` + name + `(y, t) OVER (ORDER BY g ROWS BETWEEN 15 PRECEDING AND CURRENT ROW) FROM r ORDER BY g`)
+		if err != nil {
+			t.Fatal(err)
+		}
+		// The public aggregate driven the way SQLite drives a sliding
+		// frame: for each row, xStep for the entering row, xInverse for the
+		// leaving one, then xValue.
+		mu.Lock()
+		impl := definitions[name].impl
+		mu.Unlock()
+		pub, _ := impl.MakeAggregate(sqlite.FunctionContext{})
+		i := 0
+		for w.Next() {
+			w.Scan(&got)
+			if err := pub.Step(nil, rows[i]); err != nil {
+				t.Fatal(err)
+			}
+			if i >= 16 {
+				if err := pub.WindowInverse(nil, rows[i-16]); err != nil {
+					t.Fatal(err)
+				}
+			}
+			want, _ := pub.WindowValue(nil)
+			if fmt.Sprintf("%#v", got) != fmt.Sprintf("%#v", want) {
+				t.Errorf("%s window row %d: adapter %#v, public %#v", name, i, got, want)
+				break
+			}
+			i++
+		}
+		w.Close()
+		if i != len(rows) {
+			t.Errorf("%s: %d window rows", name, i)
+		}
+	}
+	var got any
+	err := db.QueryRow(`SELECT corr(y, 'x') FROM r`).Scan(&got)
+	_, werr := publicAgg(t, "corr", [][]driver.Value{{1.0, "x"}})
+	if err == nil || werr == nil || !strings.Contains(err.Error(), werr.Error()) {
+		t.Errorf("non-numeric x: adapter %v, public %v", err, werr)
+	}
+}

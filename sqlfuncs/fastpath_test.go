@@ -85,9 +85,10 @@ func TestFastPathActive(t *testing.T) {
 	}
 }
 
-// The adapter must give bit-for-bit the results of the public-API
-// implementation: regr_sxy / regr_sxx run the same co-moment recurrences
-// through regr.go, and regr_slope is defined as their quotient (SQL:2003).
+// regr_slope is defined as regr_sxy / regr_sxx (SQL:2003), and all three
+// share one co-moment state: grouped and windowed, the quotient must be the
+// slope bit for bit. (The comparison with the public-API implementation
+// itself is TestFastRegrMatchesPublic, an internal test.)
 func TestFastPathMatchesPublic(t *testing.T) {
 	s := fastpathStore(t)
 	queries := []struct{ fast, public string }{
