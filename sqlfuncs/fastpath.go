@@ -102,9 +102,10 @@ func FastRegrFunctions() []string {
 	return out
 }
 
-// FastPathStatus reports whether connections opened so far use the
-// zero-allocation regr_slope, and if not, why. Before any connection has been
-// opened it reports inactive with the reason "no connection opened yet".
+// FastPathStatus reports whether the connections opened so far use the
+// zero-allocation adapter (false as soon as one could not), and why. Before
+// any connection has been opened it reports inactive with the reason "no
+// connection opened yet".
 func FastPathStatus() (active bool, reason string) {
 	fastpath.Lock()
 	defer fastpath.Unlock()
