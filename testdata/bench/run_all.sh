@@ -10,7 +10,8 @@
 # (outside comparisons on the same files, compare.sh; the pandas script runs
 # PANDAS_REPS times, default 1, as it takes minutes), OUTDIR/scaling.md
 # (scaling.sh; SCALING_REPS repetitions, default 1), OUTDIR/n100k.txt (one
-# series of 100,000 readings) and OUTDIR/machine.txt. Needs about 1.5 GB of disk and, on a
+# series of 100,000 readings), OUTDIR/adapter-on.txt and adapter-off.txt
+# (1M rows with and without the C-level adapter) and OUTDIR/machine.txt. Needs about 1.5 GB of disk and, on a
 # 2-core machine, about 30 minutes. Run it on an otherwise idle machine.
 set -eu
 OUT=${1:-bench-results}
@@ -33,6 +34,9 @@ mkdir -p "$OUT"
 	--keep --dir "$OUT/data" --json "$OUT/1000x10000.json" > "$OUT/bench.txt"
 "$HERE/compare.sh" "$OUT/data" 3 "${PANDAS_REPS:-1}" > "$OUT/compare.md"
 "$TRENDSQL" bench --stations 1 --readings 100000 --reps 3 --item-timeout 5m > "$OUT/n100k.txt"
+# The C-level adapter against the driver's public API, same size, same flags.
+"$TRENDSQL" bench --stations 100 --readings 10000 --reps 3 > "$OUT/adapter-on.txt"
+TRENDSQL_FASTPATH=off "$TRENDSQL" bench --stations 100 --readings 10000 --reps 3 > "$OUT/adapter-off.txt"
 "$HERE/scaling.sh" "$OUT" "${SCALING_REPS:-1}" > "$OUT/scaling.md"
 echo "loadavg after: $(cat /proc/loadavg)" >> "$OUT/machine.txt"
 echo "results in $OUT" >&2
