@@ -11,8 +11,9 @@
 # PANDAS_REPS times, default 1, as it takes minutes), OUTDIR/scaling.md
 # (scaling.sh; SCALING_REPS repetitions, default 1), OUTDIR/n100k.txt (one
 # series of 100,000 readings), OUTDIR/adapter-on.txt and adapter-off.txt
-# (1M rows with and without the C-level adapter) and OUTDIR/machine.txt. Needs about 1.5 GB of disk and, on a
-# 2-core machine, about 30 minutes. Run it on an otherwise idle machine.
+# (1M rows with and without the C-level adapter) and OUTDIR/machine.txt.
+# Needs about 1.5 GB of disk and, on a 2-core machine, about 30 minutes. Run
+# it on an otherwise idle machine.
 set -eu
 OUT=${1:-bench-results}
 TRENDSQL=${TRENDSQL:-./trendsql}
