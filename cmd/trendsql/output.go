@@ -86,11 +86,15 @@ func writeRows(w io.Writer, rows *sql.Rows, format string) (int, error) {
 		}
 		fmt.Fprintln(w, "]")
 	default:
+		// Widths come from the first tableBuffer rows; later rows stream
+		// with those widths (longer cells are cut with "…"), so a huge
+		// result does not have to fit in memory.
 		var table [][]string
 		var numeric = make([]bool, len(cols))
 		for i := range numeric {
 			numeric[i] = true
 		}
+		var width []int
 		for rows.Next() {
 			if err := rows.Scan(ptrs...); err != nil {
 				return n, err
@@ -101,17 +105,29 @@ func writeRows(w io.Writer, rows *sql.Rows, format string) (int, error) {
 				switch v.(type) {
 				case int64, float64, nil:
 				default:
-					numeric[i] = false
+					if width == nil {
+						numeric[i] = false
+					}
 				}
 			}
-			table = append(table, rec)
 			n++
+			if width != nil {
+				drawRow(w, rec, width, numeric, false)
+				continue
+			}
+			table = append(table, rec)
+			if len(table) == tableBuffer {
+				width = drawTable(w, cols, table, numeric)
+				table = nil
+			}
 		}
 		if err := rows.Err(); err != nil {
 			return n, err
 		}
 		if len(cols) > 0 {
-			drawTable(w, cols, table, numeric)
+			if width == nil {
+				drawTable(w, cols, table, numeric)
+			}
 			fmt.Fprintf(w, "(%d row%s)\n", n, plural(n))
 		}
 	}
@@ -125,7 +141,12 @@ func plural(n int) string {
 	return "s"
 }
 
-func drawTable(w io.Writer, cols []string, table [][]string, numeric []bool) {
+// tableBuffer is how many rows the table format reads before fixing the
+// column widths.
+const tableBuffer = 5000
+
+// drawTable prints the header, rule and rows, and returns the column widths.
+func drawTable(w io.Writer, cols []string, table [][]string, numeric []bool) []int {
 	width := make([]int, len(cols))
 	for i, c := range cols {
 		width[i] = utf8.RuneCountInString(c)
@@ -137,32 +158,42 @@ func drawTable(w io.Writer, cols []string, table [][]string, numeric []bool) {
 			}
 		}
 	}
-	line := func(r []string, header bool) {
-		var b strings.Builder
-		for i, c := range r {
-			if i > 0 {
-				b.WriteString("  ")
-			}
-			pad := strings.Repeat(" ", width[i]-utf8.RuneCountInString(c))
-			if numeric[i] && !header {
-				b.WriteString(pad + c)
-			} else if i == len(r)-1 {
-				b.WriteString(c)
-			} else {
-				b.WriteString(c + pad)
-			}
-		}
-		fmt.Fprintln(w, strings.TrimRight(b.String(), " "))
-	}
-	line(cols, true)
+	drawRow(w, cols, width, numeric, true)
 	rule := make([]string, len(cols))
 	for i := range cols {
 		rule[i] = strings.Repeat("─", width[i])
 	}
-	line(rule, true)
+	drawRow(w, rule, width, numeric, true)
 	for _, r := range table {
-		line(r, false)
+		drawRow(w, r, width, numeric, false)
 	}
+	return width
+}
+
+// drawRow prints one row padded to width; numbers are right-aligned.
+func drawRow(w io.Writer, r []string, width []int, numeric []bool, header bool) {
+	var b strings.Builder
+	for i, c := range r {
+		if i > 0 {
+			b.WriteString("  ")
+		}
+		l := utf8.RuneCountInString(c)
+		if l > width[i] {
+			rs := []rune(c)
+			c = string(rs[:width[i]-1]) + "…"
+			l = width[i]
+		}
+		pad := strings.Repeat(" ", width[i]-l)
+		switch {
+		case numeric[i] && !header:
+			b.WriteString(pad + c)
+		case i == len(r)-1:
+			b.WriteString(c)
+		default:
+			b.WriteString(c + pad)
+		}
+	}
+	fmt.Fprintln(w, strings.TrimRight(b.String(), " "))
 }
 
 // cell renders a value for the table format.
