@@ -15,6 +15,7 @@ import (
 	"strings"
 	"testing"
 
+	"trendsql/sqlfuncs"
 	"trendsql/store"
 )
 
@@ -65,6 +66,16 @@ func TestReadmeExamples(t *testing.T) {
 	examples := readmeExamples(lines)
 	if len(examples) < 10 {
 		t.Fatalf("found only %d checked examples in README.md", len(examples))
+	}
+	// Every registered SQL function appears in at least one checked example.
+	var allSQL strings.Builder
+	for _, ex := range examples {
+		allSQL.WriteString(ex.sql + "\n")
+	}
+	for _, d := range sqlfuncs.List() {
+		if !strings.Contains(allSQL.String(), d.Name+"(") {
+			t.Errorf("README.md has no checked example calling %s", d.Name)
+		}
 	}
 	db := filepath.Join(t.TempDir(), "demo.db")
 	var out, errw bytes.Buffer
