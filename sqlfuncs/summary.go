@@ -8,7 +8,16 @@ package sqlfuncs
 //	trend_model, slope_*, hac_*, n_eff*, r2 = trend_fit(t, y, 'period=P,harmonics=K')
 //	                                          (or 'degree=1' without --period)
 //	mk_* (no period)      = mann_kendall(t, y, 'correct=hamed-rao'): the
-//	                        corrected var_s, z and p are stored
+//	                        corrected var_s, z and p are stored when the
+//	                        correction_factor is ≥ 1, else the uncorrected
+//	                        var_s, z and p (the factor is stored either way).
+//	                        A factor below 1 comes from negative rank
+//	                        autocorrelations, often chance ones at long lags
+//	                        (on a demo series three such lags turn p = 0.245
+//	                        into 1e-17); the summary uses the correction only
+//	                        to guard against positive serial dependence and
+//	                        never lets it make the test more liberal than the
+//	                        test for independent values.
 //	mk_* (with period)    = seasonal_kendall(tb, yb, P, seasons) over the
 //	                        season blocks (see SeasonBlocks): mk_s is s;
 //	                        mk_var_s, mk_z, mk_p are var_s_dependent,
@@ -181,8 +190,13 @@ func SummarizeSeries(t, y []float64, o stats.SummaryOptions) (s stats.SeriesSumm
 			if err != nil {
 				note("Hamed–Rao correction: %v", err)
 			} else {
-				s.MKVarS, s.MKZ, s.MKP = fp(hr.VarS), fp(hr.Z), fp(hr.P)
 				s.MKCorrectionFactor = fp(hr.Factor)
+				if hr.Factor >= 1 {
+					s.MKVarS, s.MKZ, s.MKP = fp(hr.VarS), fp(hr.Z), fp(hr.P)
+				} else {
+					// Never more liberal than the uncorrected test.
+					s.MKVarS, s.MKZ, s.MKP = fp(mk.VarS), fp(mk.Z), fp(mk.P)
+				}
 			}
 		}
 		sen, err := stats.SenSlope(t, y, o.Confidence)

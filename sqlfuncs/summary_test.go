@@ -154,3 +154,37 @@ func TestSeasonBlocksMatchSQLGrouping(t *testing.T) {
 		}
 	}
 }
+
+// A series with strong negative serial dependence gets a Hamed–Rao factor
+// below 1; the summary then keeps the uncorrected Mann–Kendall variance and
+// p (the correction guards only against positive dependence).
+func TestSummaryHamedRaoNeverMoreLiberal(t *testing.T) {
+	n := 60
+	tt := make([]float64, n)
+	y := make([]float64, n)
+	for i := range tt {
+		tt[i] = 1.7e9 + float64(i)*86400
+		y[i] = 0.002 * float64(i)
+		if i%2 == 1 {
+			y[i] += 1
+		}
+	}
+	mk, err := stats.MannKendall(y)
+	if err != nil {
+		t.Fatal(err)
+	}
+	hr, err := stats.HamedRao(tt, y, mk, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !(hr.Factor < 1) {
+		t.Fatalf("test series should give a factor below 1, got %v", hr.Factor)
+	}
+	s := sqlfuncs.SummarizeSeries(tt, y, stats.SummaryOptions{MaxLag: 5, Alpha: 0.05, Confidence: 0.95, MinN: 10})
+	if s.MKP == nil || *s.MKP != mk.P || *s.MKVarS != mk.VarS {
+		t.Errorf("stored mk_p %v, mk_var_s %v; want the uncorrected %v, %v", s.MKP, s.MKVarS, mk.P, mk.VarS)
+	}
+	if s.MKCorrectionFactor == nil || *s.MKCorrectionFactor != hr.Factor {
+		t.Errorf("stored factor %v, want %v", s.MKCorrectionFactor, hr.Factor)
+	}
+}
