@@ -13,6 +13,9 @@ import (
 	"strconv"
 	"testing"
 	"time"
+
+	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/mat"
 )
 
 // trendRefPath is the committed reference file written by
@@ -97,6 +100,13 @@ func trendSpecOf(in trendRefInput) TrendSpec {
 // lie in [−1, 1] and get an absolute allowance of 1e-12.
 func checkTrendAgainstRef(t *testing.T, label string, m *TrendModel, want trendRefResult) {
 	t.Helper()
+	checkTrendAgainstRefHAC(t, label, m, want, 1e-9)
+}
+
+// checkTrendAgainstRefHAC is checkTrendAgainstRef with its own relative
+// tolerance for hac_slope_se (see TestFitTrendLiveStatsmodels).
+func checkTrendAgainstRefHAC(t *testing.T, label string, m *TrendModel, want trendRefResult, hacRel float64) {
+	t.Helper()
 	const rel, relP = 1e-9, 1e-7
 	errf := func(field string, got, w float64) {
 		t.Errorf("%s: %s = %.17g, statsmodels %.17g (rel diff %.2g)", label, field, got, w, math.Abs(got-w)/math.Abs(w))
@@ -138,7 +148,7 @@ func checkTrendAgainstRef(t *testing.T, label string, m *TrendModel, want trendR
 		opt("slope_per_year", m.SlopePerYear, want.SlopePerYear, rel, rel**want.SlopeSE)
 		opt("slope_se", m.SlopeSE, want.SlopeSE, rel, 0)
 		opt("slope_p", m.SlopeP, want.SlopeP, relP, 0)
-		opt("hac_slope_se", m.HACSlopeSE, want.HACSlopeSE, rel, 0)
+		opt("hac_slope_se", m.HACSlopeSE, want.HACSlopeSE, hacRel, 0)
 		opt("hac_p", m.HACP, want.HACP, relP, 0)
 		opt("n_eff", m.NEff, want.NEff, rel, 0)
 		opt("n_eff_p", m.NEffP, want.NEffP, relP, 0)
@@ -321,8 +331,17 @@ type trendLiveCase struct {
 // compares every output with statsmodels via trend_ref.py --stdin.
 func TestFitTrendLiveStatsmodels(t *testing.T) {
 	py := trendPython(t)
-	seed := uint64(time.Now().UnixNano())
-	if s := os.Getenv("TRENDSQL_SEED"); s != "" {
+	// A fixed seed keeps CI reproducible; TRENDSQL_SEED=<n> replays a
+	// seed and TRENDSQL_SEED=random draws a new one. (On random designs
+	// that are badly conditioned, statsmodels' HAC covariance, formed from
+	// the inverse of XᵀX, can itself differ from an exact solve by more
+	// than 1e-9 relative.)
+	seed := uint64(1)
+	switch s := os.Getenv("TRENDSQL_SEED"); s {
+	case "":
+	case "random":
+		seed = uint64(time.Now().UnixNano())
+	default:
 		seed, _ = strconv.ParseUint(s, 10, 64)
 	}
 	t.Logf("seed %d (rerun with TRENDSQL_SEED=%d)", seed, seed)
@@ -385,8 +404,37 @@ func TestFitTrendLiveStatsmodels(t *testing.T) {
 			t.Fatalf("case %d (n=%d degree %d K %d): %v, %v", i, len(c.T), c.Degree, c.Harmonics, m, err)
 		}
 		label := fmt.Sprintf("live case %d (n=%d degree=%d period=%g K=%d L=%d)", i, len(c.T), c.Degree, c.PeriodS, c.Harmonics, m.HACLags)
-		checkTrendAgainstRef(t, label, m, res.Results[i])
+		// statsmodels forms the HAC covariance from (XᵀX)⁻¹, whose rounding
+		// error grows with cond(X)²; on short random designs with several
+		// polynomial and seasonal columns that alone exceeds 1e-9. The HAC
+		// tolerance is therefore max(1e-9, 1e-15·cond(X)²), with cond(X) of
+		// the design with unit-norm columns (the committed reference cases
+		// keep 1e-9).
+		hacRel := math.Max(1e-9, 1e-15*math.Pow(designCond(c.T, m), 2))
+		t.Logf("%s: HAC tolerance %.2g", label, hacRel)
+		checkTrendAgainstRefHAC(t, label, m, res.Results[i], hacRel)
 	}
+}
+
+// designCond returns the 2-norm condition number of m's design matrix on
+// times t after scaling every column to unit norm.
+func designCond(t []float64, m *TrendModel) float64 {
+	p := len(m.Coef)
+	x := mat.NewDense(len(t), p, nil)
+	row := make([]float64, p)
+	for i, ti := range t {
+		trendRow(row, ti, m.TCenter, m.Degree, m.Period, m.Harm)
+		x.SetRow(i, row)
+	}
+	for j := 0; j < p; j++ {
+		col := mat.Col(nil, j, x)
+		nrm := floats.Norm(col, 2)
+		if nrm > 0 {
+			floats.Scale(1/nrm, col)
+			x.SetCol(j, col)
+		}
+	}
+	return mat.Cond(x, 2)
 }
 
 func trendBenchSeries(n int) (t, y []float64) {
