@@ -52,6 +52,9 @@ type DemoSummary struct {
 	// StationsByType counts stations per metadata station_type.
 	StationsByType map[string]int
 	BatchID        int64
+	// ReplacedDemo is set when an earlier, untouched demo store at the same
+	// path was rebuilt (see CreateDemo).
+	ReplacedDemo bool
 }
 
 // ErrStoreNotEmpty is returned by CreateDemo when the target already holds data.
@@ -610,8 +613,15 @@ func CreateDemo(ctx context.Context, path string, opt DemoOptions, force bool) (
 	if err != nil {
 		return DemoSummary{}, err
 	}
+	replacedDemo := false
 	if !empty && !force {
-		return DemoSummary{}, fmt.Errorf("demo: %s: %w; refusing to overwrite it (use --force to replace it, or choose another --db)", path, ErrStoreNotEmpty)
+		// An untouched demo store (only generated batches, no summary runs)
+		// holds nothing a user made: rebuilding it is safe, so running the
+		// README's first command twice works.
+		if demoOnly, _ := storeIsUntouchedDemo(ctx, path); !demoOnly {
+			return DemoSummary{}, fmt.Errorf("demo: %s: %w; refusing to overwrite it (use --force to replace it, or choose another --db)", path, ErrStoreNotEmpty)
+		}
+		replacedDemo = true
 	}
 	dir, base := filepath.Split(path)
 	if dir == "" {
@@ -658,7 +668,28 @@ func CreateDemo(ctx context.Context, path string, opt DemoOptions, force bool) (
 		return sum, fmt.Errorf("demo: move the built store into place: %w", err)
 	}
 	ok = true
+	sum.ReplacedDemo = replacedDemo
 	return sum, nil
+}
+
+// storeIsUntouchedDemo reports whether the store at path holds only what an
+// earlier demo build wrote: every import batch has the demo's source and
+// no summary run exists. Any error counts as "no".
+func storeIsUntouchedDemo(ctx context.Context, path string) (bool, error) {
+	db, err := sql.Open("sqlite", DSN(path, true))
+	if err != nil {
+		return false, err
+	}
+	defer db.Close()
+	var batches, demoBatches, runs int
+	err = db.QueryRowContext(ctx, `SELECT count(*), count(*) FILTER (WHERE source = ?) FROM import_batches`, DemoSource).Scan(&batches, &demoBatches)
+	if err != nil {
+		return false, err
+	}
+	if err := db.QueryRowContext(ctx, `SELECT count(*) FROM summary_runs`).Scan(&runs); err != nil {
+		return false, err
+	}
+	return batches > 0 && batches == demoBatches && runs == 0, nil
 }
 
 // storeIsEmpty reports whether path is absent, an empty file, an SQLite file

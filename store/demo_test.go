@@ -303,3 +303,42 @@ func TestCreateDemoNeverDestroysData(t *testing.T) {
 		}
 	}
 }
+
+// An untouched demo store is rebuilt without force; once it holds anything
+// else (an import of the user's, a summary run) it is refused.
+func TestCreateDemoRebuildsOnlyUntouchedDemo(t *testing.T) {
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), "demo.db")
+	opt := DemoOptions{Stations: 2, MaxYears: 0.1}
+	if _, err := CreateDemo(ctx, path, opt, false); err != nil {
+		t.Fatal(err)
+	}
+	sum, err := CreateDemo(ctx, path, opt, false)
+	if err != nil || !sum.ReplacedDemo {
+		t.Fatalf("second build over an untouched demo: %+v, %v; want it rebuilt", sum, err)
+	}
+	s, err := Open(ctx, path, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := s.DB.Exec(`INSERT INTO import_batches(kind, source, started_at) VALUES ('readings', '/home/me/gauges.csv', '2026-01-01T00:00:00Z')`); err != nil {
+		t.Fatal(err)
+	}
+	s.Close()
+	if _, err := CreateDemo(ctx, path, opt, false); !errors.Is(err, ErrStoreNotEmpty) {
+		t.Fatalf("build over a demo store with a user's import: err = %v, want ErrStoreNotEmpty", err)
+	}
+	s, err = Open(ctx, path, Options{ReadOnly: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	var n int
+	s.DB.QueryRow(`SELECT count(*) FROM import_batches WHERE source = '/home/me/gauges.csv'`).Scan(&n)
+	if n != 1 {
+		t.Fatal("the refused build changed the store")
+	}
+	if err := s.IntegrityCheck(ctx); err != nil {
+		t.Fatal(err)
+	}
+}

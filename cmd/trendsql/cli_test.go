@@ -172,13 +172,31 @@ func TestDemoBuildsStoreAndPrintsTour(t *testing.T) {
 }
 
 func TestDemoRefusesToOverwrite(t *testing.T) {
-	db := demoStore(t)
-	before, _, _ := runBin(t, "", "query", "--db", db, "--format", "csv", "SELECT count(*), sum(value) FROM readings")
-	_, errOut, code := runBin(t, "", "demo", "--db", db)
-	if code != ExitFailed || !strings.Contains(errOut, "--force") {
-		t.Errorf("demo over the demo store: exit %d, stderr %q; want exit 1 mentioning --force", code, errOut)
+	// An untouched demo store is rebuilt (same seed, same content), so the
+	// README's first command can be run twice.
+	db := filepath.Join(t.TempDir(), "again.db")
+	if _, e, c := runBin(t, "", "demo", "--db", db, "--no-tour"); c != 0 {
+		t.Fatalf("demo: exit %d: %s", c, e)
 	}
-	after, _, _ := runBin(t, "", "query", "--db", db, "--format", "csv", "SELECT count(*), sum(value) FROM readings")
+	first, _, _ := runBin(t, "", "query", "--db", db, "--format", "csv", "SELECT count(*), sum(value) FROM readings")
+	_, errOut, code := runBin(t, "", "demo", "--db", db, "--no-tour")
+	if code != 0 || !strings.Contains(errOut, "replaced the earlier demo store") {
+		t.Errorf("demo over an untouched demo store: exit %d, stderr %q; want it rebuilt", code, errOut)
+	}
+	second, _, _ := runBin(t, "", "query", "--db", db, "--format", "csv", "SELECT count(*), sum(value) FROM readings")
+	if first != second || first == "" {
+		t.Errorf("rebuilt demo differs: %q -> %q", first, second)
+	}
+	// Once it holds a summary run, it is the user's work: refused, unchanged.
+	if _, e, c := runBin(t, "", "summarize", "--db", db, "--station", "VOR-W01"); c != 0 {
+		t.Fatalf("summarize: exit %d: %s", c, e)
+	}
+	before, _, _ := runBin(t, "", "query", "--db", db, "--format", "csv", "SELECT count(*), sum(value), (SELECT count(*) FROM summary_runs) FROM readings")
+	_, errOut, code = runBin(t, "", "demo", "--db", db)
+	if code != ExitFailed || !strings.Contains(errOut, "--force") {
+		t.Errorf("demo over a summarized demo store: exit %d, stderr %q; want exit 1 mentioning --force", code, errOut)
+	}
+	after, _, _ := runBin(t, "", "query", "--db", db, "--format", "csv", "SELECT count(*), sum(value), (SELECT count(*) FROM summary_runs) FROM readings")
 	if before != after || before == "" {
 		t.Errorf("a refused demo changed the store: %q -> %q", before, after)
 	}

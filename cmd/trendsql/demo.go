@@ -31,8 +31,9 @@ qualifier flags and site metadata. Then print a short tour of example queries
 with their results.
 
 The same seed always gives the same store. An existing store that holds data
-is replaced only with --force; a file that is not a trendsql store is never
-replaced.`,
+is replaced only with --force, except an untouched demo store (only demo
+batches, no summary runs), which is rebuilt; a file that is not a trendsql
+store is never replaced.`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			path := e.dbPath()
@@ -44,6 +45,9 @@ replaced.`,
 			}
 			fmt.Fprintf(e.errw, "demo store %s: %d stations (%s), %d series, %d readings, built in %.1fs\n",
 				path, sum.Stations, byType(sum.StationsByType), sum.Series, sum.Readings, time.Since(began).Seconds())
+			if sum.ReplacedDemo {
+				fmt.Fprintf(e.errw, "(replaced the earlier demo store at %s: it held only generated demo data)\n", path)
+			}
 			if noTour {
 				return nil
 			}
