@@ -356,6 +356,23 @@ func fastSeriesResult(tls *libc.TLS, ctx uintptr, final bool) {
 		}
 		sqlite3.Xsqlite3_result_text(tls, ctx, p, int32(len(x)), sqlite3.SQLITE_TRANSIENT)
 		libc.Xfree(tls, p)
+	case []byte:
+		if len(x) == 0 || len(x) > math.MaxInt32 {
+			if len(x) == 0 {
+				sqlite3.Xsqlite3_result_zeroblob(tls, ctx, 0)
+			} else {
+				sqlite3.Xsqlite3_result_error_toobig(tls, ctx)
+			}
+			return
+		}
+		p := libc.Xmalloc(tls, libc.Tsize_t(len(x)))
+		if p == 0 {
+			sqlite3.Xsqlite3_result_error_nomem(tls, ctx)
+			return
+		}
+		copy(unsafe.Slice(at[byte](p), len(x)), x)
+		sqlite3.Xsqlite3_result_blob(tls, ctx, p, int32(len(x)), sqlite3.SQLITE_TRANSIENT)
+		libc.Xfree(tls, p)
 	default:
 		fastError(tls, ctx, fmt.Errorf("%s: internal error: result of type %T", a.name(), v))
 	}

@@ -26,6 +26,9 @@ const (
 	Scalar    Kind = "scalar"
 	Aggregate Kind = "aggregate/window"
 	Table     Kind = "table-valued"
+	// Internal functions serve the tool's own statements (e.g. summarize)
+	// and are not listed for users.
+	Internal Kind = "internal"
 )
 
 // Doc describes one SQL function for users.
@@ -88,12 +91,16 @@ func Register() error {
 	return registerErr
 }
 
-// List returns the documentation of every function, sorted by name.
+// List returns the documentation of every user-facing function, sorted by
+// name (Internal ones are left out).
 func List() []Doc {
 	mu.Lock()
 	defer mu.Unlock()
 	out := make([]Doc, 0, len(definitions)+len(tables))
 	for _, d := range definitions {
+		if d.doc.Kind == Internal {
+			continue
+		}
 		out = append(out, d.doc)
 	}
 	for _, t := range tables {

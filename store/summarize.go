@@ -29,6 +29,7 @@ import (
 	"syscall"
 	"time"
 
+	"trendsql/sqlfuncs"
 	"trendsql/sqlfuncs/stats"
 	"trendsql/sqlfuncs/timefmt"
 )
@@ -429,6 +430,10 @@ type seriesBuffer struct {
 	quals      map[string]int
 }
 
+// loadSeries reads one series (sorted by t) and its qualifier counts. The
+// values come through the internal series aggregate
+// sqlfuncs.PackSeriesFunction, which reaches Go without a boxed value per
+// row; the qualifier counts are a second, engine-side GROUP BY.
 func (s *Store) loadSeries(ctx context.Context, id int64, since, until *int64, b *seriesBuffer) error {
 	lo, hi := int64(math.MinInt64), int64(math.MaxInt64)
 	if since != nil {
@@ -437,30 +442,33 @@ func (s *Store) loadSeries(ctx context.Context, id int64, since, until *int64, b
 	if until != nil {
 		hi = *until
 	}
-	rows, err := s.DB.QueryContext(ctx, `SELECT t, value, qualifier FROM readings WHERE series_id = ? AND t BETWEEN ? AND ? ORDER BY t`, id, lo, hi)
+	var packed []byte
+	err := s.DB.QueryRowContext(ctx, `SELECT `+sqlfuncs.PackSeriesFunction+`(t, value) FROM readings WHERE series_id = ? AND t BETWEEN ? AND ?`, id, lo, hi).Scan(&packed)
 	if err != nil {
 		return fmt.Errorf("summarize: read series %d: %w", id, err)
 	}
-	defer rows.Close()
-	b.t, b.y = b.t[:0], b.y[:0]
+	if b.t, b.y, err = sqlfuncs.UnpackSeries(packed, b.t, b.y); err != nil {
+		return fmt.Errorf("summarize: read series %d: %w", id, err)
+	}
 	b.nQualified = 0
 	b.quals = nil
+	rows, err := s.DB.QueryContext(ctx, `SELECT qualifier, count(*) FROM readings
+		WHERE series_id = ? AND t BETWEEN ? AND ? AND qualifier IS NOT NULL AND qualifier <> '' GROUP BY qualifier`, id, lo, hi)
+	if err != nil {
+		return fmt.Errorf("summarize: read qualifiers of series %d: %w", id, err)
+	}
+	defer rows.Close()
 	for rows.Next() {
-		var t int64
-		var v float64
-		var q sql.NullString
-		if err := rows.Scan(&t, &v, &q); err != nil {
-			return fmt.Errorf("summarize: read series %d: %w", id, err)
+		var q string
+		var n int
+		if err := rows.Scan(&q, &n); err != nil {
+			return fmt.Errorf("summarize: read qualifiers of series %d: %w", id, err)
 		}
-		b.t = append(b.t, float64(t))
-		b.y = append(b.y, v)
-		if q.Valid && q.String != "" {
-			b.nQualified++
-			if b.quals == nil {
-				b.quals = map[string]int{}
-			}
-			b.quals[q.String]++
+		if b.quals == nil {
+			b.quals = map[string]int{}
 		}
+		b.quals[q] = n
+		b.nQualified += n
 	}
 	return rows.Err()
 }
