@@ -22,6 +22,7 @@ package stats
 // correlation). HamedRao corrects the variance for serial correlation.
 
 import (
+	"cmp"
 	"errors"
 	"math"
 	"sort"
@@ -104,8 +105,9 @@ func MKZ(s int64, varS float64) float64 {
 }
 
 // countInversions sorts a ascending (stable merge sort using tmp, len(tmp) ≥
-// len(a)) and returns the number of pairs i < j with a[i] > a[j] strictly.
-func countInversions(a, tmp []float64) int64 {
+// len(a)) and returns the number of pairs i < j with a[i] > a[j] strictly
+// (Knight 1966: ties are neither counted nor reordered).
+func countInversions[T cmp.Ordered](a, tmp []T) int64 {
 	n := len(a)
 	if n < 2 {
 		return 0

@@ -275,50 +275,9 @@ func (d *senData) sortKeys(items []keyItem) {
 // countInversions32 returns the number of pairs i < j with a[i] > a[j]
 // without modifying a (tmp is scratch of the same length).
 func countInversions32(a, tmp []int32) int64 {
-	n := len(a)
-	if n < 2 {
-		return 0
-	}
-	w := make([]int32, n)
+	w := make([]int32, len(a))
 	copy(w, a)
-	var inv int64
-	src, dst := w, tmp[:n]
-	const run = 16
-	for lo := 0; lo < n; lo += run {
-		hi := min(lo+run, n)
-		for i := lo + 1; i < hi; i++ {
-			x := src[i]
-			j := i
-			for j > lo && src[j-1] > x {
-				src[j] = src[j-1]
-				j--
-			}
-			inv += int64(i - j)
-			src[j] = x
-		}
-	}
-	for width := run; width < n; width *= 2 {
-		for lo := 0; lo < n; lo += 2 * width {
-			mid := min(lo+width, n)
-			hi := min(lo+2*width, n)
-			i, j, k := lo, mid, lo
-			for i < mid && j < hi {
-				if src[i] <= src[j] {
-					dst[k] = src[i]
-					i++
-				} else {
-					dst[k] = src[j]
-					inv += int64(mid - i)
-					j++
-				}
-				k++
-			}
-			k += copy(dst[k:], src[i:mid])
-			copy(dst[k:], src[j:hi])
-		}
-		src, dst = dst, src
-	}
-	return inv
+	return countInversions(w, tmp)
 }
 
 // permFor fills perm with the point order that realises cut c: pair a < b
