@@ -153,7 +153,7 @@ func crossCorrelogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 		return nil, err
 	}
 	st := stats.CrossPrepare(x, y)
-	var b mkObj
+	var b jsonObj
 	b.int("n", int64(st.N))
 	b.int("n_slots", int64(g.NSlots))
 	b.int("missing_slots", int64(g.Missing))
@@ -179,7 +179,7 @@ func crossCorrelogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 		}
 		c := stats.CrossAt(x, y, st, h)
 		lags.WriteString(`{"lag":` + strconv.Itoa(h) + `,"pairs":` + strconv.Itoa(c.Pairs) +
-			`,"ccvf":` + mkNum(c.Cov) + `,"ccf":` + mkNum(c.Corr) + `}`)
+			`,"ccvf":` + jsonNum(c.Cov) + `,"ccf":` + jsonNum(c.Corr) + `}`)
 	}
 	lags.WriteByte(']')
 	b.raw("lags", lags.String())

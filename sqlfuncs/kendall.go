@@ -79,38 +79,6 @@ import (
 	"trendsql/sqlfuncs/timefmt"
 )
 
-// mkObj writes a JSON object with keys in insertion order; NaN and
-// infinities are written as null.
-type mkObj struct{ b strings.Builder }
-
-func (o *mkObj) key(k string) {
-	if o.b.Len() == 0 {
-		o.b.WriteByte('{')
-	} else {
-		o.b.WriteByte(',')
-	}
-	o.b.WriteString(strconv.Quote(k))
-	o.b.WriteByte(':')
-}
-
-func mkNum(v float64) string {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return "null"
-	}
-	return strconv.FormatFloat(v, 'g', -1, 64)
-}
-
-func (o *mkObj) num(k string, v float64) { o.key(k); o.b.WriteString(mkNum(v)) }
-func (o *mkObj) int(k string, v int64)   { o.key(k); o.b.WriteString(strconv.FormatInt(v, 10)) }
-func (o *mkObj) str(k, v string)         { o.key(k); o.b.WriteString(strconv.Quote(v)) }
-func (o *mkObj) raw(k, v string)         { o.key(k); o.b.WriteString(v) }
-func (o *mkObj) String() string {
-	if o.b.Len() == 0 {
-		return "{}"
-	}
-	return o.b.String() + "}"
-}
-
 // mkTime renders a unix time as ISO 8601 UTC (fractional seconds kept).
 func mkTime(t float64) string {
 	if t == math.Trunc(t) {
@@ -174,7 +142,7 @@ func mannKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if err != nil {
 		return nil, fmt.Errorf("%s: %v", fn, err)
 	}
-	var b mkObj
+	var b jsonObj
 	b.int("n", int64(mk.N))
 	b.int("s", mk.S)
 	b.num("var_s", mk.VarS)

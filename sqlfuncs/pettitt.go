@@ -71,7 +71,7 @@ func pettittValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if err != nil {
 		return nil, fmt.Errorf("%s: %v", fn, err)
 	}
-	var b mkObj
+	var b jsonObj
 	b.int("n", int64(res.N))
 	b.int("k", int64(res.K))
 	b.str("t_change", mkTime(r.T[res.K-1]))

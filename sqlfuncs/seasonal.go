@@ -161,7 +161,7 @@ func seasonalKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	}
 	dep, depErr := stats.SeasonalDependent(r.Y, season, cycle, int(seasons), res.S)
 	const spy = timefmt.SecondsPerYear
-	var b mkObj
+	var b jsonObj
 	b.int("n", int64(res.N))
 	if calendar {
 		b.raw("period_s", "null")
@@ -201,7 +201,7 @@ func seasonalKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 			ps.WriteByte(',')
 		}
 		ps.WriteString(`{"season":` + strconv.Itoa(s.Season) + `,"n":` + strconv.Itoa(s.N) +
-			`,"s":` + strconv.FormatInt(s.S, 10) + `,"var_s":` + mkNum(s.VarS) + `}`)
+			`,"s":` + strconv.FormatInt(s.S, 10) + `,"var_s":` + jsonNum(s.VarS) + `}`)
 	}
 	ps.WriteByte(']')
 	b.raw("per_season", ps.String())

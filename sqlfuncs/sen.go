@@ -112,7 +112,7 @@ func senSlopeValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	}
 	const spy = timefmt.SecondsPerYear
 	slope := res.Slope * spy
-	var b mkObj
+	var b jsonObj
 	b.int("n", int64(res.N))
 	b.int("n_pairs", res.Pairs)
 	b.num("slope_per_year", slope)

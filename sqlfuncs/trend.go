@@ -120,7 +120,6 @@ import (
 	"fmt"
 	"math"
 	"strconv"
-	"strings"
 	"sync"
 
 	"trendsql/sqlfuncs/stats"
@@ -168,71 +167,20 @@ func parseTrendSpec(fn, spec string) (stats.TrendSpec, error) {
 	return s, nil
 }
 
-// jsonObj writes a JSON object with keys in insertion order.
-type jsonObj struct {
-	b strings.Builder
-}
-
-func (o *jsonObj) key(k string) {
-	if o.b.Len() == 0 {
-		o.b.WriteByte('{')
-	} else {
-		o.b.WriteByte(',')
-	}
-	o.b.WriteString(strconv.Quote(k))
-	o.b.WriteByte(':')
-}
-
-func jsonNum(v float64) string {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return "null"
-	}
-	if v == math.Trunc(v) && math.Abs(v) < 1e15 {
-		return strconv.FormatInt(int64(v), 10)
-	}
-	return strconv.FormatFloat(v, 'g', -1, 64)
-}
-
-func (o *jsonObj) num(k string, v float64) { o.key(k); o.b.WriteString(jsonNum(v)) }
-func (o *jsonObj) int(k string, v int)     { o.key(k); o.b.WriteString(strconv.Itoa(v)) }
-func (o *jsonObj) nums(k string, v []float64) {
-	o.key(k)
-	o.b.WriteByte('[')
-	for i, x := range v {
-		if i > 0 {
-			o.b.WriteByte(',')
-		}
-		o.b.WriteString(jsonNum(x))
-	}
-	o.b.WriteByte(']')
-}
-func (o *jsonObj) strs(k string, v []string) {
-	o.key(k)
-	o.b.WriteByte('[')
-	for i, x := range v {
-		if i > 0 {
-			o.b.WriteByte(',')
-		}
-		o.b.WriteString(strconv.Quote(x))
-	}
-	o.b.WriteByte(']')
-}
-func (o *jsonObj) String() string { return o.b.String() + "}" }
-
 // trendJSON renders a model with the documented key order.
 func trendJSON(m *stats.TrendModel) string {
 	var o jsonObj
-	o.int("n", m.N)
+	o.int("n", int64(m.N))
 	o.num("t_first", m.TFirst)
 	o.num("t_last", m.TLast)
 	o.num("t_center", m.TCenter)
-	o.int("degree", m.Degree)
+	o.int("degree", int64(m.Degree))
 	if m.Harm > 0 {
 		o.num("period_s", m.Period)
 	} else {
 		o.num("period_s", math.NaN())
 	}
-	o.int("harmonics", m.Harm)
+	o.int("harmonics", int64(m.Harm))
 	o.strs("terms", m.Terms)
 	o.nums("coef", m.Coef)
 	o.nums("se", m.SE)
@@ -241,9 +189,9 @@ func trendJSON(m *stats.TrendModel) string {
 	o.num("slope_p", m.SlopeP)
 	o.num("r2", m.R2)
 	o.num("sigma", m.Sigma)
-	o.int("df_resid", m.DFResid)
+	o.int("df_resid", int64(m.DFResid))
 	o.num("resid_acf1", m.ResidACF1)
-	o.int("hac_lags", m.HACLags)
+	o.int("hac_lags", int64(m.HACLags))
 	o.num("hac_slope_se", m.HACSlopeSE)
 	o.num("hac_p", m.HACP)
 	o.num("n_eff", m.NEff)
