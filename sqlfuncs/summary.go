@@ -148,9 +148,15 @@ func SummarizeSeries(t, y []float64, o stats.SummaryOptions) (s stats.SeriesSumm
 		residualDiagnostics(&s, t, y, model, grid, gridErr, o, note)
 	}
 
+	// Season blocks, shared by the seasonal rank test and Pettitt.
+	var bt, by []float64
+	var season []int
+	if o.PeriodS > 0 {
+		bt, by, season = SeasonBlocks(t, y, o.PeriodS, o.Seasons)
+	}
+
 	// Rank-based trend test and Sen slope.
 	if o.PeriodS > 0 {
-		bt, by, season := SeasonBlocks(t, y, o.PeriodS, o.Seasons)
 		sk, err := stats.SeasonalKendall(bt, by, season, o.Seasons, o.Confidence)
 		if err != nil {
 			note("seasonal Kendall: %v", err)
@@ -212,9 +218,7 @@ func SummarizeSeries(t, y []float64, o stats.SummaryOptions) (s stats.SeriesSumm
 	// Single change point.
 	py, pettittTimes := y, t
 	if o.PeriodS > 0 {
-		var bt []float64
-		bt, py = seasonAnomalies(t, y, o.PeriodS, o.Seasons)
-		pettittTimes = bt
+		py, pettittTimes = seasonAnomalies(by, season, o.Seasons), bt
 	}
 	if pt, err := stats.Pettitt(py); err != nil {
 		note("Pettitt: %v", err)
@@ -322,14 +326,14 @@ func SeasonBlocks(t, y []float64, period float64, seasons int) (bt, by []float64
 	return st, sy, season
 }
 
-// seasonAnomalies returns the season blocks' mean times and their mean
-// values minus the mean of all blocks of the same season: the series the
+// seasonAnomalies returns the season blocks' mean values (by, with their
+// seasons, from SeasonBlocks) minus the mean of all blocks of the same
+// season: the series the
 // Pettitt test sees when a seasonal period is given. Like the seasonal
 // Kendall test on block means, this keeps the seasonal cycle and hourly
 // autocorrelation from posing as a change point. pettitt_t_change is then
 // the mean time of the last block before the change.
-func seasonAnomalies(t, y []float64, period float64, seasons int) (bt, anom []float64) {
-	bt, by, season := SeasonBlocks(t, y, period, seasons)
+func seasonAnomalies(by []float64, season []int, seasons int) (anom []float64) {
 	sum := make([]float64, seasons)
 	cnt := make([]int, seasons)
 	for i, g := range season {
@@ -340,7 +344,7 @@ func seasonAnomalies(t, y []float64, period float64, seasons int) (bt, anom []fl
 	for i, g := range season {
 		anom[i] = by[i] - sum[g]/float64(cnt[g])
 	}
-	return bt, anom
+	return anom
 }
 
 func fp(v float64) *float64 {
