@@ -349,12 +349,7 @@ func fastRegrStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 	if !ok {
 		return
 	}
-	// The steps of comoments.add in regr.go, without the argument boxing.
-	if c.n == 0 {
-		*c = comoments{x0: x, y0: y}
-	}
-	c.n++
-	c.update(y, x, 1)
+	c.addPair(y, x) // regr.go's update, without the argument boxing
 }
 
 func fastRegrInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
@@ -372,13 +367,7 @@ func fastRegrInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 	if !ok {
 		return
 	}
-	// The steps of comoments.remove in regr.go.
-	if c.n <= 1 {
-		*c = comoments{}
-		return
-	}
-	c.n--
-	c.update(y, x, -1)
+	c.removePair(y, x)
 }
 
 // fastRegrResult computes the value with the public function's result func

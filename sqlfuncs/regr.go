@@ -81,11 +81,7 @@ func (c *comoments) add(args []driver.Value) error {
 	if err != nil || !ok {
 		return err
 	}
-	if c.n == 0 {
-		*c = comoments{fn: c.fn, x0: x, y0: y}
-	}
-	c.n++
-	c.update(y, x, 1)
+	c.addPair(y, x)
 	return nil
 }
 
@@ -94,13 +90,28 @@ func (c *comoments) remove(args []driver.Value) error {
 	if err != nil || !ok {
 		return err
 	}
+	c.removePair(y, x)
+	return nil
+}
+
+// addPair adds one non-NULL (y, x) row; the first row fixes the shift.
+// Shared with the zero-allocation adapter (fastpath.go).
+func (c *comoments) addPair(y, x float64) {
+	if c.n == 0 {
+		*c = comoments{fn: c.fn, x0: x, y0: y}
+	}
+	c.n++
+	c.update(y, x, 1)
+}
+
+// removePair undoes addPair for the oldest row of a window frame.
+func (c *comoments) removePair(y, x float64) {
 	if c.n <= 1 {
 		*c = comoments{fn: c.fn}
-		return nil
+		return
 	}
 	c.n--
 	c.update(y, x, -1)
-	return nil
 }
 
 // finish derives the means and centred sums from the shifted sums.
