@@ -44,23 +44,9 @@ import (
 	"database/sql/driver"
 	"fmt"
 	"math"
-	"slices"
 
 	"trendsql/sqlfuncs/stats"
 )
-
-func medianOf(v []float64) float64 {
-	s := append([]float64(nil), v...)
-	slices.Sort(s)
-	n := len(s)
-	if n == 0 {
-		return math.NaN()
-	}
-	if n%2 == 1 {
-		return s[n/2]
-	}
-	return (s[n/2-1] + s[n/2]) / 2
-}
 
 func pettittValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	const fn = "pettitt"
@@ -79,8 +65,8 @@ func pettittValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	b.num("u", res.U)
 	b.num("abs_u", math.Abs(res.U))
 	b.num("p", res.P)
-	b.num("median_before", medianOf(r.Y[:res.K]))
-	b.num("median_after", medianOf(r.Y[res.K:]))
+	b.num("median_before", stats.Median(r.Y[:res.K]))
+	b.num("median_after", stats.Median(r.Y[res.K:]))
 	return b.String(), nil
 }
 

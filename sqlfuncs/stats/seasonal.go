@@ -142,7 +142,7 @@ func SeasonalKendall(t, y []float64, season []int, seasons int, confidence float
 	if conf == 0 {
 		sen.Lower, sen.Upper = math.NaN(), math.NaN()
 	}
-	sen.MedianT, sen.MedianY = median(t), median(y)
+	sen.MedianT, sen.MedianY = Median(t), Median(y)
 	res.Sen = sen
 	return res, nil
 }

@@ -707,8 +707,8 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64) (Sen
 		b := val(d.selectRank(N/2+1, &cache))
 		res.Slope = (a + b) / 2
 	}
-	res.MedianT = median(t)
-	res.MedianY = median(y)
+	res.MedianT = Median(t)
+	res.MedianY = Median(y)
 	if confidence > 0 && confidence < 1 {
 		res.Confidence = confidence
 		if varS == 0 && len(blocks) == 2 {
@@ -731,7 +731,9 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64) (Sen
 	return res, nil
 }
 
-func median(v []float64) float64 {
+// Median returns the median of v (mean of the two middle values for even
+// length; NaN when empty) without modifying v.
+func Median(v []float64) float64 {
 	s := append([]float64(nil), v...)
 	slices.Sort(s)
 	n := len(s)
