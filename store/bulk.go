@@ -82,15 +82,20 @@ func (w *ReadingWriter) Add(ctx context.Context, r Reading) error {
 	w.buf = append(w.buf, r.SeriesID, r.T, r.Value, q)
 	w.n++
 	if w.n == bulkRows {
-		res, err := w.full.ExecContext(ctx, w.buf...)
-		if err != nil {
-			return fmt.Errorf("insert readings: %w", err)
-		}
-		k, _ := res.RowsAffected()
-		w.stored += k
-		w.buf = w.buf[:0]
-		w.n = 0
+		return w.write(w.full.ExecContext(ctx, w.buf...))
 	}
+	return nil
+}
+
+// write accounts for one executed batch and empties the queue.
+func (w *ReadingWriter) write(res sql.Result, err error) error {
+	if err != nil {
+		return fmt.Errorf("insert readings: %w", err)
+	}
+	k, _ := res.RowsAffected()
+	w.stored += k
+	w.buf = w.buf[:0]
+	w.n = 0
 	return nil
 }
 
@@ -106,14 +111,7 @@ func (w *ReadingWriter) Flush(ctx context.Context) (int64, error) {
 // see them; the writer stays usable.
 func (w *ReadingWriter) Sync(ctx context.Context) error {
 	if w.n > 0 {
-		res, err := w.tx.ExecContext(ctx, insertSQL(w.conflict, w.n), w.buf...)
-		if err != nil {
-			return fmt.Errorf("insert readings: %w", err)
-		}
-		k, _ := res.RowsAffected()
-		w.stored += k
-		w.buf = w.buf[:0]
-		w.n = 0
+		return w.write(w.tx.ExecContext(ctx, insertSQL(w.conflict, w.n), w.buf...))
 	}
 	return nil
 }
