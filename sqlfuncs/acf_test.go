@@ -80,22 +80,7 @@ func (c acfRefCase) unix(tb testing.TB) []int64 {
 // that accepts NULL values and text times, and checks integrity at cleanup.
 func openACFStore(tb testing.TB) *store.Store {
 	tb.Helper()
-	ctx := context.Background()
-	path := filepath.Join(tb.TempDir(), "acf.db")
-	s, err := store.Open(ctx, path, store.Options{})
-	if err != nil {
-		tb.Fatalf("open store: %v", err)
-	}
-	tb.Cleanup(func() {
-		if err := s.IntegrityCheck(ctx); err != nil {
-			tb.Errorf("integrity: %v", err)
-		}
-		s.Close()
-	})
-	if _, err := s.DB.Exec(`CREATE TABLE lagobs (g INTEGER, t ANY, y ANY) STRICT`); err != nil {
-		tb.Fatalf("create lagobs: %v", err)
-	}
-	return s
+	return openScratchStore(tb, "acf.db", `CREATE TABLE lagobs (g INTEGER, t ANY, y ANY) STRICT`)
 }
 
 func insertLagObs(tb testing.TB, db *sql.DB, g int, t []any, y []any) {

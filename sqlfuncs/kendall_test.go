@@ -11,7 +11,6 @@ package sqlfuncs_test
 
 import (
 	"bytes"
-	"context"
 	"database/sql"
 	"encoding/json"
 	"math"
@@ -23,27 +22,11 @@ import (
 	"strings"
 	"testing"
 	"time"
-
-	"trendsql/store"
 )
 
 func openKendallStore(tb testing.TB) *sql.DB {
 	tb.Helper()
-	ctx := context.Background()
-	s, err := store.Open(ctx, filepath.Join(tb.TempDir(), "k.db"), store.Options{})
-	if err != nil {
-		tb.Fatalf("open store: %v", err)
-	}
-	tb.Cleanup(func() {
-		if err := s.IntegrityCheck(ctx); err != nil {
-			tb.Errorf("integrity: %v", err)
-		}
-		s.Close()
-	})
-	if _, err := s.DB.Exec(`CREATE TABLE kobs (g TEXT, t ANY, x ANY, y ANY) STRICT`); err != nil {
-		tb.Fatal(err)
-	}
-	return s.DB
+	return openScratchStore(tb, "k.db", `CREATE TABLE kobs (g TEXT, t ANY, x ANY, y ANY) STRICT`).DB
 }
 
 // insertK inserts one group in a shuffled order (functions must sort).

@@ -7,7 +7,6 @@ package sqlfuncs_test
 // 1e-7 for p-values.
 
 import (
-	"context"
 	"database/sql"
 	"encoding/json"
 	"fmt"
@@ -24,21 +23,7 @@ import (
 
 func openTrendStore(tb testing.TB) *store.Store {
 	tb.Helper()
-	ctx := context.Background()
-	s, err := store.Open(ctx, filepath.Join(tb.TempDir(), "t.db"), store.Options{})
-	if err != nil {
-		tb.Fatalf("open store: %v", err)
-	}
-	tb.Cleanup(func() {
-		if err := s.IntegrityCheck(ctx); err != nil {
-			tb.Errorf("integrity: %v", err)
-		}
-		s.Close()
-	})
-	if _, err := s.DB.Exec(`CREATE TABLE obs (g INTEGER, t ANY, y ANY) STRICT`); err != nil {
-		tb.Fatalf("create obs: %v", err)
-	}
-	return s
+	return openScratchStore(tb, "t.db", `CREATE TABLE obs (g INTEGER, t ANY, y ANY) STRICT`)
 }
 
 func insertObs(tb testing.TB, db *sql.DB, g int, t []any, y []any) {
