@@ -33,6 +33,10 @@ package sqlfuncs
 //	lb_*, series_correlograms
 //	                      = ljung_box / correlogram of the residuals
 //	                        y − trend_value(model, t) on the inferred time grid
+//	                        (both from one autocovariance pass up to
+//	                        max(max_lag, lb_lags); with max_lag ≥ 96 that
+//	                        pass uses the FFT, which agrees with the direct
+//	                        sums of a short ljung_box call to about 1e-9)
 //	pettitt_* (no period) = pettitt(t, y)
 //	pettitt_* (period)    = pettitt over the season-block anomalies
 //	                        (see seasonAnomalies)
@@ -265,24 +269,29 @@ func residualDiagnostics(s *stats.SeriesSummary, t, y []float64, model *stats.Tr
 		}
 	}
 	s.LBLags = &lb
-	if p, ok := stats.SeriesPortmanteau(x, lb, 0, false); ok {
-		df := p.DF
-		s.LBDF, s.LBQ, s.LBP = &df, fp(p.Q), fp(p.P)
-		if !math.IsNaN(p.P) {
-			b := p.P < o.Alpha
+	// One pass of sample autocovariances serves both the stored correlogram
+	// (lags 1..MaxLag) and the Ljung–Box test at lag lb: the cumulative Q of
+	// the correlogram at lag lb is Ljung–Box over lags 1..lb with df = lb.
+	c := stats.ComputeCorrelogram(x, max(o.MaxLag, lb), 0)
+	if lb <= len(c.Lags) && !math.IsNaN(c.Lags[lb-1].LBQ) {
+		l := c.Lags[lb-1]
+		df := lb
+		s.LBDF, s.LBQ, s.LBP = &df, fp(l.LBQ), fp(l.LBP)
+		if !math.IsNaN(l.LBP) {
+			b := l.LBP < o.Alpha
 			s.ResidualDependence = &b
 		}
 	} else {
 		note("Ljung–Box at lag %d is undefined for these residuals", lb)
 	}
-	if o.MaxLag > 0 {
-		c := stats.ComputeCorrelogram(x, o.MaxLag, 0)
-		for _, l := range c.Lags {
-			s.Correlogram = append(s.Correlogram, stats.CorrelogramRow{
-				Lag: l.Lag, ACVF: l.ACVF, ACF: l.ACF, PACF: l.PACF, Band: l.Band,
-				LBQ: l.LBQ, LBP: l.LBP, HasPACF: true, HasLjungBx: true,
-			})
+	for _, l := range c.Lags {
+		if l.Lag > o.MaxLag {
+			break
 		}
+		s.Correlogram = append(s.Correlogram, stats.CorrelogramRow{
+			Lag: l.Lag, ACVF: l.ACVF, ACF: l.ACF, PACF: l.PACF, Band: l.Band,
+			LBQ: l.LBQ, LBP: l.LBP, HasPACF: true, HasLjungBx: true,
+		})
 	}
 }
 
