@@ -77,23 +77,14 @@ rejected with the reason.`,
 			if err != nil {
 				return err
 			}
-			if err := checkImportFile(args[0]); err != nil {
-				return err
-			}
-			s, err := e.open(cmd.Context(), false)
-			if err != nil {
-				return err
-			}
-			defer s.Close()
-			bar := newImportBar(e.errw, args[0])
-			res, err := s.ImportStations(cmd.Context(), args[0], store.StationsOptions{
-				Delimiter: delim, DecimalComma: f.decimalComma, Progress: bar.update})
-			bar.done()
-			if err != nil {
-				return err
-			}
-			fmt.Fprintln(e.errw, importStationsSummary(res))
-			return nil
+			return runImport(cmd, e, args[0], func(s *store.Store, progress func(store.Progress)) (string, error) {
+				res, err := s.ImportStations(cmd.Context(), args[0], store.StationsOptions{
+					Delimiter: delim, DecimalComma: f.decimalComma, Progress: progress})
+				if err != nil {
+					return "", err
+				}
+				return importStationsSummary(res), nil
+			})
 		},
 	}
 	addImportCSVFlags(c, f)
@@ -131,26 +122,17 @@ changes nothing and is counted as duplicate only).`,
 			if err != nil {
 				return err
 			}
-			if err := checkImportFile(args[0]); err != nil {
-				return err
-			}
-			s, err := e.open(cmd.Context(), false)
-			if err != nil {
-				return err
-			}
-			defer s.Close()
-			bar := newImportBar(e.errw, args[0])
-			opt.Progress = bar.update
-			res, err := s.ImportReadings(cmd.Context(), args[0], opt)
-			bar.done()
-			if errors.Is(err, store.ErrDuplicate) {
-				return fmt.Errorf("%w (--on-duplicate keep-first keeps the earlier reading, replace overwrites it)", err)
-			}
-			if err != nil {
-				return err
-			}
-			fmt.Fprintln(e.errw, importReadingsSummary(res))
-			return nil
+			return runImport(cmd, e, args[0], func(s *store.Store, progress func(store.Progress)) (string, error) {
+				opt.Progress = progress
+				res, err := s.ImportReadings(cmd.Context(), args[0], opt)
+				if errors.Is(err, store.ErrDuplicate) {
+					return "", fmt.Errorf("%w (--on-duplicate keep-first keeps the earlier reading, replace overwrites it)", err)
+				}
+				if err != nil {
+					return "", err
+				}
+				return importReadingsSummary(res), nil
+			})
 		},
 	}
 	addImportCSVFlags(c, f)
@@ -307,4 +289,25 @@ func importReadingsSummary(r *store.ImportResult) string {
 func importStationsSummary(r *store.ImportResult) string {
 	return fmt.Sprintf("%s → batch %d: %s read, %d new, %d already stored (%d of them updated), %s",
 		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, r.RowsDuplicate, r.RowsReplaced, importRejectNote(r))
+}
+
+// runImport checks the file, opens the store writable, runs one import with
+// a progress bar on a terminal, and prints its one-line summary.
+func runImport(cmd *cobra.Command, e *env, path string, load func(*store.Store, func(store.Progress)) (string, error)) error {
+	if err := checkImportFile(path); err != nil {
+		return err
+	}
+	s, err := e.open(cmd.Context(), false)
+	if err != nil {
+		return err
+	}
+	defer s.Close()
+	bar := newImportBar(e.errw, path)
+	summary, err := load(s, bar.update)
+	bar.done()
+	if err != nil {
+		return err
+	}
+	fmt.Fprintln(e.errw, summary)
+	return nil
 }
