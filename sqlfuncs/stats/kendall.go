@@ -27,7 +27,6 @@ import (
 	"math"
 	"sort"
 
-	"gonum.org/v1/gonum/dsp/fourier"
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -249,53 +248,9 @@ func Ranks(x []float64) []float64 {
 	return r
 }
 
-// rankACF returns the sample autocorrelations r_0..r_maxLag of x (divisor n),
-// directly for short series or few lags, by FFT otherwise. r_k is NaN for
-// every k if x is constant.
+// rankACF returns the sample autocorrelations r_0..r_maxLag of x (divisor n)
+// through SampleACVF (direct lag sums, or the FFT for many lags). r_k is NaN
+// for every k if x is constant.
 func rankACF(x []float64, maxLag int) []float64 {
-	n := len(x)
-	var mean float64
-	for _, v := range x {
-		mean += v
-	}
-	mean /= float64(n)
-	d := make([]float64, n)
-	for i, v := range x {
-		d[i] = v - mean
-	}
-	out := make([]float64, maxLag+1)
-	if n <= 2048 || maxLag <= 64 {
-		for k := 0; k <= maxLag; k++ {
-			var s float64
-			for i := 0; i+k < n; i++ {
-				s += d[i] * d[i+k]
-			}
-			out[k] = s
-		}
-	} else {
-		m := 1
-		for m < 2*n {
-			m *= 2
-		}
-		fft := fourier.NewFFT(m)
-		pad := make([]float64, m)
-		copy(pad, d)
-		coef := fft.Coefficients(nil, pad)
-		for i, c := range coef {
-			coef[i] = complex(real(c)*real(c)+imag(c)*imag(c), 0)
-		}
-		seq := fft.Sequence(nil, coef)
-		for k := 0; k <= maxLag; k++ {
-			out[k] = seq[k] / float64(m)
-		}
-	}
-	c0 := out[0]
-	for k := range out {
-		if c0 > 0 {
-			out[k] /= c0
-		} else {
-			out[k] = math.NaN()
-		}
-	}
-	return out
+	return ACF(SampleACVF(x, maxLag).ACVF)
 }
