@@ -189,25 +189,9 @@ func DefaultHACLags(n int) int {
 // (the package convention, see doc.go): Σ_{i=1}^{n−1} (e_i−ē)(e_{i+1}−ē) /
 // Σ (e_i−ē)². It is NaN when n < 2 or the denominator is 0.
 func lag1ACF(e []float64) float64 {
-	n := len(e)
-	if n < 2 {
+	g0, g1, _ := ACVFAtLag(e, 1)
+	if !(g0 > 0) {
 		return math.NaN()
 	}
-	m := 0.0
-	for _, v := range e {
-		m += v
-	}
-	m /= float64(n)
-	num, den := 0.0, 0.0
-	for i, v := range e {
-		d := v - m
-		den += d * d
-		if i > 0 {
-			num += (e[i-1] - m) * d
-		}
-	}
-	if den == 0 {
-		return math.NaN()
-	}
-	return num / den
+	return g1 / g0
 }
