@@ -209,13 +209,6 @@ type correlogramJSON struct {
 	Lags         []correlogramLagJSON `json:"lags"`
 }
 
-func formatTime(t float64) string {
-	if t == math.Trunc(t) {
-		return timefmt.FormatUTC(int64(t))
-	}
-	return timefmt.FormatUTC(int64(math.Floor(t))) + fmt.Sprintf(" (+%.3fs)", t-math.Floor(t))
-}
-
 func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	const fn = "correlogram"
 	maxLag, err := argInt(fn, "max_lag", opts[0], 0, maxLagArg)
@@ -239,7 +232,7 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	out := correlogramJSON{
 		N: c.N, NSlots: c.NSlots, MissingSlots: c.Missing,
 		StepInferred: o.step == 0,
-		TFirst:       formatTime(r.T[0]),
+		TFirst:       isoTime(r.T[0]),
 		Mean:         acfNum(c.Mean), ACVF0: acfNum(c.ACVF0), Fitdf: o.fitdf,
 		Band: acfNum(1.96 / math.Sqrt(float64(c.N))),
 		Lags: make([]correlogramLagJSON, 0, maxLag),

@@ -165,7 +165,7 @@ func crossCorrelogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 		b.raw("step", "null")
 	}
 	b.raw("step_inferred", strconv.FormatBool(step == 0))
-	b.str("t_first", mkTime(r.T[0]))
+	b.str("t_first", isoTime(r.T[0]))
 	b.num("mean_x", st.MeanX)
 	b.num("mean_y", st.MeanY)
 	b.num("var_x", st.VarX)

@@ -9,6 +9,8 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"trendsql/sqlfuncs/timefmt"
 )
 
 // jsonObj writes a JSON object with keys in insertion order.
@@ -72,4 +74,17 @@ func (o *jsonObj) String() string {
 		return "{}"
 	}
 	return o.b.String() + "}"
+}
+
+// isoTime renders unix seconds as ISO 8601 UTC, keeping a fractional part
+// (to the microsecond) when t is not whole: 2021-03-28T01:30:00.25Z.
+func isoTime(t float64) string {
+	if t == math.Trunc(t) {
+		return timefmt.FormatUTC(int64(t))
+	}
+	sec := math.Floor(t)
+	s := timefmt.FormatUTC(int64(sec))
+	frac := strconv.FormatFloat(t-sec, 'f', 6, 64) // "0.xxxxxx"
+	frac = strings.TrimRight(frac, "0")
+	return strings.TrimSuffix(s, "Z") + frac[1:] + "Z"
 }

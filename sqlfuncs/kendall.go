@@ -71,25 +71,12 @@ package sqlfuncs
 import (
 	"database/sql/driver"
 	"fmt"
-	"math"
 	"strconv"
 	"strings"
 
 	"trendsql/sqlfuncs/stats"
 	"trendsql/sqlfuncs/timefmt"
 )
-
-// mkTime renders a unix time as ISO 8601 UTC (fractional seconds kept).
-func mkTime(t float64) string {
-	if t == math.Trunc(t) {
-		return timefmt.FormatUTC(int64(t))
-	}
-	sec := math.Floor(t)
-	s := timefmt.FormatUTC(int64(sec))
-	frac := strconv.FormatFloat(t-sec, 'f', 6, 64) // "0.xxxxxx"
-	frac = strings.TrimRight(frac, "0")
-	return strings.TrimSuffix(s, "Z") + frac[1:] + "Z"
-}
 
 type mkOptions struct {
 	hamedRao bool

@@ -60,8 +60,8 @@ func pettittValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	var b jsonObj
 	b.int("n", int64(res.N))
 	b.int("k", int64(res.K))
-	b.str("t_change", mkTime(r.T[res.K-1]))
-	b.str("t_after", mkTime(r.T[res.K]))
+	b.str("t_change", isoTime(r.T[res.K-1]))
+	b.str("t_after", isoTime(r.T[res.K]))
 	b.num("u", res.U)
 	b.num("abs_u", math.Abs(res.U))
 	b.num("p", res.P)

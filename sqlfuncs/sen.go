@@ -122,7 +122,7 @@ func senSlopeValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	b.int("lower_rank", res.LowerRank)
 	b.int("upper_rank", res.UpperRank)
 	b.num("intercept", res.MedianY-slope*(res.MedianT/spy))
-	b.str("median_t", mkTime(res.MedianT))
+	b.str("median_t", isoTime(res.MedianT))
 	b.num("median_y", res.MedianY)
 	return b.String(), nil
 }
