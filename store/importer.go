@@ -242,7 +242,7 @@ func (s *Store) beginBatch(ctx context.Context, kind string, in *importInput, op
 	b := &importBatch{tx: tx, in: in, prog: prog}
 	b.res.Kind, b.res.File, b.res.Source = kind, in.name, in.abs
 	r, err := tx.ExecContext(ctx, `INSERT INTO import_batches(kind, source, started_at, options) VALUES (?, ?, ?, ?)`,
-		kind, in.abs, importNow(), string(opts))
+		kind, in.abs, nowISO(), string(opts))
 	if err == nil {
 		b.res.BatchID, err = r.LastInsertId()
 	}
@@ -253,7 +253,6 @@ func (s *Store) beginBatch(ctx context.Context, kind string, in *importInput, op
 	return b, nil
 }
 
-func importNow() string { return time.Now().UTC().Format("2006-01-02T15:04:05.000Z") }
 
 // reject records one rejected record.
 func (b *importBatch) reject(ctx context.Context, line int, raw string, reason string) error {
@@ -302,7 +301,7 @@ func (b *importBatch) finish(ctx context.Context) error {
 	r := &b.res
 	if _, err := b.tx.ExecContext(ctx, `UPDATE import_batches SET source_sha256 = ?, finished_at = ?,
 		rows_read = ?, rows_stored = ?, rows_rejected = ?, rows_duplicate = ?, rows_replaced = ? WHERE id = ?`,
-		r.SHA256, importNow(), r.RowsRead, r.RowsStored, r.RowsRejected, r.RowsDuplicate, r.RowsReplaced, r.BatchID); err != nil {
+		r.SHA256, nowISO(), r.RowsRead, r.RowsStored, r.RowsRejected, r.RowsDuplicate, r.RowsReplaced, r.BatchID); err != nil {
 		return fmt.Errorf("import %s: record counts: %w", b.in.name, err)
 	}
 	if err := b.tx.Commit(); err != nil {

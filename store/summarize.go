@@ -228,6 +228,8 @@ func (s *Store) Summarize(ctx context.Context, o SummarizeOptions) (*SummarizeRe
 	return res, nil
 }
 
+// nowISO is the time stamp the store records (batches, runs): ISO 8601 UTC
+// with milliseconds.
 func nowISO() string { return time.Now().UTC().Format("2006-01-02T15:04:05.000Z") }
 
 // selectSeries returns the series matching the run's selection, by id.
