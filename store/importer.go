@@ -253,7 +253,6 @@ func (s *Store) beginBatch(ctx context.Context, kind string, in *importInput, op
 	return b, nil
 }
 
-
 // reject records one rejected record.
 func (b *importBatch) reject(ctx context.Context, line int, raw string, reason string) error {
 	b.res.RowsRejected++
