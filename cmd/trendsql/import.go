@@ -12,7 +12,6 @@ import (
 
 	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/cobra"
-	"golang.org/x/term"
 
 	"trendsql/store"
 )
@@ -217,8 +216,7 @@ type importBar struct {
 }
 
 func newImportBar(w io.Writer, path string) *importBar {
-	f, ok := w.(*os.File)
-	return &importBar{w: w, tty: ok && term.IsTerminal(int(f.Fd())), name: filepath.Base(path), start: time.Now()}
+	return &importBar{w: w, tty: isTerminalWriter(w), name: filepath.Base(path), start: time.Now()}
 }
 
 func (b *importBar) update(p store.Progress) {
