@@ -236,7 +236,10 @@ func installFastPath(c any) error {
 			return fmt.Errorf("sqlite3_create_window_function(%s) returned %d", f.name, rc)
 		}
 	}
-	return installFastSeries(h)
+	if err := installFastSeries(h); err != nil {
+		return err
+	}
+	return installFastQualifiers(h)
 }
 
 // fastRegrOf returns the function a callback serves.

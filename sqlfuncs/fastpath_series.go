@@ -44,14 +44,21 @@ import (
 )
 
 var liveSeries struct {
-	sync.RWMutex
+	sync.Mutex
 	aggs []*seriesAgg
 	free []int32
 }
 
-// fastSeriesSlot is what sqlite3_aggregate_context holds: slot+1 (0 = no
-// aggregate yet).
-type fastSeriesSlot struct{ id int32 }
+// fastSeriesSlot is what sqlite3_aggregate_context holds: slot+1 in the
+// live table (0 = no state yet) and the address of the state object. The
+// live table's reference keeps the object alive (Go's collector does not
+// move heap objects), so Step reads the address without taking the table's
+// lock: with several connections stepping at once, a shared lock's counter
+// bounced between cores on every row.
+type fastSeriesSlot struct {
+	id  int32
+	obj uintptr
+}
 
 type fastSeriesFactory struct {
 	name             string
@@ -144,10 +151,7 @@ func fastSeriesAgg(tls *libc.TLS, ctx uintptr, create bool) (*seriesAgg, *fastSe
 	}
 	slot := at[fastSeriesSlot](p)
 	if slot.id > 0 {
-		liveSeries.RLock()
-		a := liveSeries.aggs[slot.id-1]
-		liveSeries.RUnlock()
-		return a, slot, nil
+		return at[seriesAgg](slot.obj), slot, nil
 	}
 	if !create {
 		return nil, slot, nil
@@ -171,6 +175,7 @@ func fastSeriesAgg(tls *libc.TLS, ctx uintptr, create bool) (*seriesAgg, *fastSe
 		slot.id = int32(len(liveSeries.aggs))
 	}
 	liveSeries.Unlock()
+	slot.obj = uintptr(unsafe.Pointer(a))
 	return a, slot, nil
 }
 
@@ -182,7 +187,7 @@ func releaseSeriesSlot(slot *fastSeriesSlot) {
 	liveSeries.aggs[slot.id-1] = nil
 	liveSeries.free = append(liveSeries.free, slot.id-1)
 	liveSeries.Unlock()
-	slot.id = 0
+	slot.id, slot.obj = 0, 0
 }
 
 // fastNumber reads a finite INTEGER or REAL value; ok is false for anything

@@ -240,8 +240,8 @@ func TestFastSeriesMatchesPublic(t *testing.T) {
 
 // liveAggregates counts the adapter's groups still holding a slot.
 func liveAggregates() int {
-	liveSeries.RLock()
-	defer liveSeries.RUnlock()
+	liveSeries.Lock()
+	defer liveSeries.Unlock()
 	n := 0
 	for _, a := range liveSeries.aggs {
 		if a != nil {

@@ -1,6 +1,7 @@
 package sqlfuncs_test
 
 import (
+	"fmt"
 	"testing"
 
 	"trendsql/sqlfuncs"
@@ -49,5 +50,83 @@ func TestPackSeries(t *testing.T) {
 		if d.Name == sqlfuncs.PackSeriesFunction {
 			t.Error("the internal reader is listed for users")
 		}
+	}
+}
+
+// The internal qualifier counter agrees with SQLite's own GROUP BY count
+// of the non-empty qualifiers (NULL and '' not counted, a number counted
+// under its text), as a plain aggregate and over a sliding window frame
+// (which exercises row removal); a group without qualifiers gives NULL.
+func TestQualifierCounts(t *testing.T) {
+	s := openScratchStore(t, "q.db", `CREATE TABLE q (g INTEGER, i INTEGER, qual)`)
+	quals := []any{nil, "E", "", "P", "E", nil, "E", 7, "P", "E", nil, ""}
+	for i, q := range quals {
+		if _, err := s.DB.Exec(`INSERT INTO q VALUES (1, ?, ?)`, i, q); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if _, err := s.DB.Exec(`INSERT INTO q VALUES (2, 0, NULL), (2, 1, '')`); err != nil {
+		t.Fatal(err)
+	}
+	want := func(where string) map[string]int {
+		rows, err := s.DB.Query(`SELECT CAST(qual AS TEXT), count(*) FROM q WHERE ` + where + ` AND qual IS NOT NULL AND qual <> '' GROUP BY 1`)
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer rows.Close()
+		m := map[string]int{}
+		for rows.Next() {
+			var k string
+			var n int
+			if err := rows.Scan(&k, &n); err != nil {
+				t.Fatal(err)
+			}
+			m[k] = n
+		}
+		return m
+	}
+	check := func(label string, got []byte, w map[string]int) {
+		t.Helper()
+		m, total, err := sqlfuncs.UnpackQualifierCounts(got)
+		if err != nil {
+			t.Fatalf("%s: %v", label, err)
+		}
+		wantTotal := 0
+		for k, n := range w {
+			wantTotal += n
+			if m[k] != n {
+				t.Errorf("%s: %q counted %d, want %d (got %s)", label, k, m[k], n, got)
+			}
+		}
+		if len(m) != len(w) || total != wantTotal {
+			t.Errorf("%s: got %s (total %d), want %v", label, got, total, w)
+		}
+	}
+	var got []byte
+	if err := s.DB.QueryRow(`SELECT ` + sqlfuncs.QualifierCountsFunction + `(qual) FROM q WHERE g = 1`).Scan(&got); err != nil {
+		t.Fatal(err)
+	}
+	check("whole group", got, want("g = 1"))
+	if string(got) != `{"7":1,"E":4,"P":2}` {
+		t.Errorf("whole group: %s", got)
+	}
+	if err := s.DB.QueryRow(`SELECT ` + sqlfuncs.QualifierCountsFunction + `(qual) FROM q WHERE g = 2`).Scan(&got); err != nil || got != nil {
+		t.Errorf("no qualifiers: %s, %v; want NULL", got, err)
+	}
+	rows, err := s.DB.Query(`SELECT i, ` + sqlfuncs.QualifierCountsFunction + `(qual) OVER (ORDER BY i ROWS BETWEEN 3 PRECEDING AND CURRENT ROW) FROM q WHERE g = 1 ORDER BY i`)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var i int
+		var w []byte
+		if err := rows.Scan(&i, &w); err != nil {
+			t.Fatal(err)
+		}
+		check(fmt.Sprintf("frame ending at %d", i), w, want(fmt.Sprintf("g = 1 AND i BETWEEN %d AND %d", i-3, i)))
+	}
+	if err := rows.Err(); err != nil {
+		t.Fatal(err)
 	}
 }

@@ -432,47 +432,36 @@ type seriesBuffer struct {
 	quals      map[string]int
 }
 
-// loadSeries reads one series (sorted by t) and its qualifier counts. The
-// values come through the internal series aggregate
-// sqlfuncs.PackSeriesFunction, which reaches Go without a boxed value per
-// row; the qualifier counts are a second, engine-side GROUP BY.
+// loadSeries reads one series (sorted by t) and its qualifier counts in one
+// scan of the series' rows. The values come through the internal series
+// aggregate sqlfuncs.PackSeriesFunction and the counts through
+// sqlfuncs.QualifierCountsFunction, both of which reach Go without a boxed
+// value per row. The time bounds are in the statement only when set, so an
+// unbounded read compares only the series key per row.
 func (s *Store) loadSeries(ctx context.Context, id int64, since, until *int64, b *seriesBuffer) error {
-	lo, hi := int64(math.MinInt64), int64(math.MaxInt64)
+	q := `SELECT ` + sqlfuncs.PackSeriesFunction + `(t, value), ` + sqlfuncs.QualifierCountsFunction + `(qualifier)
+		FROM readings WHERE series_id = ?`
+	args := []any{id}
 	if since != nil {
-		lo = *since
+		q += ` AND t >= ?`
+		args = append(args, *since)
 	}
 	if until != nil {
-		hi = *until
+		q += ` AND t <= ?`
+		args = append(args, *until)
 	}
-	var packed []byte
-	err := s.DB.QueryRowContext(ctx, `SELECT `+sqlfuncs.PackSeriesFunction+`(t, value) FROM readings WHERE series_id = ? AND t BETWEEN ? AND ?`, id, lo, hi).Scan(&packed)
-	if err != nil {
+	var packed, quals []byte
+	if err := s.DB.QueryRowContext(ctx, q, args...).Scan(&packed, &quals); err != nil {
 		return fmt.Errorf("summarize: read series %d: %w", id, err)
 	}
+	var err error
 	if b.t, b.y, err = sqlfuncs.UnpackSeries(packed, b.t, b.y); err != nil {
 		return fmt.Errorf("summarize: read series %d: %w", id, err)
 	}
-	b.nQualified = 0
-	b.quals = nil
-	rows, err := s.DB.QueryContext(ctx, `SELECT qualifier, count(*) FROM readings
-		WHERE series_id = ? AND t BETWEEN ? AND ? AND qualifier IS NOT NULL AND qualifier <> '' GROUP BY qualifier`, id, lo, hi)
-	if err != nil {
+	if b.quals, b.nQualified, err = sqlfuncs.UnpackQualifierCounts(quals); err != nil {
 		return fmt.Errorf("summarize: read qualifiers of series %d: %w", id, err)
 	}
-	defer rows.Close()
-	for rows.Next() {
-		var q string
-		var n int
-		if err := rows.Scan(&q, &n); err != nil {
-			return fmt.Errorf("summarize: read qualifiers of series %d: %w", id, err)
-		}
-		if b.quals == nil {
-			b.quals = map[string]int{}
-		}
-		b.quals[q] = n
-		b.nQualified += n
-	}
-	return rows.Err()
+	return nil
 }
 
 // adjustFDR sets the Benjamini–Hochberg adjusted p-value of the rank trend

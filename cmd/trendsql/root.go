@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"runtime/pprof"
 	"strings"
 	"syscall"
 
@@ -60,6 +61,14 @@ func Main(args []string, in io.Reader, out, errw io.Writer) int {
 	root.SetErr(errw)
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
+	if path := os.Getenv(EnvCPUProfile); path != "" {
+		stopProfile, err := startCPUProfile(path)
+		if err != nil {
+			fmt.Fprintln(errw, "trendsql:", err)
+			return ExitFailed
+		}
+		defer stopProfile()
+	}
 	err := root.ExecuteContext(ctx)
 	if err == nil {
 		return ExitOK
@@ -73,6 +82,22 @@ func Main(args []string, in io.Reader, out, errw io.Writer) int {
 		return ExitUsage
 	}
 	return ExitFailed
+}
+
+// EnvCPUProfile names a file to receive a CPU profile of the whole command
+// (for `go tool pprof`; a developer aid documented in DEVELOPERS.md).
+const EnvCPUProfile = "TRENDSQL_CPUPROFILE"
+
+func startCPUProfile(path string) (func(), error) {
+	f, err := os.Create(path)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", EnvCPUProfile, err)
+	}
+	if err := pprof.StartCPUProfile(f); err != nil {
+		f.Close()
+		return nil, fmt.Errorf("%s: %w", EnvCPUProfile, err)
+	}
+	return func() { pprof.StopCPUProfile(); f.Close() }, nil
 }
 
 // isUsage recognises cobra's own argument and flag errors, and its unknown

@@ -76,13 +76,25 @@ func InferStep(t []float64) (step float64, ok bool) {
 	if len(t) < 2 {
 		return 0, false
 	}
+	// Regular series repeat one spacing for long runs: count a run in
+	// local variables and touch the map only when the spacing changes.
 	counts := map[float64]int{}
+	lastD, lastClass, run := math.NaN(), 0.0, 0
 	for i := 1; i < len(t); i++ {
 		d := t[i] - t[i-1]
 		if !(d > 0) {
 			continue
 		}
-		counts[spacingClass(d)]++
+		if d != lastD {
+			if run > 0 {
+				counts[lastClass] += run
+			}
+			lastD, lastClass, run = d, spacingClass(d), 0
+		}
+		run++
+	}
+	if run > 0 {
+		counts[lastClass] += run
 	}
 	best, bestN := 0.0, 0
 	for s, c := range counts {
