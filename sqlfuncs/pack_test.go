@@ -54,7 +54,7 @@ func TestPackSeries(t *testing.T) {
 }
 
 // The internal qualifier counter agrees with SQLite's own GROUP BY count
-// of the non-empty qualifiers (NULL and '' not counted, a number counted
+// of the non-empty qualifiers (NULL and ” not counted, a number counted
 // under its text), as a plain aggregate and over a sliding window frame
 // (which exercises row removal); a group without qualifiers gives NULL.
 func TestQualifierCounts(t *testing.T) {
