@@ -342,6 +342,9 @@ func fastSeriesResult(tls *libc.TLS, ctx uintptr, final bool) {
 		return
 	}
 	v, err := a.WindowValue(nil)
+	if final {
+		a.recycle()
+	}
 	if err != nil {
 		fastError(tls, ctx, err)
 		return

@@ -24,6 +24,7 @@ import (
 	"database/sql/driver"
 	"fmt"
 	"sort"
+	"sync"
 
 	"modernc.org/sqlite"
 
@@ -129,6 +130,10 @@ func (a *seriesAgg) Step(ctx *sqlite.FunctionContext, args []driver.Value) (err 
 		a.opts = append([]driver.Value(nil), opts...)
 		a.stepped = true
 		a.sorted = true
+		a.t, a.y = getFloats(), getFloats()
+		if a.spec.values == 2 {
+			a.x = getFloats()
+		}
 	} else if !sameOpts(a.opts, opts) {
 		return fmt.Errorf("%s: option arguments must be the same on every row of a group (got %v, then %v)", a.name(), a.opts, opts)
 	}
@@ -268,7 +273,42 @@ func (a *seriesAgg) WindowValue(ctx *sqlite.FunctionContext) (v driver.Value, er
 	return a.spec.compute(r, a.opts)
 }
 
-func (a *seriesAgg) Final(ctx *sqlite.FunctionContext) {}
+// Final hands the group's buffers back for the next group (the value has
+// been computed by then).
+func (a *seriesAgg) Final(ctx *sqlite.FunctionContext) { a.recycle() }
+
+// Buffers of finished groups are reused by the next ones: consecutive
+// groups of one query usually have similar lengths, so a reused buffer
+// rarely grows, and a scan over many series allocates (and collects) almost
+// nothing per row.
+var floatBufs sync.Pool
+
+// maxPooled caps the buffers kept for reuse (in float64s, 32 MiB).
+const maxPooled = 1 << 22
+
+func getFloats() []float64 {
+	if p, ok := floatBufs.Get().(*[]float64); ok {
+		return (*p)[:0]
+	}
+	return nil
+}
+
+func putFloats(s []float64) {
+	if cap(s) == 0 || cap(s) > maxPooled {
+		return
+	}
+	s = s[:0]
+	floatBufs.Put(&s)
+}
+
+// recycle releases the group's row buffers; the aggregate must not be used
+// afterwards.
+func (a *seriesAgg) recycle() {
+	putFloats(a.t)
+	putFloats(a.y)
+	putFloats(a.x)
+	a.t, a.y, a.x = nil, nil, nil
+}
 
 // streamState is the running state of a streaming aggregate.
 type streamState interface {
