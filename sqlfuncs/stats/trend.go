@@ -8,7 +8,7 @@ package stats
 // distinct):
 //
 //	x_i  = (t_i − t_c) / Y,   Y = 31 557 600 s (365.25 d), t_c = (1/n) Σ t_i
-//	u_i  = fmod(t_i, P) / P   (phase origin: the unix epoch 1970-01-01T00:00:00Z)
+//	u_i  = t_i/P − ⌊t_i/P⌋    (phase in [0, 1); origin: the unix epoch 1970-01-01T00:00:00Z)
 //	y_i ≈ c_0 + c_1 x_i + … + c_d x_i^d
 //	        + Σ_{k=1}^{K} ( a_k sin(2πk u_i) + b_k cos(2πk u_i) )
 //
@@ -120,6 +120,21 @@ func TrendTerms(degree, harmonics int) []string {
 	return out
 }
 
+// seasonPhase returns u = t/P − ⌊t/P⌋, the position of t within the period
+// counted from the unix epoch, in [0, 1).
+func seasonPhase(t, period float64) float64 {
+	u := t / period
+	return u - math.Floor(u)
+}
+
+// nextHarmonic steps (sin kθ, cos kθ) to (sin (k+1)θ, cos (k+1)θ) by the
+// angle-addition formulas, given (sin θ, cos θ): one sin/cos evaluation per
+// row serves every harmonic (the rounding error grows about linearly in k,
+// far below 1e-12 for the few harmonics a seasonal fit uses).
+func nextHarmonic(s, c, s1, c1 float64) (float64, float64) {
+	return s*c1 + c*s1, c*c1 - s*s1
+}
+
 // trendRow writes the design row for time t into dst (length Params()).
 func trendRow(dst []float64, t, tCenter float64, degree int, period float64, harmonics int) {
 	x := (t - tCenter) / SecondsPerYear
@@ -130,13 +145,11 @@ func trendRow(dst []float64, t, tCenter float64, degree int, period float64, har
 		dst[k] = pw
 	}
 	if harmonics > 0 {
-		u := math.Mod(t, period) / period
-		j := degree + 1
-		for k := 1; k <= harmonics; k++ {
-			a := 2 * math.Pi * float64(k) * u
-			dst[j] = math.Sin(a)
-			dst[j+1] = math.Cos(a)
-			j += 2
+		s1, c1 := math.Sincos(2 * math.Pi * seasonPhase(t, period))
+		s, c := s1, c1
+		for j := degree + 1; j < degree+1+2*harmonics; j += 2 {
+			dst[j], dst[j+1] = s, c
+			s, c = nextHarmonic(s, c, s1, c1)
 		}
 	}
 }
@@ -150,12 +163,11 @@ func TrendValue(t, tCenter float64, degree int, period float64, harmonics int, c
 		v = v*x + coef[k]
 	}
 	if harmonics > 0 {
-		u := math.Mod(t, period) / period
-		j := degree + 1
-		for k := 1; k <= harmonics; k++ {
-			a := 2 * math.Pi * float64(k) * u
-			v += coef[j]*math.Sin(a) + coef[j+1]*math.Cos(a)
-			j += 2
+		s1, c1 := math.Sincos(2 * math.Pi * seasonPhase(t, period))
+		s, c := s1, c1
+		for j := degree + 1; j < degree+1+2*harmonics; j += 2 {
+			v += coef[j]*s + coef[j+1]*c
+			s, c = nextHarmonic(s, c, s1, c1)
 		}
 	}
 	return v
