@@ -10,7 +10,6 @@ package sqlfuncs
 // NULL, and window removal, go through qualCounts' public methods.
 
 import (
-	"errors"
 	"fmt"
 	"sync"
 	"unsafe"
@@ -19,13 +18,8 @@ import (
 	sqlite3 "modernc.org/sqlite/lib"
 )
 
-// liveQuals keeps the groups' states alive; aggregate contexts hold their
-// index and address (see fastSeriesSlot).
-var liveQuals struct {
-	sync.Mutex
-	states []*qualCounts
-	free   []int32
-}
+// liveQuals keeps the groups' states alive.
+var liveQuals liveTable[qualCounts]
 
 var fastQualName struct {
 	sync.Once
@@ -47,52 +41,7 @@ func installFastQualifiers(h connHandle) error {
 	return nil
 }
 
-// fastQualState returns the group's state (creating it when create is set)
-// and the slot holding its index.
-func fastQualState(tls *libc.TLS, ctx uintptr, create bool) (*qualCounts, *fastSeriesSlot, error) {
-	n := int32(0)
-	if create {
-		n = int32(unsafe.Sizeof(fastSeriesSlot{}))
-	}
-	p := sqlite3.Xsqlite3_aggregate_context(tls, ctx, n)
-	if p == 0 {
-		if create {
-			return nil, nil, errors.New(QualifierCountsFunction + ": out of memory for the aggregate state")
-		}
-		return nil, nil, nil
-	}
-	slot := at[fastSeriesSlot](p)
-	if slot.id > 0 {
-		return at[qualCounts](slot.obj), slot, nil
-	}
-	if !create {
-		return nil, slot, nil
-	}
-	q := &qualCounts{}
-	liveQuals.Lock()
-	if k := len(liveQuals.free); k > 0 {
-		slot.id = liveQuals.free[k-1] + 1
-		liveQuals.free = liveQuals.free[:k-1]
-		liveQuals.states[slot.id-1] = q
-	} else {
-		liveQuals.states = append(liveQuals.states, q)
-		slot.id = int32(len(liveQuals.states))
-	}
-	liveQuals.Unlock()
-	slot.obj = uintptr(unsafe.Pointer(q))
-	return q, slot, nil
-}
-
-func releaseQualSlot(slot *fastSeriesSlot) {
-	if slot == nil || slot.id == 0 {
-		return
-	}
-	liveQuals.Lock()
-	liveQuals.states[slot.id-1] = nil
-	liveQuals.free = append(liveQuals.free, slot.id-1)
-	liveQuals.Unlock()
-	slot.id, slot.obj = 0, 0
-}
+func newQualCounts() (*qualCounts, error) { return &qualCounts{}, nil }
 
 func fastQualRecover(tls *libc.TLS, ctx uintptr) {
 	if r := recover(); r != nil {
@@ -111,7 +60,7 @@ func fastQualRow(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr, delta int
 	if typ == sqlite3.SQLITE_NULL {
 		return
 	}
-	q, _, err := fastQualState(tls, ctx, true)
+	q, _, err := liveQuals.state(tls, ctx, true, newQualCounts)
 	if err != nil {
 		fastError(tls, ctx, err)
 		return
@@ -138,9 +87,9 @@ func fastQualInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 
 func fastQualResult(tls *libc.TLS, ctx uintptr, final bool) {
 	defer fastQualRecover(tls, ctx)
-	q, slot, err := fastQualState(tls, ctx, false)
+	q, slot, err := liveQuals.state(tls, ctx, false, newQualCounts)
 	if final {
-		defer releaseQualSlot(slot)
+		defer liveQuals.release(slot)
 	}
 	if err != nil {
 		fastError(tls, ctx, err)
@@ -155,18 +104,7 @@ func fastQualResult(tls *libc.TLS, ctx uintptr, final bool) {
 		fastError(tls, ctx, err)
 		return
 	}
-	s, _ := v.(string)
-	if s == "" {
-		sqlite3.Xsqlite3_result_null(tls, ctx)
-		return
-	}
-	p, cerr := libc.CString(s)
-	if cerr != nil {
-		sqlite3.Xsqlite3_result_error_nomem(tls, ctx)
-		return
-	}
-	sqlite3.Xsqlite3_result_text(tls, ctx, p, int32(len(s)), sqlite3.SQLITE_TRANSIENT)
-	libc.Xfree(tls, p)
+	fastResult(tls, ctx, QualifierCountsFunction, v)
 }
 
 func fastQualValue(tls *libc.TLS, ctx uintptr) { fastQualResult(tls, ctx, false) }

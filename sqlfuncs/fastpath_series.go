@@ -11,7 +11,7 @@ package sqlfuncs
 // valid argument count. The group's state is the public implementation's own
 // seriesAgg (made by its MakeAggregate), so values are computed by exactly
 // the same code; the sqlite3_aggregate_context memory holds the index of
-// that seriesAgg in liveSeries (an integer, no Go pointer).
+// that seriesAgg in liveSeries and its address (see fastSeriesSlot).
 //
 // Step handles only the common case itself — t and y are finite INTEGER or
 // REAL values (or y is NULL) and the option arguments are the same values,
@@ -43,10 +43,80 @@ import (
 	sqlite3 "modernc.org/sqlite/lib"
 )
 
-var liveSeries struct {
+// liveSeries keeps the series aggregates of open groups alive.
+var liveSeries liveTable[seriesAgg]
+
+// liveTable keeps the Go state objects of open aggregate groups alive while
+// SQLite holds only their index and address (see fastSeriesSlot).
+type liveTable[T any] struct {
 	sync.Mutex
-	aggs []*seriesAgg
+	objs []*T
 	free []int32
+}
+
+// state returns the group's object and its slot, creating the object with
+// mk on first use when create is set (nil, without error, when the group
+// has none and create is not set).
+func (lt *liveTable[T]) state(tls *libc.TLS, ctx uintptr, create bool, mk func() (*T, error)) (*T, *fastSeriesSlot, error) {
+	n := int32(0)
+	if create {
+		n = int32(unsafe.Sizeof(fastSeriesSlot{}))
+	}
+	p := sqlite3.Xsqlite3_aggregate_context(tls, ctx, n)
+	if p == 0 {
+		if create {
+			return nil, nil, errors.New("out of memory for the aggregate state")
+		}
+		return nil, nil, nil
+	}
+	slot := at[fastSeriesSlot](p)
+	if slot.id > 0 {
+		return at[T](slot.obj), slot, nil
+	}
+	if !create {
+		return nil, slot, nil
+	}
+	obj, err := mk()
+	if err != nil {
+		return nil, nil, err
+	}
+	lt.Lock()
+	if k := len(lt.free); k > 0 {
+		slot.id = lt.free[k-1] + 1
+		lt.free = lt.free[:k-1]
+		lt.objs[slot.id-1] = obj
+	} else {
+		lt.objs = append(lt.objs, obj)
+		slot.id = int32(len(lt.objs))
+	}
+	lt.Unlock()
+	slot.obj = uintptr(unsafe.Pointer(obj))
+	return obj, slot, nil
+}
+
+// release drops the group's object (after its final value).
+func (lt *liveTable[T]) release(slot *fastSeriesSlot) {
+	if slot == nil || slot.id == 0 {
+		return
+	}
+	lt.Lock()
+	lt.objs[slot.id-1] = nil
+	lt.free = append(lt.free, slot.id-1)
+	lt.Unlock()
+	slot.id, slot.obj = 0, 0
+}
+
+// live counts the objects still held.
+func (lt *liveTable[T]) live() int {
+	lt.Lock()
+	defer lt.Unlock()
+	n := 0
+	for _, o := range lt.objs {
+		if o != nil {
+			n++
+		}
+	}
+	return n
 }
 
 // fastSeriesSlot is what sqlite3_aggregate_context holds: slot+1 in the
@@ -138,56 +208,17 @@ func installFastSeries(h connHandle) error {
 // fastSeriesAgg returns the group's seriesAgg, creating it on first use
 // when create is set (nil when there is none).
 func fastSeriesAgg(tls *libc.TLS, ctx uintptr, create bool) (*seriesAgg, *fastSeriesSlot, error) {
-	n := int32(0)
-	if create {
-		n = int32(unsafe.Sizeof(fastSeriesSlot{}))
-	}
-	p := sqlite3.Xsqlite3_aggregate_context(tls, ctx, n)
-	if p == 0 {
-		if create {
-			return nil, nil, errors.New("out of memory for the aggregate state")
+	return liveSeries.state(tls, ctx, create, func() (*seriesAgg, error) {
+		i := int(sqlite3.Xsqlite3_user_data(tls, ctx)) - 1
+		fastSeriesFactories.Lock()
+		f := fastSeriesFactories.list[i]
+		fastSeriesFactories.Unlock()
+		agg, err := f.make(sqlite.FunctionContext{})
+		if err != nil {
+			return nil, err
 		}
-		return nil, nil, nil
-	}
-	slot := at[fastSeriesSlot](p)
-	if slot.id > 0 {
-		return at[seriesAgg](slot.obj), slot, nil
-	}
-	if !create {
-		return nil, slot, nil
-	}
-	i := int(sqlite3.Xsqlite3_user_data(tls, ctx)) - 1
-	fastSeriesFactories.Lock()
-	f := fastSeriesFactories.list[i]
-	fastSeriesFactories.Unlock()
-	agg, err := f.make(sqlite.FunctionContext{})
-	if err != nil {
-		return nil, nil, err
-	}
-	a := agg.(*seriesAgg)
-	liveSeries.Lock()
-	if k := len(liveSeries.free); k > 0 {
-		slot.id = liveSeries.free[k-1] + 1
-		liveSeries.free = liveSeries.free[:k-1]
-		liveSeries.aggs[slot.id-1] = a
-	} else {
-		liveSeries.aggs = append(liveSeries.aggs, a)
-		slot.id = int32(len(liveSeries.aggs))
-	}
-	liveSeries.Unlock()
-	slot.obj = uintptr(unsafe.Pointer(a))
-	return a, slot, nil
-}
-
-func releaseSeriesSlot(slot *fastSeriesSlot) {
-	if slot == nil || slot.id == 0 {
-		return
-	}
-	liveSeries.Lock()
-	liveSeries.aggs[slot.id-1] = nil
-	liveSeries.free = append(liveSeries.free, slot.id-1)
-	liveSeries.Unlock()
-	slot.id, slot.obj = 0, 0
+		return agg.(*seriesAgg), nil
+	})
 }
 
 // fastNumber reads a finite INTEGER or REAL value; ok is false for anything
@@ -331,7 +362,7 @@ func fastSeriesResult(tls *libc.TLS, ctx uintptr, final bool) {
 	defer fastSeriesRecover(tls, ctx)
 	a, slot, err := fastSeriesAgg(tls, ctx, false)
 	if final {
-		defer releaseSeriesSlot(slot)
+		defer liveSeries.release(slot)
 	}
 	if err != nil {
 		fastError(tls, ctx, err)
@@ -349,6 +380,11 @@ func fastSeriesResult(tls *libc.TLS, ctx uintptr, final bool) {
 		fastError(tls, ctx, err)
 		return
 	}
+	fastResult(tls, ctx, a.name(), v)
+}
+
+// fastResult hands a Go value to SQLite as the function's result.
+func fastResult(tls *libc.TLS, ctx uintptr, name string, v driver.Value) {
 	switch x := v.(type) {
 	case nil:
 		sqlite3.Xsqlite3_result_null(tls, ctx)
@@ -382,7 +418,7 @@ func fastSeriesResult(tls *libc.TLS, ctx uintptr, final bool) {
 		sqlite3.Xsqlite3_result_blob(tls, ctx, p, int32(len(x)), sqlite3.SQLITE_TRANSIENT)
 		libc.Xfree(tls, p)
 	default:
-		fastError(tls, ctx, fmt.Errorf("%s: internal error: result of type %T", a.name(), v))
+		fastError(tls, ctx, fmt.Errorf("%s: internal error: result of type %T", name, v))
 	}
 }
 

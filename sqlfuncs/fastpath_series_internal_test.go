@@ -239,17 +239,7 @@ func TestFastSeriesMatchesPublic(t *testing.T) {
 }
 
 // liveAggregates counts the adapter's groups still holding a slot.
-func liveAggregates() int {
-	liveSeries.Lock()
-	defer liveSeries.Unlock()
-	n := 0
-	for _, a := range liveSeries.aggs {
-		if a != nil {
-			n++
-		}
-	}
-	return n
-}
+func liveAggregates() int { return liveSeries.live() }
 
 func TestFastSeriesErrorsMatchPublic(t *testing.T) {
 	db := fastSeriesDB(t)
