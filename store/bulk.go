@@ -39,12 +39,21 @@ func (c Conflict) clause() string {
 }
 
 // ReadingWriter inserts readings inside a caller's transaction in batches of
-// bulkRows rows per statement. Call Add for each row and Flush at the end.
+// bulkRows rows per statement. Call Add for each row and Flush at the end
+// (or Close on an error path).
+//
+// A writer made by newReadingWriterOn writes its full batches through
+// SQLite's C API on the transaction's connection when that is available
+// (rawbulk.go); partial batches, and every batch otherwise, go through
+// database/sql. Both paths run the same statement text and store the same
+// rows.
 type ReadingWriter struct {
 	tx       *sql.Tx
 	conflict Conflict
-	full     *sql.Stmt
-	buf      []any
+	full     *sql.Stmt  // database/sql path (nil when raw is used)
+	raw      *rawInsert // C-level path, or nil
+	buf      []any      // database/sql path: queued arguments
+	rows     []Reading  // C-level path: queued rows
 	n        int
 	stored   int64
 }
@@ -58,6 +67,19 @@ func NewReadingWriter(ctx context.Context, tx *sql.Tx, conflict Conflict) (*Read
 	}
 	w.full = st
 	return w, nil
+}
+
+// newReadingWriterOn is NewReadingWriter for a transaction tx begun on
+// conn: full batches use the C-level insert on conn when it is available.
+func newReadingWriterOn(ctx context.Context, conn *sql.Conn, tx *sql.Tx, conflict Conflict) (*ReadingWriter, error) {
+	raw, err := newRawInsert(conn, conflict)
+	if err != nil {
+		return nil, fmt.Errorf("prepare readings insert: %w", err)
+	}
+	if raw == nil {
+		return NewReadingWriter(ctx, tx, conflict)
+	}
+	return &ReadingWriter{tx: tx, conflict: conflict, raw: raw, rows: make([]Reading, 0, bulkRows)}, nil
 }
 
 func insertSQL(c Conflict, n int) string {
@@ -75,6 +97,15 @@ func insertSQL(c Conflict, n int) string {
 
 // Add queues one reading, writing a full batch when one is ready.
 func (w *ReadingWriter) Add(ctx context.Context, r Reading) error {
+	if w.raw != nil {
+		w.rows = append(w.rows, r)
+		w.n++
+		if w.n == bulkRows {
+			k, err := w.raw.exec(ctx, w.rows)
+			return w.done(k, err)
+		}
+		return nil
+	}
 	var q any
 	if r.Qualifier != nil {
 		q = *r.Qualifier
@@ -87,14 +118,25 @@ func (w *ReadingWriter) Add(ctx context.Context, r Reading) error {
 	return nil
 }
 
-// write accounts for one executed batch and empties the queue.
+// write accounts for one batch executed through database/sql.
 func (w *ReadingWriter) write(res sql.Result, err error) error {
+	var k int64
+	if err == nil {
+		k, _ = res.RowsAffected()
+	}
+	return w.done(k, err)
+}
+
+// done accounts for one executed batch of k affected rows and empties the
+// queue.
+func (w *ReadingWriter) done(k int64, err error) error {
 	if err != nil {
 		return fmt.Errorf("insert readings: %w", err)
 	}
-	k, _ := res.RowsAffected()
 	w.stored += k
 	w.buf = w.buf[:0]
+	clear(w.rows) // drop the qualifier strings
+	w.rows = w.rows[:0]
 	w.n = 0
 	return nil
 }
@@ -102,16 +144,47 @@ func (w *ReadingWriter) write(res sql.Result, err error) error {
 // Flush writes any queued rows and releases the statement. It returns the
 // number of rows the inserts affected in total.
 func (w *ReadingWriter) Flush(ctx context.Context) (int64, error) {
-	defer w.full.Close()
 	err := w.Sync(ctx)
+	if cerr := w.Close(); err == nil && cerr != nil {
+		err = fmt.Errorf("insert readings: close: %w", cerr)
+	}
 	return w.stored, err
+}
+
+// Close releases the statement without writing queued rows; it is safe to
+// call more than once and after Flush. A writer made by newReadingWriterOn
+// must be closed before its connection is.
+func (w *ReadingWriter) Close() error {
+	var err error
+	if w.full != nil {
+		err = w.full.Close()
+		w.full = nil
+	}
+	if w.raw != nil {
+		if rerr := w.raw.close(); err == nil {
+			err = rerr
+		}
+	}
+	return err
 }
 
 // Sync writes any queued rows now, so that queries in the same transaction
 // see them; the writer stays usable.
 func (w *ReadingWriter) Sync(ctx context.Context) error {
-	if w.n > 0 {
-		return w.write(w.tx.ExecContext(ctx, insertSQL(w.conflict, w.n), w.buf...))
+	if w.n == 0 {
+		return nil
 	}
-	return nil
+	if w.raw != nil {
+		// A partial batch: its own statement text, through database/sql on
+		// the same connection and transaction.
+		for i := range w.rows {
+			r := &w.rows[i]
+			var q any
+			if r.Qualifier != nil {
+				q = *r.Qualifier
+			}
+			w.buf = append(w.buf, r.SeriesID, r.T, r.Value, q)
+		}
+	}
+	return w.write(w.tx.ExecContext(ctx, insertSQL(w.conflict, w.n), w.buf...))
 }

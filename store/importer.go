@@ -231,11 +231,22 @@ type importBatch struct {
 const rejectsPerInsert = 200
 
 func (s *Store) beginBatch(ctx context.Context, kind string, in *importInput, options any, prog func(Progress)) (*importBatch, error) {
+	return s.beginBatchOn(ctx, nil, kind, in, options, prog)
+}
+
+// beginBatchOn is beginBatch with the transaction on conn (nil: any
+// connection of the pool).
+func (s *Store) beginBatchOn(ctx context.Context, conn *sql.Conn, kind string, in *importInput, options any, prog func(Progress)) (*importBatch, error) {
 	opts, err := json.Marshal(options)
 	if err != nil {
 		return nil, err
 	}
-	tx, err := s.DB.BeginTx(ctx, nil)
+	var tx *sql.Tx
+	if conn != nil {
+		tx, err = conn.BeginTx(ctx, nil)
+	} else {
+		tx, err = s.DB.BeginTx(ctx, nil)
+	}
 	if err != nil {
 		return nil, fmt.Errorf("import %s: begin: %w", in.name, err)
 	}
@@ -641,7 +652,17 @@ func (s *Store) importReadings(ctx context.Context, in *importInput, opt Reading
 	rec := readingsOptionsRecord{StationCol: stationCol, TimeCol: timeCol, ValueCol: valueCol, QualifierCol: qualCol,
 		VariableCol: varCol, Variable: opt.Variable, Unit: opt.Unit, TZ: loc.String(), DecimalComma: opt.DecimalComma,
 		Delimiter: string(rune(delimOf(opt.Delimiter))), OnDuplicate: string(opt.OnDuplicate)}
-	b, err := s.beginBatch(ctx, "readings", in, rec, opt.Progress)
+	// The whole import runs on one connection of the pool, so that the bulk
+	// insert can use SQLite's C API on the connection that owns the
+	// transaction (rawbulk.go). Deferred calls run in reverse: statements
+	// are released, then the transaction ends, then the connection returns
+	// to the pool.
+	conn, err := s.DB.Conn(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("import %s: %w", in.name, err)
+	}
+	defer conn.Close()
+	b, err := s.beginBatchOn(ctx, conn, "readings", in, rec, opt.Progress)
 	if err != nil {
 		return nil, err
 	}
@@ -649,10 +670,10 @@ func (s *Store) importReadings(ctx context.Context, in *importInput, opt Reading
 
 	im := &readingsImporter{importBatch: b, opt: opt, loc: loc, byKey: map[seriesKey]*seriesState{},
 		probes: map[*seriesState][]int64{}, found: map[storedKey]storedVal{}}
-	if err := im.prepare(ctx); err != nil {
+	defer im.closeStmts()
+	if err := im.prepare(ctx, conn); err != nil {
 		return nil, err
 	}
-	defer im.closeStmts()
 
 	// One goroutine reads and parses the file while this one does the
 	// database work; parsed rows pass in chunks, in file order.
@@ -721,13 +742,13 @@ func (s *Store) importReadings(ctx context.Context, in *importInput, opt Reading
 	return &res, nil
 }
 
-func (im *readingsImporter) prepare(ctx context.Context) error {
+func (im *readingsImporter) prepare(ctx context.Context, conn *sql.Conn) error {
 	conflict := ConflictError
 	if im.opt.OnDuplicate == DupReplace {
 		conflict = ConflictReplace
 	}
 	var err error
-	if im.w, err = NewReadingWriter(ctx, im.tx, conflict); err != nil {
+	if im.w, err = newReadingWriterOn(ctx, conn, im.tx, conflict); err != nil {
 		return err
 	}
 	for _, p := range []struct {
@@ -753,6 +774,9 @@ func (im *readingsImporter) prepare(ctx context.Context) error {
 }
 
 func (im *readingsImporter) closeStmts() {
+	if im.w != nil {
+		im.w.Close()
+	}
 	for _, st := range []*sql.Stmt{im.stFindSeries, im.stFindStation, im.stAddStation, im.stAddSeries, im.stRange, im.stSetUnit, im.stProbeRange} {
 		if st != nil {
 			st.Close()
