@@ -189,14 +189,27 @@ func SummarizeSeries(t, y []float64, o stats.SummaryOptions) (s stats.SeriesSumm
 			}
 		}
 	} else {
-		mk, err := stats.MannKendall(y)
-		if err != nil {
-			note("Mann–Kendall: %v", err)
+		// One Mann–Kendall pass and one Sen slope serve the test, the
+		// Hamed–Rao detrending and the Sen interval.
+		mk, mkErr := stats.MannKendall(y)
+		varS := 0.0
+		if mkErr == nil {
+			varS = mk.VarS
+		}
+		sen, senErr := stats.SenSlopeWithVar(t, y, o.Confidence, varS)
+		if mkErr != nil {
+			note("Mann–Kendall: %v", mkErr)
 		} else {
 			s.MKMethod = "mann-kendall/hamed-rao"
 			sv := float64(mk.S)
 			s.MKS, s.MKTau = &sv, fp(mk.Tau)
-			hr, err := stats.HamedRao(t, y, mk, 0)
+			var hr stats.HamedRaoResult
+			var err error
+			if senErr == nil {
+				hr, err = stats.HamedRaoWithSlope(t, y, mk, 0, sen.Slope)
+			} else {
+				hr, err = stats.HamedRao(t, y, mk, 0)
+			}
 			if err != nil {
 				note("Hamed–Rao correction: %v", err)
 			} else {
@@ -209,9 +222,8 @@ func SummarizeSeries(t, y []float64, o stats.SummaryOptions) (s stats.SeriesSumm
 				}
 			}
 		}
-		sen, err := stats.SenSlope(t, y, o.Confidence)
-		if err != nil {
-			note("Sen slope: %v", err)
+		if senErr != nil {
+			note("Sen slope: %v", senErr)
 		} else {
 			s.SenSlopePerYear = fp(sen.Slope * timefmt.SecondsPerYear)
 			s.SenLower = fp(sen.Lower * timefmt.SecondsPerYear)

@@ -193,6 +193,17 @@ func HamedRao(t, y []float64, mk MKResult, maxLag int) (HamedRaoResult, error) {
 	if err != nil {
 		return HamedRaoResult{}, err
 	}
+	return HamedRaoWithSlope(t, y, mk, maxLag, beta)
+}
+
+// HamedRaoWithSlope is HamedRao with the Sen slope β (y per unit of t, the
+// SenMedian of the same t and y) supplied by a caller that has computed it
+// already, e.g. with its confidence interval.
+func HamedRaoWithSlope(t, y []float64, mk MKResult, maxLag int, beta float64) (HamedRaoResult, error) {
+	n := len(y)
+	if n < 3 || len(t) != n {
+		return HamedRaoResult{}, errors.New("the Hamed–Rao correction needs at least 3 values")
+	}
 	x := make([]float64, n)
 	for i := range y {
 		x[i] = y[i] - beta*(t[i]-t[0])

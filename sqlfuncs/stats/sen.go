@@ -687,6 +687,12 @@ func SenSlope(t, y []float64, confidence float64) (SenResult, error) {
 	return senSlopeBlocks(t, y, []int{0, len(t)}, confidence, 0)
 }
 
+// SenSlopeWithVar is SenSlope with the Mann–Kendall Var(S) of y supplied by
+// a caller that has computed it already (0: compute it here).
+func SenSlopeWithVar(t, y []float64, confidence, varS float64) (SenResult, error) {
+	return senSlopeBlocks(t, y, []int{0, len(t)}, confidence, varS)
+}
+
 func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64) (SenResult, error) {
 	n := len(t)
 	if n != len(y) {
