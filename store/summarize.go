@@ -67,6 +67,9 @@ type SummarizeResult struct {
 	Computed int
 	Skipped  int
 	Noted    int // series with notes (irregular times, short record...)
+	// Insufficient counts series whose record was too short for the model
+	// (insufficient_data: only counts and coverage are stored for them).
+	Insufficient int
 	Trending int
 	Elapsed  time.Duration
 }
@@ -215,6 +218,9 @@ func (s *Store) Summarize(ctx context.Context, o SummarizeOptions) (*SummarizeRe
 	for _, sr := range results {
 		if sr.sum.Problem != "" {
 			res.Noted++
+		}
+		if sr.sum.InsufficientData {
+			res.Insufficient++
 		}
 		if sr.trendDetected != nil && *sr.trendDetected {
 			res.Trending++
