@@ -70,8 +70,8 @@ type SummarizeResult struct {
 	// Insufficient counts series whose record was too short for the model
 	// (insufficient_data: only counts and coverage are stored for them).
 	Insufficient int
-	Trending int
-	Elapsed  time.Duration
+	Trending     int
+	Elapsed      time.Duration
 }
 
 // runParameters is what makes two runs comparable for --changed-only; it is
