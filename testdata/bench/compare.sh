@@ -23,10 +23,10 @@
 #   trendsql avg() scan   the same statement through `trendsql query`
 #   trendsql trend+correlogram+LB   trend_slope, correlogram(…, 48) and
 #                      ljung_box(…, 24) for every series in one `trendsql query`
-#   trendsql summarize the full summary run (written to bench.db): with an
-#                      annual cycle when every record spans two years, else
-#                      the non-seasonal summary on the raw readings; the run
-#                      fails if any series was skipped as too short
+#   trendsql summarize the full summary run (written to bench.db) with the
+#                      model of `trendsql bench`'s "summarize" item: no
+#                      seasonal model, every figure on the raw readings; the
+#                      script stops if any series was skipped as too short
 #   pandas+statsmodels testdata/bench/pandas_summary.py on bench.db
 #   numpy              testdata/bench/numpy_summary.py on bench.db
 #
@@ -56,15 +56,6 @@ done
 SCAN="SELECT series_id, avg(value), count(*) FROM readings GROUP BY series_id"
 COMBINED="SELECT series_id, trend_slope(t, value), correlogram(t, value, 48), ljung_box(t, value, 24) FROM readings GROUP BY series_id"
 ROWS=$("$SQLITE3" "$DB" "SELECT count(*) FROM readings")
-# The summary model the data supports (as `trendsql bench` chooses it): an
-# annual cycle only when every record spans two years, else the
-# non-seasonal summary on the raw readings.
-SPAN=$("$SQLITE3" "$DB" "SELECT min(s) FROM (SELECT max(t) - min(t) AS s FROM readings GROUP BY series_id)")
-if [ "$SPAN" -ge 63115200 ]; then
-	SUMMARY_MODEL="--period 1y --harmonics 2 --seasons 12"
-else
-	SUMMARY_MODEL=""
-fi
 
 has_cmd() { "$TRENDSQL" "$1" --help >/dev/null 2>&1; }
 has_fn() { "$TRENDSQL" functions 2>/dev/null | grep -q "^$1("; }
@@ -118,8 +109,7 @@ while [ "$rep" -le "$REPS" ]; do
 		run "trendsql trend+correlogram(48)+ljung_box(24)" "$TRENDSQL" query --db "$DB" --format csv "$COMBINED"
 	fi
 	if [ $HAVE_SUMMARIZE = yes ]; then
-		# shellcheck disable=SC2086 # SUMMARY_MODEL is a list of flags
-		run "trendsql summarize" "$TRENDSQL" summarize --db "$DB" --quiet $SUMMARY_MODEL --max-lag 48 --lb-lags 24
+		run "trendsql summarize" "$TRENDSQL" summarize --db "$DB" --quiet --max-lag 48 --lb-lags 24
 		short=$("$SQLITE3" "$DB" "SELECT count(*) FROM series_summaries WHERE run_id = (SELECT max(id) FROM summary_runs) AND insufficient_data")
 		[ "$short" = 0 ] || { echo "$0: the summary run skipped $short series (record too short for the model)" >&2; exit 1; }
 	fi
