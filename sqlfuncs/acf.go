@@ -74,10 +74,10 @@ package sqlfuncs
 
 import (
 	"database/sql/driver"
-	"encoding/json"
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 
 	"trendsql/sqlfuncs/stats"
 	"trendsql/sqlfuncs/timefmt"
@@ -85,17 +85,6 @@ import (
 
 // maxLagArg bounds lag arguments.
 const maxLagArg = 1 << 20
-
-// acfNum is a float rendered as a JSON number, or null when NaN/Inf.
-type acfNum float64
-
-func (v acfNum) MarshalJSON() ([]byte, error) {
-	f := float64(v)
-	if math.IsNaN(f) || math.IsInf(f, 0) {
-		return []byte("null"), nil
-	}
-	return strconv.AppendFloat(nil, f, 'g', -1, 64), nil
-}
 
 // lagOptions are the parsed trailing arguments of a lag function.
 type lagOptions struct {
@@ -182,33 +171,6 @@ func lagValue(fn string, acf bool) func(r Rows, opts []driver.Value) (driver.Val
 	}
 }
 
-type correlogramLagJSON struct {
-	Lag   int    `json:"lag"`
-	Pairs int    `json:"pairs"`
-	ACVF  acfNum `json:"acvf"`
-	ACF   acfNum `json:"acf"`
-	PACF  acfNum `json:"pacf"`
-	Band  acfNum `json:"band"`
-	QLB   acfNum `json:"q_lb"`
-	DFLB  int    `json:"df_lb"`
-	PLB   acfNum `json:"p_lb"`
-}
-
-type correlogramJSON struct {
-	N            int                  `json:"n"`
-	NSlots       int                  `json:"n_slots"`
-	MissingSlots int                  `json:"missing_slots"`
-	StepS        *acfNum              `json:"step_s"`
-	Step         *string              `json:"step"`
-	StepInferred bool                 `json:"step_inferred"`
-	TFirst       string               `json:"t_first"`
-	Mean         acfNum               `json:"mean"`
-	ACVF0        acfNum               `json:"acvf0"`
-	Fitdf        int                  `json:"fitdf"`
-	Band         acfNum               `json:"band"`
-	Lags         []correlogramLagJSON `json:"lags"`
-}
-
 func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	const fn = "correlogram"
 	maxLag, err := argInt(fn, "max_lag", opts[0], 0, maxLagArg)
@@ -229,44 +191,49 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 		return nil, err
 	}
 	c := stats.ComputeCorrelogram(x, int(maxLag), o.fitdf)
-	out := correlogramJSON{
-		N: c.N, NSlots: c.NSlots, MissingSlots: c.Missing,
-		StepInferred: o.step == 0,
-		TFirst:       isoTime(r.T[0]),
-		Mean:         acfNum(c.Mean), ACVF0: acfNum(c.ACVF0), Fitdf: o.fitdf,
-		Band: acfNum(1.96 / math.Sqrt(float64(c.N))),
-		Lags: make([]correlogramLagJSON, 0, maxLag),
-	}
+	band := 1.96 / math.Sqrt(float64(c.N))
+	var out jsonObj
+	out.int("n", int64(c.N))
+	out.int("n_slots", int64(c.NSlots))
+	out.int("missing_slots", int64(c.Missing))
 	if g.Step > 0 {
-		s := acfNum(g.Step)
-		txt := stats.FormatStep(g.Step)
-		out.StepS, out.Step = &s, &txt
+		out.num("step_s", g.Step)
+		out.str("step", stats.FormatStep(g.Step))
+	} else {
+		out.raw("step_s", "null")
+		out.raw("step", "null")
 	}
+	out.raw("step_inferred", strconv.FormatBool(o.step == 0))
+	out.str("t_first", isoTime(r.T[0]))
+	out.num("mean", c.Mean)
+	out.num("acvf0", c.ACVF0)
+	out.int("fitdf", int64(o.fitdf))
+	out.num("band", band)
+	var lags strings.Builder
+	lags.WriteByte('[')
 	for h := 1; h <= int(maxLag); h++ {
-		row := correlogramLagJSON{Lag: h, DFLB: h - o.fitdf, ACVF: acfNum(math.NaN()), ACF: acfNum(math.NaN()), PACF: acfNum(math.NaN()), Band: out.Band, QLB: acfNum(math.NaN()), PLB: acfNum(math.NaN())}
+		l := stats.CorrelogramLag{ACVF: math.NaN(), ACF: math.NaN(), PACF: math.NaN(), LBQ: math.NaN(), LBP: math.NaN()}
 		if h <= len(c.Lags) {
-			l := c.Lags[h-1]
-			row.Pairs, row.ACVF, row.ACF, row.PACF, row.QLB, row.PLB = l.Pairs, acfNum(l.ACVF), acfNum(l.ACF), acfNum(l.PACF), acfNum(l.LBQ), acfNum(l.LBP)
+			l = c.Lags[h-1]
 		}
-		out.Lags = append(out.Lags, row)
+		var row jsonObj
+		row.int("lag", int64(h))
+		row.int("pairs", int64(l.Pairs))
+		row.num("acvf", l.ACVF)
+		row.num("acf", l.ACF)
+		row.num("pacf", l.PACF)
+		row.num("band", band)
+		row.num("q_lb", l.LBQ)
+		row.int("df_lb", int64(h-o.fitdf))
+		row.num("p_lb", l.LBP)
+		if h > 1 {
+			lags.WriteByte(',')
+		}
+		lags.WriteString(row.String())
 	}
-	b, err := json.Marshal(out)
-	if err != nil {
-		return nil, fmt.Errorf("%s: %v", fn, err)
-	}
-	return string(b), nil
-}
-
-type portmanteauJSON struct {
-	Q            acfNum `json:"q"`
-	DF           int    `json:"df"`
-	P            acfNum `json:"p"`
-	N            int    `json:"n"`
-	Lags         int    `json:"lags"`
-	Fitdf        int    `json:"fitdf"`
-	NSlots       int    `json:"n_slots"`
-	MissingSlots int    `json:"missing_slots"`
-	Step         string `json:"step"`
+	lags.WriteByte(']')
+	out.raw("lags", lags.String())
+	return out.String(), nil
 }
 
 // portmanteauValue computes Ljung–Box or Box–Pierce; scalarP selects the
@@ -303,12 +270,17 @@ func portmanteauValue(fn string, boxPierce, scalarP bool) func(r Rows, opts []dr
 		if scalarP {
 			return nullIfNaN(res.P), nil
 		}
-		b, err := json.Marshal(portmanteauJSON{Q: acfNum(res.Q), DF: res.DF, P: acfNum(res.P), N: res.N, Lags: int(lags), Fitdf: int(fitdf),
-			NSlots: g.NSlots, MissingSlots: g.Missing, Step: stats.FormatStep(g.Step)})
-		if err != nil {
-			return nil, fmt.Errorf("%s: %v", fn, err)
-		}
-		return string(b), nil
+		var out jsonObj
+		out.num("q", res.Q)
+		out.int("df", int64(res.DF))
+		out.num("p", res.P)
+		out.int("n", int64(res.N))
+		out.int("lags", lags)
+		out.int("fitdf", fitdf)
+		out.int("n_slots", int64(g.NSlots))
+		out.int("missing_slots", int64(g.Missing))
+		out.str("step", stats.FormatStep(g.Step))
+		return out.String(), nil
 	}
 }
 
