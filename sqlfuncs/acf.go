@@ -77,7 +77,6 @@ import (
 	"fmt"
 	"math"
 	"strconv"
-	"strings"
 
 	"trendsql/sqlfuncs/stats"
 	"trendsql/sqlfuncs/timefmt"
@@ -209,14 +208,15 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	out.num("acvf0", c.ACVF0)
 	out.int("fitdf", int64(o.fitdf))
 	out.num("band", band)
-	var lags strings.Builder
-	lags.WriteByte('[')
+	lags := make([]byte, 0, 160*int(maxLag)+2)
+	lags = append(lags, '[')
+	var row jsonObj
 	for h := 1; h <= int(maxLag); h++ {
 		l := stats.CorrelogramLag{ACVF: math.NaN(), ACF: math.NaN(), PACF: math.NaN(), LBQ: math.NaN(), LBP: math.NaN()}
 		if h <= len(c.Lags) {
 			l = c.Lags[h-1]
 		}
-		var row jsonObj
+		row.b = row.b[:0]
 		row.int("lag", int64(h))
 		row.int("pairs", int64(l.Pairs))
 		row.num("acvf", l.ACVF)
@@ -227,12 +227,12 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 		row.int("df_lb", int64(h-o.fitdf))
 		row.num("p_lb", l.LBP)
 		if h > 1 {
-			lags.WriteByte(',')
+			lags = append(lags, ',')
 		}
-		lags.WriteString(row.String())
+		lags = append(append(lags, row.b...), '}')
 	}
-	lags.WriteByte(']')
-	out.raw("lags", lags.String())
+	lags = append(lags, ']')
+	out.raw("lags", string(lags))
 	return out.String(), nil
 }
 

@@ -13,67 +13,72 @@ import (
 	"trendsql/sqlfuncs/timefmt"
 )
 
-// jsonObj writes a JSON object with keys in insertion order.
+// jsonObj writes a JSON object with keys in insertion order. Numbers and
+// keys are appended to one byte buffer (no string per number), since a
+// correlogram result holds hundreds of them per group.
 type jsonObj struct {
-	b strings.Builder
+	b []byte
 }
 
 func (o *jsonObj) key(k string) {
-	if o.b.Len() == 0 {
-		o.b.WriteByte('{')
+	if len(o.b) == 0 {
+		o.b = append(o.b, '{')
 	} else {
-		o.b.WriteByte(',')
+		o.b = append(o.b, ',')
 	}
-	o.b.WriteString(strconv.Quote(k))
-	o.b.WriteByte(':')
+	o.b = strconv.AppendQuote(o.b, k)
+	o.b = append(o.b, ':')
 }
 
 // jsonNum renders one number (null for NaN and infinities).
-func jsonNum(v float64) string {
+func jsonNum(v float64) string { return string(appendJSONNum(nil, v)) }
+
+// appendJSONNum appends the rendering of jsonNum to b.
+func appendJSONNum(b []byte, v float64) []byte {
 	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return "null"
+		return append(b, "null"...)
 	}
 	if v == math.Trunc(v) && math.Abs(v) < 1e15 {
-		return strconv.FormatInt(int64(v), 10)
+		return strconv.AppendInt(b, int64(v), 10)
 	}
-	return strconv.FormatFloat(v, 'g', -1, 64)
+	return strconv.AppendFloat(b, v, 'g', -1, 64)
 }
 
-func (o *jsonObj) num(k string, v float64) { o.key(k); o.b.WriteString(jsonNum(v)) }
-func (o *jsonObj) int(k string, v int64)   { o.key(k); o.b.WriteString(strconv.FormatInt(v, 10)) }
-func (o *jsonObj) str(k, v string)         { o.key(k); o.b.WriteString(strconv.Quote(v)) }
-func (o *jsonObj) raw(k, v string)         { o.key(k); o.b.WriteString(v) }
+func (o *jsonObj) num(k string, v float64) { o.key(k); o.b = appendJSONNum(o.b, v) }
+func (o *jsonObj) int(k string, v int64)   { o.key(k); o.b = strconv.AppendInt(o.b, v, 10) }
+func (o *jsonObj) str(k, v string)         { o.key(k); o.b = strconv.AppendQuote(o.b, v) }
+func (o *jsonObj) raw(k, v string)         { o.key(k); o.b = append(o.b, v...) }
 
 func (o *jsonObj) nums(k string, v []float64) {
 	o.key(k)
-	o.b.WriteByte('[')
+	o.b = append(o.b, '[')
 	for i, x := range v {
 		if i > 0 {
-			o.b.WriteByte(',')
+			o.b = append(o.b, ',')
 		}
-		o.b.WriteString(jsonNum(x))
+		o.b = appendJSONNum(o.b, x)
 	}
-	o.b.WriteByte(']')
+	o.b = append(o.b, ']')
 }
 
 func (o *jsonObj) strs(k string, v []string) {
 	o.key(k)
-	o.b.WriteByte('[')
+	o.b = append(o.b, '[')
 	for i, x := range v {
 		if i > 0 {
-			o.b.WriteByte(',')
+			o.b = append(o.b, ',')
 		}
-		o.b.WriteString(strconv.Quote(x))
+		o.b = strconv.AppendQuote(o.b, x)
 	}
-	o.b.WriteByte(']')
+	o.b = append(o.b, ']')
 }
 
 // String closes the object; an object with no keys is {}.
 func (o *jsonObj) String() string {
-	if o.b.Len() == 0 {
+	if len(o.b) == 0 {
 		return "{}"
 	}
-	return o.b.String() + "}"
+	return string(append(o.b, '}'))
 }
 
 // isoTime renders unix seconds as ISO 8601 UTC, keeping a fractional part
