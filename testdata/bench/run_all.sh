@@ -9,10 +9,10 @@
 # series × 10000 hourly readings, 3 interleaved repetitions), OUTDIR/compare.md
 # (outside comparisons on the same files, compare.sh; the pandas script runs
 # PANDAS_REPS times, default 1, as it takes minutes), OUTDIR/scaling.md
-# (scaling.sh; SCALING_REPS repetitions, default 1), OUTDIR/n100k.txt (one
+# (scaling.sh; SCALING_REPS repetitions, default 5), OUTDIR/n100k.txt (one
 # series of 100,000 readings), OUTDIR/adapter-on.txt and adapter-off.txt
 # (1M rows with and without the C-level adapter) and OUTDIR/machine.txt.
-# Needs about 1.5 GB of disk and, on a 2-core machine, about 30 minutes. Run
+# Needs about 1.5 GB of disk and, on a 2-core machine, about 25 minutes. Run
 # it on an otherwise idle machine.
 set -eu
 OUT=${1:-bench-results}
@@ -38,6 +38,6 @@ mkdir -p "$OUT"
 # The C-level adapter against the driver's public API, same size, same flags.
 "$TRENDSQL" bench --stations 100 --readings 10000 --reps 3 > "$OUT/adapter-on.txt"
 TRENDSQL_FASTPATH=off "$TRENDSQL" bench --stations 100 --readings 10000 --reps 3 > "$OUT/adapter-off.txt"
-"$HERE/scaling.sh" "$OUT" "${SCALING_REPS:-1}" > "$OUT/scaling.md"
+"$HERE/scaling.sh" "$OUT" "${SCALING_REPS:-5}" > "$OUT/scaling.md"
 echo "loadavg after: $(cat /proc/loadavg)" >> "$OUT/machine.txt"
 echo "results in $OUT" >&2
