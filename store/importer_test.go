@@ -62,22 +62,11 @@ func impSnapshot(t *testing.T, s *Store) string {
 		if err != nil {
 			t.Fatal(err)
 		}
-		cols, _ := rows.Columns()
-		n := 0
-		for rows.Next() {
-			vals := make([]any, len(cols))
-			ptrs := make([]any, len(cols))
-			for i := range vals {
-				ptrs[i] = &vals[i]
-			}
-			if err := rows.Scan(ptrs...); err != nil {
-				t.Fatal(err)
-			}
+		all := scanAll(t, rows)
+		for _, vals := range all {
 			fmt.Fprintf(&b, "%s%v\n", tab, vals)
-			n++
 		}
-		rows.Close()
-		fmt.Fprintf(&b, "%s count %d\n", tab, n)
+		fmt.Fprintf(&b, "%s count %d\n", tab, len(all))
 	}
 	return b.String()
 }

@@ -429,19 +429,9 @@ func rawImportState(t *testing.T, s *Store) string {
 		if err != nil {
 			t.Fatal(err)
 		}
-		cols, _ := rows.Columns()
-		for rows.Next() {
-			vals := make([]any, len(cols))
-			ptrs := make([]any, len(cols))
-			for i := range vals {
-				ptrs[i] = &vals[i]
-			}
-			if err := rows.Scan(ptrs...); err != nil {
-				t.Fatal(err)
-			}
+		for _, vals := range scanAll(t, rows) {
 			fmt.Fprintf(&b, "%v\n", vals)
 		}
-		rows.Close()
 	}
 	return b.String()
 }
