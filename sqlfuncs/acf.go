@@ -208,10 +208,9 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	out.num("acvf0", c.ACVF0)
 	out.int("fitdf", int64(o.fitdf))
 	out.num("band", band)
-	lags := make([]byte, 0, 160*int(maxLag)+2)
-	lags = append(lags, '[')
 	var row jsonObj
-	for h := 1; h <= int(maxLag); h++ {
+	out.array("lags", int(maxLag), func(b []byte, i int) []byte {
+		h := i + 1
 		l := stats.CorrelogramLag{ACVF: math.NaN(), ACF: math.NaN(), PACF: math.NaN(), LBQ: math.NaN(), LBP: math.NaN()}
 		if h <= len(c.Lags) {
 			l = c.Lags[h-1]
@@ -226,13 +225,8 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 		row.num("q_lb", l.LBQ)
 		row.int("df_lb", int64(h-o.fitdf))
 		row.num("p_lb", l.LBP)
-		if h > 1 {
-			lags = append(lags, ',')
-		}
-		lags = append(append(lags, row.b...), '}')
-	}
-	lags = append(lags, ']')
-	out.raw("lags", string(lags))
+		return append(append(b, row.b...), '}')
+	})
 	return out.String(), nil
 }
 

@@ -338,24 +338,17 @@ func fastRecover(tls *libc.TLS, ctx uintptr) {
 }
 
 func fastRegrStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
-	defer fastRecover(tls, ctx)
-	y, x, ok, err := fastPair(tls, ctx, argc, argv)
-	if err != nil {
-		fastError(tls, ctx, err)
-		return
-	}
-	c := fastState(tls, ctx, true)
-	if c == nil {
-		sqlite3.Xsqlite3_result_error_nomem(tls, ctx)
-		return
-	}
-	if !ok {
-		return
-	}
-	c.addPair(y, x) // regr.go's update, without the argument boxing
+	fastRegrRow(tls, ctx, argc, argv, false)
 }
 
 func fastRegrInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
+	fastRegrRow(tls, ctx, argc, argv, true)
+}
+
+// fastRegrRow adds one row to the group's co-moments (remove: takes the
+// oldest row of a window frame out), with regr.go's update and without the
+// argument boxing.
+func fastRegrRow(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr, remove bool) {
 	defer fastRecover(tls, ctx)
 	y, x, ok, err := fastPair(tls, ctx, argc, argv)
 	if err != nil {
@@ -367,10 +360,13 @@ func fastRegrInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
 		sqlite3.Xsqlite3_result_error_nomem(tls, ctx)
 		return
 	}
-	if !ok {
-		return
+	switch {
+	case !ok:
+	case remove:
+		c.removePair(y, x)
+	default:
+		c.addPair(y, x)
 	}
-	c.removePair(y, x)
 }
 
 // fastRegrResult computes the value with the public function's result func

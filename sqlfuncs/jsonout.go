@@ -50,25 +50,22 @@ func (o *jsonObj) str(k, v string)         { o.key(k); o.b = strconv.AppendQuote
 func (o *jsonObj) raw(k, v string)         { o.key(k); o.b = append(o.b, v...) }
 
 func (o *jsonObj) nums(k string, v []float64) {
-	o.key(k)
-	o.b = append(o.b, '[')
-	for i, x := range v {
-		if i > 0 {
-			o.b = append(o.b, ',')
-		}
-		o.b = appendJSONNum(o.b, x)
-	}
-	o.b = append(o.b, ']')
+	o.array(k, len(v), func(b []byte, i int) []byte { return appendJSONNum(b, v[i]) })
 }
 
 func (o *jsonObj) strs(k string, v []string) {
+	o.array(k, len(v), func(b []byte, i int) []byte { return strconv.AppendQuote(b, v[i]) })
+}
+
+// array writes the key and a JSON array of n items rendered by item.
+func (o *jsonObj) array(k string, n int, item func(b []byte, i int) []byte) {
 	o.key(k)
 	o.b = append(o.b, '[')
-	for i, x := range v {
+	for i := 0; i < n; i++ {
 		if i > 0 {
 			o.b = append(o.b, ',')
 		}
-		o.b = strconv.AppendQuote(o.b, x)
+		o.b = item(o.b, i)
 	}
 	o.b = append(o.b, ']')
 }

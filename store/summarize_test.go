@@ -152,22 +152,14 @@ func storedRow(t *testing.T, db *sql.DB, run, series int64) map[string]any {
 	if err != nil {
 		t.Fatal(err)
 	}
-	defer rows.Close()
 	cols, _ := rows.Columns()
-	if !rows.Next() {
+	all := scanAll(t, rows)
+	if len(all) == 0 {
 		t.Fatalf("no series_summaries row for run %d, series %d", run, series)
-	}
-	vals := make([]any, len(cols))
-	ptrs := make([]any, len(cols))
-	for i := range vals {
-		ptrs[i] = &vals[i]
-	}
-	if err := rows.Scan(ptrs...); err != nil {
-		t.Fatal(err)
 	}
 	out := map[string]any{}
 	for i, c := range cols {
-		out[c] = vals[i]
+		out[c] = all[0][i]
 	}
 	return out
 }
