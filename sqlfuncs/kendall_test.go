@@ -22,6 +22,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"trendsql/sqlfuncs/internal/kendallref"
 )
 
 func openKendallStore(tb testing.TB) *sql.DB {
@@ -72,24 +74,24 @@ type kRefCase struct{ t, y []float64 }
 
 func kRefPath(name string) string { return filepath.Join("..", "testdata", "reference", name) }
 
-func loadKCases(t *testing.T) map[string]kRefCase {
-	b, err := os.ReadFile(kRefPath("kendall_cases.txt"))
+// loadKRef reads the reference files through kendallref (shared with the
+// stats package's tests) and returns the input series by name.
+func loadKRef(t *testing.T) (kendallref.Py, kendallref.R, map[string]kRefCase) {
+	t.Helper()
+	py, r, list, err := kendallref.Load(kRefPath(""))
 	if err != nil {
 		t.Fatal(err)
 	}
 	out := map[string]kRefCase{}
-	for _, line := range strings.Split(strings.TrimSpace(string(b)), "\n") {
-		p := strings.Split(line, "|")
-		var c kRefCase
-		for i, f := range []*[]float64{&c.t, &c.y} {
-			for _, s := range strings.Fields(p[i+1]) {
-				v, _ := strconv.ParseFloat(s, 64)
-				*f = append(*f, v)
-			}
-		}
-		out[p[0]] = c
+	for _, c := range list {
+		out[c.Name] = kRefCase{t: c.T, y: c.Y}
 	}
-	return out
+	return py, r, out
+}
+
+func loadKCases(t *testing.T) map[string]kRefCase {
+	_, _, cases := loadKRef(t)
+	return cases
 }
 
 func jsonMap(t *testing.T, v any) map[string]any {
@@ -132,49 +134,14 @@ func TestKendallSQLReference(t *testing.T) {
 	for name, c := range cases {
 		insertK(t, db, name, c.t, nil, anys(c.y))
 	}
-	var py struct {
-		MK []struct {
-			Name string   `json:"name"`
-			S    float64  `json:"s"`
-			VarS float64  `json:"var_s"`
-			Tau  *float64 `json:"tau"`
-		} `json:"mk"`
-		Sen []struct {
-			Name       string  `json:"name"`
-			Confidence float64 `json:"confidence"`
-			Slope      float64 `json:"slope_per_year"`
-			Intercept  float64 `json:"intercept"`
-			Lower      float64 `json:"lower"`
-			Upper      float64 `json:"upper"`
-		} `json:"sen"`
-		HamedRao []struct {
-			Name   string  `json:"name"`
-			Factor float64 `json:"factor"`
-			P      float64 `json:"p_corrected"`
-		} `json:"hamed_rao"`
-	}
-	var r struct {
-		Cases []struct {
-			Name      string
-			Z, P, Tau float64
-		} `json:"cases"`
-	}
-	for f, v := range map[string]any{"kendall_ref.json": &py, "kendall_ref_r.json": &r} {
-		b, err := os.ReadFile(kRefPath(f))
-		if err != nil {
-			t.Fatal(err)
-		}
-		if err := json.Unmarshal(b, v); err != nil {
-			t.Fatal(err)
-		}
-	}
+	py, r, _ := loadKRef(t)
 	if len(py.MK) < 14 || len(py.Sen) < 39 || len(r.Cases) < 12 {
 		t.Fatal("reference files look truncated")
 	}
 	for _, ref := range py.MK {
 		m := jsonMap(t, queryVal(t, db, `SELECT mann_kendall(t, y) FROM kobs WHERE g = ?`, ref.Name))
 		// numpy O(n²) definition (kendall_ref.py)
-		if num(t, m, "s") != ref.S || !kClose(num(t, m, "var_s"), ref.VarS, 1e-12) {
+		if num(t, m, "s") != float64(ref.S) || !kClose(num(t, m, "var_s"), ref.VarS, 1e-12) {
 			t.Errorf("%s: %v; reference S=%v var=%v", ref.Name, m, ref.S, ref.VarS)
 		}
 		// scipy 1.10.1 kendalltau(t, y) tau-b
@@ -198,19 +165,19 @@ func TestKendallSQLReference(t *testing.T) {
 	for _, ref := range py.Sen {
 		m := jsonMap(t, queryVal(t, db, `SELECT sen_slope(t, y, ?) FROM kobs WHERE g = ?`, ref.Confidence, ref.Name))
 		// scipy 1.10.1 theilslopes(y, x=t/31557600, alpha=confidence)
-		for k, want := range map[string]float64{"slope_per_year": ref.Slope, "lower": ref.Lower, "upper": ref.Upper} {
+		for k, want := range map[string]float64{"slope_per_year": ref.SlopePerYear, "lower": ref.Lower, "upper": ref.Upper} {
 			if got := num(t, m, k); !kClose(got, want, 1e-9) && math.Abs(got-want) > 1e-12 {
 				t.Errorf("%s conf %v: %s = %v, scipy %v", ref.Name, ref.Confidence, k, got, want)
 			}
 		}
-		scale := math.Abs(num(t, m, "median_y")) + math.Abs(ref.Slope*1.6e9/31557600)
+		scale := math.Abs(num(t, m, "median_y")) + math.Abs(ref.SlopePerYear*1.6e9/31557600)
 		if got := num(t, m, "intercept"); math.Abs(got-ref.Intercept) > 1e-9*scale {
 			t.Errorf("%s: intercept %v, scipy %v", ref.Name, got, ref.Intercept)
 		}
 		if ref.Confidence == 0.95 {
 			s := queryVal(t, db, `SELECT sen_slope_per_year(t, y) FROM kobs WHERE g = ?`, ref.Name).(float64)
-			if !kClose(s, ref.Slope, 1e-9) && math.Abs(s-ref.Slope) > 1e-12 {
-				t.Errorf("%s: sen_slope_per_year %v, scipy %v", ref.Name, s, ref.Slope)
+			if !kClose(s, ref.SlopePerYear, 1e-9) && math.Abs(s-ref.SlopePerYear) > 1e-12 {
+				t.Errorf("%s: sen_slope_per_year %v, scipy %v", ref.Name, s, ref.SlopePerYear)
 			}
 		}
 	}
@@ -228,70 +195,35 @@ func TestKendallSQLReference(t *testing.T) {
 		}
 		m := jsonMap(t, queryVal(t, db, `SELECT mann_kendall(t, y, 'correct=hamed-rao') FROM kobs WHERE g = ?`, ref.Name))
 		// kendall_ref.py: published formula with scipy/statsmodels building blocks
-		if !kClose(num(t, m, "correction_factor"), ref.Factor, 1e-9) || !kClose(num(t, m, "p_corrected"), ref.P, 1e-7) {
-			t.Errorf("%s: %v; reference factor %v p %v", ref.Name, m, ref.Factor, ref.P)
+		if !kClose(num(t, m, "correction_factor"), ref.Factor, 1e-9) || !kClose(num(t, m, "p_corrected"), ref.PCorrected, 1e-7) {
+			t.Errorf("%s: %v; reference factor %v p %v", ref.Name, m, ref.Factor, ref.PCorrected)
 		}
 	}
 }
 
 func TestKendallSQLSeasonalPettittCross(t *testing.T) {
 	db := openKendallStore(t)
-	b, err := os.ReadFile(kRefPath("kendall_ref.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	var py struct {
-		Seasonal []struct {
-			Name    string    `json:"name"`
-			Seasons int       `json:"seasons"`
-			T       []float64 `json:"t"`
-			Y       []float64 `json:"y"`
-			S       float64   `json:"s"`
-			P       float64   `json:"p_global_indep"`
-			PDep    float64   `json:"p_global_dep"`
-			Slope   float64   `json:"slope_per_year"`
-		} `json:"seasonal"`
-		Pettitt []struct {
-			Name string    `json:"name"`
-			T    []float64 `json:"t"`
-			Y    []float64 `json:"y"`
-			K    float64   `json:"k"`
-			U    float64   `json:"u"`
-			P    float64   `json:"p"`
-		} `json:"pettitt"`
-		CCF []struct {
-			Name   string    `json:"name"`
-			T      []float64 `json:"t"`
-			X      []float64 `json:"x"`
-			Y      []float64 `json:"y"`
-			MaxLag int       `json:"max_lag"`
-			YX     []float64 `json:"ccf_y_x"`
-			XY     []float64 `json:"ccf_x_y"`
-		} `json:"ccf"`
-	}
-	if err := json.Unmarshal(b, &py); err != nil {
-		t.Fatal(err)
-	}
+	py, _, _ := loadKRef(t)
 	for _, ref := range py.Seasonal {
 		insertK(t, db, ref.Name, ref.T, nil, anys(ref.Y))
 		m := jsonMap(t, queryVal(t, db, `SELECT seasonal_kendall(t, y, '1y', ?) FROM kobs WHERE g = ?`, ref.Seasons, ref.Name))
 		// scipy 1.10.1 mstats.kendalltau_seasonal: global p (indep); numpy S and slope
-		if num(t, m, "s") != ref.S || !kClose(num(t, m, "p"), ref.P, 1e-7) || !kClose(num(t, m, "slope_per_year"), ref.Slope, 1e-9) {
-			t.Errorf("%s: %v; reference S=%v p=%v slope=%v", ref.Name, m, ref.S, ref.P, ref.Slope)
+		if num(t, m, "s") != float64(ref.S) || !kClose(num(t, m, "p"), ref.PGlobalIndep, 1e-7) || !kClose(num(t, m, "slope_per_year"), ref.SlopePerYear, 1e-9) {
+			t.Errorf("%s: %v; reference S=%v p=%v slope=%v", ref.Name, m, ref.S, ref.PGlobalIndep, ref.SlopePerYear)
 		}
 		// scipy 1.10.1 mstats.kendalltau_seasonal "global p-value (dep)"
-		if !kClose(num(t, m, "p_dependent"), ref.PDep, 1e-7) || m["dependent_note"] != nil {
-			t.Errorf("%s: p_dependent %v (%v), mstats %v", ref.Name, m["p_dependent"], m["dependent_note"], ref.PDep)
+		if !kClose(num(t, m, "p_dependent"), ref.PGlobalDep, 1e-7) || m["dependent_note"] != nil {
+			t.Errorf("%s: p_dependent %v (%v), mstats %v", ref.Name, m["p_dependent"], m["dependent_note"], ref.PGlobalDep)
 		}
 	}
 	for _, ref := range py.Pettitt {
 		insertK(t, db, ref.Name, ref.T, nil, anys(ref.Y))
 		m := jsonMap(t, queryVal(t, db, `SELECT pettitt(t, y) FROM kobs WHERE g = ?`, ref.Name))
 		// numpy double-sum definition (kendall_ref.py)
-		if num(t, m, "k") != ref.K || num(t, m, "u") != ref.U || !kClose(num(t, m, "p"), ref.P, 1e-9) {
+		if num(t, m, "k") != float64(ref.K) || num(t, m, "u") != ref.U || !kClose(num(t, m, "p"), ref.P, 1e-9) {
 			t.Errorf("%s: %v; reference k=%v u=%v p=%v", ref.Name, m, ref.K, ref.U, ref.P)
 		}
-		k := int(ref.K)
+		k := ref.K
 		if m["t_change"] != fmtUTC(ref.T[k-1]) || m["t_after"] != fmtUTC(ref.T[k]) {
 			t.Errorf("%s: t_change %v t_after %v", ref.Name, m["t_change"], m["t_after"])
 		}
@@ -299,9 +231,9 @@ func TestKendallSQLSeasonalPettittCross(t *testing.T) {
 	for _, ref := range py.CCF {
 		insertK(t, db, ref.Name, ref.T, anys(ref.X), anys(ref.Y))
 		for h := -ref.MaxLag; h <= ref.MaxLag; h++ {
-			want := ref.YX[max(h, 0)]
+			want := ref.CcfYX[max(h, 0)]
 			if h < 0 {
-				want = ref.XY[-h]
+				want = ref.CcfXY[-h]
 			}
 			// statsmodels 0.13.5 ccf(y, x, adjusted=False)[h] / ccf(x, y, adjusted=False)[−h]
 			got := queryVal(t, db, `SELECT cross_corr(t, x, y, ?) FROM kobs WHERE g = ?`, h, ref.Name).(float64)
@@ -317,9 +249,9 @@ func TestKendallSQLSeasonalPettittCross(t *testing.T) {
 		for _, l := range lags {
 			lm := l.(map[string]any)
 			h := int(lm["lag"].(float64))
-			want := ref.YX[max(h, 0)]
+			want := ref.CcfYX[max(h, 0)]
 			if h < 0 {
-				want = ref.XY[-h]
+				want = ref.CcfXY[-h]
 			}
 			if !kClose(lm["ccf"].(float64), want, 1e-9) {
 				t.Errorf("%s correlogram lag %d: %v, statsmodels %v", ref.Name, h, lm["ccf"], want)
@@ -584,24 +516,7 @@ func TestKendallDocExamples(t *testing.T) {
 // against R 4.2.2 ccf(y, x, lag.max = L, na.action = na.pass)
 // (testdata/reference/kendall_ref_r.json, kendall_ref.R).
 func TestCrossCorrSQLMissingSlots(t *testing.T) {
-	b, err := os.ReadFile(kRefPath("kendall_ref_r.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	var r struct {
-		CCF []struct {
-			Name   string    `json:"name"`
-			Day    []float64 `json:"day"`
-			X      []float64 `json:"x"`
-			Y      []float64 `json:"y"`
-			MaxLag int       `json:"max_lag"`
-			Lags   []float64 `json:"lags"`
-			CcfYX  []float64 `json:"ccf_y_x"`
-		} `json:"ccf"`
-	}
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatal(err)
-	}
+	_, r, _ := loadKRef(t)
 	if len(r.CCF) < 2 {
 		t.Fatal("reference file lacks ccf cases")
 	}

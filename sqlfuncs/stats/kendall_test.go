@@ -8,102 +8,20 @@ package stats
 // relative for exact quantities, 1e-7 relative for p-values.
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"path/filepath"
 	"testing"
 
+	"trendsql/sqlfuncs/internal/kendallref"
 	"trendsql/sqlfuncs/timefmt"
 )
 
-type kendallRef struct {
-	Versions map[string]string `json:"versions"`
-	MK       []struct {
-		Name string   `json:"name"`
-		S    int64    `json:"s"`
-		VarS float64  `json:"var_s"`
-		Tau  *float64 `json:"tau"`
-	} `json:"mk"`
-	Sen []struct {
-		Name                    string  `json:"name"`
-		Confidence              float64 `json:"confidence"`
-		SlopePerYear            float64 `json:"slope_per_year"`
-		Intercept, Lower, Upper float64
-	} `json:"sen"`
-	HamedRao []struct {
-		Name          string  `json:"name"`
-		S             int64   `json:"s"`
-		VarS          float64 `json:"var_s"`
-		Factor        float64 `json:"factor"`
-		LagsUsed      int     `json:"lags_used"`
-		VarSCorrected float64 `json:"var_s_corrected"`
-		ZCorrected    float64 `json:"z_corrected"`
-		PCorrected    float64 `json:"p_corrected"`
-	} `json:"hamed_rao"`
-	Seasonal []struct {
-		Name         string    `json:"name"`
-		Seasons      int       `json:"seasons"`
-		T, Y         []float64 `json:"-"`
-		TJ           []float64 `json:"t"`
-		YJ           []float64 `json:"y"`
-		SSeason      []int64   `json:"s_season"`
-		S            int64     `json:"s"`
-		PSeason      []float64 `json:"p_season"`
-		PGlobalIndep float64   `json:"p_global_indep"`
-		PGlobalDep   float64   `json:"p_global_dep"`
-		Kind         string    `json:"kind"`
-		SlopePerYear float64   `json:"slope_per_year"`
-	} `json:"seasonal"`
-	Pettitt []struct {
-		Name string    `json:"name"`
-		T    []float64 `json:"t"`
-		Y    []float64 `json:"y"`
-		K    int       `json:"k"`
-		U    float64   `json:"u"`
-		P    float64   `json:"p"`
-	} `json:"pettitt"`
-	CCF []struct {
-		Name   string    `json:"name"`
-		T      []float64 `json:"t"`
-		X      []float64 `json:"x"`
-		Y      []float64 `json:"y"`
-		MaxLag int       `json:"max_lag"`
-		CcfYX  []float64 `json:"ccf_y_x"`
-		CcfXY  []float64 `json:"ccf_x_y"`
-	} `json:"ccf"`
-	Nile struct {
-		Year        []float64 `json:"year"`
-		Volume      []float64 `json:"volume"`
-		PettittK    int       `json:"pettitt_k"`
-		PettittU    float64   `json:"pettitt_u"`
-		PettittYear int       `json:"pettitt_year"`
-		PettittP    float64   `json:"pettitt_p"`
-		MKS         int64     `json:"mk_s"`
-		MKVarS      float64   `json:"mk_var_s"`
-		Tau         float64   `json:"tau"`
-		SenSlope    float64   `json:"sen_slope_per_index_year"`
-		SenLower    float64   `json:"sen_lower"`
-		SenUpper    float64   `json:"sen_upper"`
-	} `json:"nile"`
-}
-
-type kendallRefR struct {
-	Cases []struct {
-		Name      string `json:"name"`
-		Z, P, Tau float64
-	} `json:"cases"`
-	Nile struct{ Z, P, Tau float64 } `json:"nile"`
-	CCF  []struct {
-		Name   string    `json:"name"`
-		Day    []float64 `json:"day"`
-		X      []float64 `json:"x"`
-		Y      []float64 `json:"y"`
-		MaxLag int       `json:"max_lag"`
-		Lags   []float64 `json:"lags"`
-		CcfYX  []float64 `json:"ccf_y_x"`
-	} `json:"ccf"`
-}
+// The reference files' layout is decoded by kendallref, shared with the
+// SQL-level tests.
+type (
+	kendallRef  = kendallref.Py
+	kendallRefR = kendallref.R
+)
 
 type mkCase struct {
 	name string
@@ -114,27 +32,13 @@ func mkRefPath(name string) string { return filepath.Join("..", "..", "testdata"
 
 func loadKendallRef(t *testing.T) (kendallRef, kendallRefR, map[string]mkCase) {
 	t.Helper()
-	var py kendallRef
-	var r kendallRefR
-	for _, f := range []struct {
-		name string
-		v    any
-	}{{"kendall_ref.json", &py}, {"kendall_ref_r.json", &r}} {
-		b, err := os.ReadFile(mkRefPath(f.name))
-		if err != nil {
-			t.Fatal(err)
-		}
-		if err := json.Unmarshal(b, f.v); err != nil {
-			t.Fatalf("%s: %v", f.name, err)
-		}
-	}
-	cases := map[string]mkCase{}
-	b, err := os.ReadFile(mkRefPath("kendall_cases.txt"))
+	py, r, list, err := kendallref.Load(mkRefPath(""))
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, c := range parseCases(t, string(b)) {
-		cases[c.name] = c
+	cases := map[string]mkCase{}
+	for _, c := range list {
+		cases[c.Name] = mkCase{name: c.Name, t: c.T, y: c.Y}
 	}
 	return py, r, cases
 }
@@ -388,7 +292,7 @@ func TestSeasonalReference(t *testing.T) {
 		t.Fatal("reference file lacks seasonal cases")
 	}
 	for _, ref := range py.Seasonal {
-		tt, yy := ref.TJ, ref.YJ
+		tt, yy := ref.T, ref.Y
 		season := make([]int, len(tt))
 		for i, v := range tt {
 			season[i] = SeasonOf(v, timefmt.SecondsPerYear, ref.Seasons)
