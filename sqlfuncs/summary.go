@@ -203,12 +203,11 @@ func SummarizeSeries(t, y []float64, o stats.SummaryOptions) (s stats.SeriesSumm
 			s.MKMethod = "mann-kendall/hamed-rao"
 			sv := float64(mk.S)
 			s.MKS, s.MKTau = &sv, fp(mk.Tau)
-			var hr stats.HamedRaoResult
-			var err error
+			// The detrending slope is the Sen slope computed above; if it
+			// failed, so would the correction's own (the same SenMedian).
+			hr, err := stats.HamedRaoResult{}, senErr
 			if senErr == nil {
 				hr, err = stats.HamedRaoWithSlope(t, y, mk, 0, sen.Slope)
-			} else {
-				hr, err = stats.HamedRao(t, y, mk, 0)
 			}
 			if err != nil {
 				note("Hamed–Rao correction: %v", err)
