@@ -16,22 +16,34 @@ package stats
 // Netanyahu 1992, Int. J. Comput. Geom. Appl. 2:1–27): keep two cuts
 // lo < hi with #(slopes ≤ lo) < k ≤ #(slopes ≤ hi); the pairs between them
 // are exactly the inversions between the point orders at lo and at hi, so
-// m of them can be drawn uniformly at random with a Fenwick tree; the
-// sample order statistics around the target fraction (± 3√m) give new,
-// narrower cuts. When at most max(3n, 8192) pairs are left they are
-// enumerated (O(n log n + K)) and sorted. All comparisons are exact
-// (exact.go), so the result is the k-th order statistic of the exact
-// slopes of the given floating-point data; the returned value is that slope
-// correctly rounded. Memory is O(n) throughout.
+// m of them can be drawn uniformly at random with a Fenwick tree (from all
+// pairs, the first round draws pairs directly); the sample order statistics
+// around the target fraction (± 3√m) give new, narrower cuts. When at most
+// max(8n, 65536) pairs are left they are enumerated (O(n log n + K)) and the
+// target is found by selection on the floating-point slopes followed by an
+// exact sort of the few slopes too close to it to call.
+//
+// Several ranks are selected together (the median's two middle ranks and
+// the interval's two ranks): one sampling round serves every target whose
+// bracket is the same, and targets whose sample windows overlap share their
+// cuts, so the usual cost is one direct sample, two cuts, one Fenwick
+// sample, two cuts per distinct target and one enumeration per target.
+//
+// All comparisons are exact (exact.go), so the result is the k-th order
+// statistic of the exact slopes of the given floating-point data; the
+// returned value is that slope correctly rounded. Random sampling affects
+// only the running time. Memory is O(n) throughout.
 //
 // The same machinery selects over the union of within-block pairs (blocks
 // of consecutive points, e.g. seasons), used by the seasonal Sen slope.
 
 import (
+	"cmp"
 	"errors"
 	"math"
 	"math/rand/v2"
 	"slices"
+	"sync"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -58,17 +70,32 @@ type senData struct {
 	pairs  int64
 	rng    *rand.Rand
 
+	// tuning (fields so that tests can force many rounds)
+	limit  int64 // enumerate when at most this many pairs are left
+	mFirst int   // sample size when drawing from all pairs
+	mNext  int   // sample size when drawing between two cuts
+
 	// scratch
 	key, mag  []float64
-	tmp       []int32
+	tmp, work []int32
 	items     []keyItem
-	radixKeys []uint64
-	radixIdx  []int32
-	perms     map[permKey][]int32
-	// resolved
+	perms     map[slopeRef][]int32 // order at (v, <) for evaluated cuts
+	permFree  [][]int32            // buffers of dropped orders, for reuse
+	perm      []int32
+	ivLo      []int32
+	ivHi      []int32
+	ivPos     []int32
+	enumTmp   []int32
+	fen       fenwick
+	cum       []int64
+	spacing   []float64
+	draws     []int64
+	sample    []slopeItem
+	enum      []slopeItem
+	pcg       rand.PCG
+	// evaluated cuts
+	cuts      []cut
 	tieBlocks []tieBlock
-	enumBase  int64
-	enumList  []slopeRef
 }
 
 type tieBlock struct {
@@ -76,10 +103,24 @@ type tieBlock struct {
 	below, upto int64 // ranks below+1..upto have slope v
 }
 
+// senPool keeps the selection's scratch buffers between calls (a summary
+// run computes one Sen slope per series on each worker).
+var senPool = sync.Pool{New: func() any { return new(senData) }}
+
+// grow returns s resized to n elements, reusing its storage when it is
+// large enough (contents are not preserved).
+func grow[T any](s []T, n int) []T {
+	if cap(s) < n {
+		return make([]T, n, n+n/8)
+	}
+	return s[:n]
+}
+
 func newSenData(t, y []float64, blocks []int) *senData {
 	n := len(t)
-	d := &senData{t: t, y: y, blocks: blocks, n: n}
-	d.x = make([]float64, n)
+	d := senPool.Get().(*senData)
+	d.t, d.y, d.blocks, d.n, d.pairs = t, y, blocks, n, 0
+	d.x = grow(d.x, n)
 	for i := range t {
 		d.x[i] = t[i] - t[0]
 	}
@@ -87,8 +128,31 @@ func newSenData(t, y []float64, blocks []int) *senData {
 		m := int64(blocks[b+1] - blocks[b])
 		d.pairs += m * (m - 1) / 2
 	}
-	d.rng = rand.New(rand.NewPCG(uint64(n)*0x9e3779b97f4a7c15+1, 12345))
+	d.pcg.Seed(uint64(n)*0x9e3779b97f4a7c15+1, 12345)
+	if d.rng == nil {
+		d.rng = rand.New(&d.pcg)
+	}
+	d.limit = int64(max(8*n, 65536))
+	d.mFirst = max(8*n, 8192)
+	d.mNext = max(4*n, 16384)
+	d.dropPerms()
+	d.cuts, d.tieBlocks = d.cuts[:0], d.tieBlocks[:0]
 	return d
+}
+
+// release returns d's buffers to the pool; d must not be used afterwards.
+func (d *senData) release() {
+	d.t, d.y, d.blocks = nil, nil, nil
+	d.dropPerms()
+	senPool.Put(d)
+}
+
+// dropPerms empties the order cache, keeping its buffers.
+func (d *senData) dropPerms() {
+	for k, p := range d.perms {
+		d.permFree = append(d.permFree, p)
+		delete(d.perms, k)
+	}
 }
 
 // slopeF is the floating-point estimate of a slope (relative error ≤ 3u).
@@ -110,10 +174,8 @@ func (d *senData) cmpSlopes(p, q slopeRef, fp, fq float64) int {
 
 // setKeys prepares the floating-point keys b_i(s) and their error scale.
 func (d *senData) setKeys(v slopeRef) {
-	if d.key == nil {
-		d.key = make([]float64, d.n)
-		d.mag = make([]float64, d.n)
-	}
+	d.key = grow(d.key, d.n)
+	d.mag = grow(d.mag, d.n)
 	s := d.slopeF(v)
 	for i := 0; i < d.n; i++ {
 		p := s * d.x[i]
@@ -138,19 +200,17 @@ func (d *senData) cmpPts(i, j int32, v slopeRef) int {
 // evalCut orders every block by b(v) (ties by time ascending) into perm and
 // returns the number of pairs with slope < v and ≤ v.
 //
-// The points are first sorted by their floating-point keys; keys that
-// differ by more than G = 32u·max|mag| are in the exact order, so only
-// chains of neighbours closer than G are re-sorted with the exact
-// comparator. The pairs below the cut are then the inversions of the time
-// indices in that order, counted by an integer merge sort.
+// The points, in time order, are merge-sorted by their floating-point keys,
+// counting inversions on the way (pairs a < b with key_b < key_a). Keys
+// that differ by more than G = 32u·max|mag| are in the exact order, so only
+// chains of neighbours closer than G can be misordered: they are re-sorted
+// with the exact comparator and the count corrected by the difference of
+// the chain's inversions after and before.
 func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 	d.setKeys(v)
-	if cap(d.tmp) < d.n {
-		d.tmp = make([]int32, d.n)
-	}
-	if cap(d.items) < d.n {
-		d.items = make([]keyItem, d.n)
-	}
+	d.work = grow(d.work, d.n)
+	d.tmp = grow(d.tmp, d.n)
+	d.items = grow(d.items, 2*d.n)
 	var magMax float64
 	for _, m := range d.mag {
 		magMax = max(magMax, m)
@@ -162,7 +222,7 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 		for i := range items {
 			items[i] = keyItem{d.key[lo+i], int32(lo + i)}
 		}
-		d.sortKeys(items)
+		less += mergeCountKeys(items, d.items[d.n+lo:d.n+hi])
 		seg := perm[lo:hi]
 		for i := range items {
 			seg[i] = items[i].i
@@ -174,16 +234,22 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 				j++
 			}
 			if j-i > 1 {
-				slices.SortFunc(seg[i:j], func(a, b int32) int {
+				chain := seg[i:j]
+				w := d.work[:len(chain)]
+				copy(w, chain)
+				less -= countInversions(w, d.tmp)
+				slices.SortFunc(chain, func(a, b int32) int {
 					if c := d.cmpPts(a, b, v); c != 0 {
 						return c
 					}
 					return int(a - b)
 				})
-				for k := i + 1; k < j; {
+				copy(w, chain)
+				less += countInversions(w, d.tmp)
+				for k := 1; k < len(chain); {
 					// count exact ties
 					l := k
-					for l < j && d.cmpPts(seg[l-1], seg[l], v) == 0 {
+					for l < len(chain) && d.cmpPts(chain[l-1], chain[l], v) == 0 {
 						l++
 					}
 					if l > k {
@@ -197,87 +263,63 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 			}
 			i = j
 		}
-		less += countInversions32(seg, d.tmp[lo:hi])
 	}
 	lessEq += less
 	return
 }
 
+// mergeCountKeys stably sorts a by k (merge sort, tmp as scratch of the same
+// length) and returns the number of pairs i < j with a[i].k > a[j].k. It is
+// countInversions for key–index items, written out because a generic
+// version with a key function measured twice as slow.
+func mergeCountKeys(a, tmp []keyItem) int64 {
+	n := len(a)
+	var inv int64
+	const run = 16
+	for lo := 0; lo < n; lo += run {
+		hi := min(lo+run, n)
+		for i := lo + 1; i < hi; i++ {
+			v := a[i]
+			j := i
+			for j > lo && a[j-1].k > v.k {
+				a[j] = a[j-1]
+				j--
+			}
+			inv += int64(i - j)
+			a[j] = v
+		}
+	}
+	src, dst := a, tmp[:n]
+	for width := run; width < n; width *= 2 {
+		for lo := 0; lo < n; lo += 2 * width {
+			mid := min(lo+width, n)
+			hi := min(lo+2*width, n)
+			i, j, k := lo, mid, lo
+			for i < mid && j < hi {
+				if src[i].k <= src[j].k {
+					dst[k] = src[i]
+					i++
+				} else {
+					dst[k] = src[j]
+					inv += int64(mid - i)
+					j++
+				}
+				k++
+			}
+			k += copy(dst[k:], src[i:mid])
+			copy(dst[k:], src[j:hi])
+		}
+		src, dst = dst, src
+	}
+	if n > 0 && &src[0] != &a[0] {
+		copy(a, src)
+	}
+	return inv
+}
+
 type keyItem struct {
 	k float64
 	i int32
-}
-
-// sortKeys sorts items by k, equal keys by i (items arrive in i order): an
-// LSD radix sort on the order-preserving bit pattern of k for long blocks
-// (stable, so equal keys keep their index order), pdqsort otherwise.
-func (d *senData) sortKeys(items []keyItem) {
-	n := len(items)
-	if n < 4096 {
-		slices.SortFunc(items, func(a, b keyItem) int {
-			if a.k < b.k {
-				return -1
-			} else if a.k > b.k {
-				return 1
-			}
-			return int(a.i - b.i)
-		})
-		return
-	}
-	if cap(d.radixKeys) < 2*n {
-		d.radixKeys = make([]uint64, 2*n)
-		d.radixIdx = make([]int32, 2*n)
-	}
-	ka, kb := d.radixKeys[:n], d.radixKeys[n:2*n]
-	ia, ib := d.radixIdx[:n], d.radixIdx[n:2*n]
-	for j, it := range items {
-		u := math.Float64bits(it.k + 0) // +0 turns −0 into +0
-		if u>>63 == 1 {
-			u = ^u
-		} else {
-			u |= 1 << 63
-		}
-		ka[j], ia[j] = u, it.i
-	}
-	var count [1 << 16]int
-	for shift := uint(0); shift < 64; shift += 16 {
-		clear(count[:])
-		for _, u := range ka {
-			count[(u>>shift)&0xffff]++
-		}
-		if count[(ka[0]>>shift)&0xffff] == n {
-			continue // every key has this digit
-		}
-		sum := 0
-		for b, c := range count {
-			count[b] = sum
-			sum += c
-		}
-		for j, u := range ka {
-			b := (u >> shift) & 0xffff
-			kb[count[b]], ib[count[b]] = u, ia[j]
-			count[b]++
-		}
-		ka, kb = kb, ka
-		ia, ib = ib, ia
-	}
-	for j := range items {
-		u := ka[j]
-		if u>>63 == 1 {
-			u &^= 1 << 63
-		} else {
-			u = ^u
-		}
-		items[j] = keyItem{math.Float64frombits(u), ia[j]}
-	}
-}
-
-// countInversions32 returns the number of pairs i < j with a[i] > a[j]
-// without modifying a (tmp is scratch of the same length).
-func countInversions32(a, tmp []int32) int64 {
-	w := make([]int32, len(a))
-	copy(w, a)
-	return countInversions(w, tmp)
 }
 
 // permFor fills perm with the point order that realises cut c: pair a < b
@@ -298,46 +340,46 @@ func (d *senData) permFor(c cut, perm []int32) {
 		}
 		return
 	}
-	k := permKey{c.v, c.incl}
-	if p, ok := d.perms[k]; ok {
+	if p, ok := d.perms[c.v]; ok {
 		copy(perm, p)
+	} else {
+		d.evalCut(c.v, perm)
+		d.remember(c.v, perm)
+	}
+	if !c.incl {
 		return
 	}
-	d.evalCut(c.v, perm)
-	d.remember(c.v, perm)
-	copy(perm, d.perms[k])
-}
-
-type permKey struct {
-	v    slopeRef
-	incl bool
-}
-
-// remember caches the orders realising the cuts (v, <) and (v, ≤), given
-// the order from evalCut (keys still set for v). At most a few orders are
-// kept (O(n) memory).
-func (d *senData) remember(v slopeRef, perm []int32) {
-	if d.perms == nil || len(d.perms) >= 8 {
-		d.perms = map[permKey][]int32{}
-	}
-	ex := append([]int32(nil), perm...)
-	in := append([]int32(nil), perm...)
-	// equal keys: later time first
-	for i := 0; i < len(in); {
-		j := i + 1
-		for j < len(in) && !d.isBlockStart(j) && d.cmpPts(in[j-1], in[j], v) == 0 {
-			j++
+	// (v, ≤): within each run of exactly equal keys, later time first.
+	d.setKeys(c.v)
+	for b := 0; b+1 < len(d.blocks); b++ {
+		seg := perm[d.blocks[b]:d.blocks[b+1]]
+		for i := 0; i < len(seg); {
+			j := i + 1
+			for j < len(seg) && d.cmpPts(seg[j-1], seg[j], c.v) == 0 {
+				j++
+			}
+			slices.Reverse(seg[i:j])
+			i = j
 		}
-		slices.Reverse(in[i:j])
-		i = j
 	}
-	d.perms[permKey{v, false}] = ex
-	d.perms[permKey{v, true}] = in
 }
 
-func (d *senData) isBlockStart(i int) bool {
-	_, found := slices.BinarySearch(d.blocks, i)
-	return found
+// remember caches the order realising the cut (v, <), as left by evalCut.
+// At most a few orders are kept (O(n) memory).
+func (d *senData) remember(v slopeRef, perm []int32) {
+	if d.perms == nil {
+		d.perms = map[slopeRef][]int32{}
+	}
+	if len(d.perms) >= 12 {
+		d.dropPerms()
+	}
+	var buf []int32
+	if k := len(d.permFree); k > 0 {
+		buf, d.permFree = d.permFree[k-1], d.permFree[:k-1]
+	}
+	buf = grow(buf, d.n)
+	copy(buf, perm)
+	d.perms[v] = buf
 }
 
 // fenwick is a binary indexed tree of counts over 0..n−1.
@@ -377,11 +419,13 @@ func (f fenwick) kth(k int) int {
 // interval builds seq (positions in the hi order, listed in lo order) and
 // the hi permutation; inversions of seq are the pairs between the cuts.
 func (d *senData) interval(lo, hi cut) (seq, pHi []int32) {
-	pLo := make([]int32, d.n)
-	pHi = make([]int32, d.n)
+	d.ivLo = grow(d.ivLo, d.n)
+	d.ivHi = grow(d.ivHi, d.n)
+	pLo, pHi := d.ivLo, d.ivHi
 	d.permFor(lo, pLo)
 	d.permFor(hi, pHi)
-	pos := make([]int32, d.n)
+	d.ivPos = grow(d.ivPos, d.n)
+	pos := d.ivPos
 	for w, p := range pHi {
 		pos[p] = int32(w)
 	}
@@ -399,13 +443,16 @@ func pairOf(a, b int32) slopeRef {
 	return slopeRef{a, b}
 }
 
-// sampleBetween draws m pairs uniformly (with replacement) from the T pairs
-// between the cuts.
-func (d *senData) sampleBetween(lo, hi cut, m int) []slopeRef {
+// sampleBetween draws m pairs uniformly (with replacement) from the pairs
+// between the cuts, with their floating-point slopes.
+func (d *senData) sampleBetween(lo, hi cut, m int) []slopeItem {
 	seq, pHi := d.interval(lo, hi)
 	n := d.n
-	f := make(fenwick, n+1)
-	cum := make([]int64, n) // cum[q] = inversions ending at positions ≤ q
+	d.fen = grow(d.fen, n+1)
+	f := d.fen
+	clear(f)
+	d.cum = grow(d.cum, n)
+	cum := d.cum // cum[q] = inversions ending at positions ≤ q
 	var total int64
 	for q, v := range seq {
 		c := q - f.prefix(int(v))
@@ -416,15 +463,9 @@ func (d *senData) sampleBetween(lo, hi cut, m int) []slopeRef {
 	if total == 0 {
 		return nil
 	}
-	draws := make([]int64, m)
-	for i := range draws {
-		draws[i] = d.rng.Int64N(total)
-	}
-	slices.Sort(draws)
-	for i := range f {
-		f[i] = 0
-	}
-	out := make([]slopeRef, 0, m)
+	draws := d.sortedDraws(m, total)
+	clear(f)
+	out := grow(d.sample, m)[:0]
 	q := 0
 	var prev int64
 	for _, r := range draws {
@@ -436,16 +477,73 @@ func (d *senData) sampleBetween(lo, hi cut, m int) []slopeRef {
 		o := int(r - prev) // 0-based among earlier larger values
 		target := f.prefix(int(seq[q])) + o + 1
 		w := f.kth(target)
-		out = append(out, pairOf(pHi[w], pHi[seq[q]]))
+		p := pairOf(pHi[w], pHi[seq[q]])
+		out = append(out, slopeItem{d.slopeF(p), p})
 	}
+	d.sample = out
 	return out
 }
 
-// enumerateBetween lists every pair between the cuts.
-func (d *senData) enumerateBetween(lo, hi cut, capHint int64) []slopeRef {
+// sortedDraws returns m integers drawn uniformly from 0..total−1 with
+// replacement, in ascending order, in O(m): the order statistics of m
+// uniforms are the normalised partial sums of m+1 exponential spacings.
+func (d *senData) sortedDraws(m int, total int64) []int64 {
+	d.spacing = grow(d.spacing, m+1)
+	sp := d.spacing
+	var sum float64
+	for i := range sp {
+		sum += d.rng.ExpFloat64()
+		sp[i] = sum
+	}
+	d.draws = grow(d.draws, m)
+	draws := d.draws
+	scale := float64(total) / sum
+	for i := range draws {
+		draws[i] = min(int64(sp[i]*scale), total-1)
+	}
+	return draws
+}
+
+// sampleAll draws m pairs uniformly (with replacement) from all
+// within-block pairs, with their floating-point slopes.
+func (d *senData) sampleAll(m int) []slopeItem {
+	nb := len(d.blocks) - 1
+	var cum []int64
+	if nb > 1 {
+		cum = make([]int64, nb)
+		var c int64
+		for b := 0; b < nb; b++ {
+			sz := int64(d.blocks[b+1] - d.blocks[b])
+			c += sz * (sz - 1) / 2
+			cum[b] = c
+		}
+	}
+	out := grow(d.sample, m)[:0]
+	for len(out) < m {
+		b := 0
+		if nb > 1 {
+			r := d.rng.Int64N(d.pairs)
+			b, _ = slices.BinarySearch(cum, r+1)
+		}
+		lo, sz := d.blocks[b], d.blocks[b+1]-d.blocks[b]
+		i, j := d.rng.IntN(sz), d.rng.IntN(sz)
+		if i == j {
+			continue
+		}
+		p := pairOf(int32(lo+i), int32(lo+j))
+		out = append(out, slopeItem{d.slopeF(p), p})
+	}
+	d.sample = out
+	return out
+}
+
+// enumerateBetween lists every pair between the cuts, with its
+// floating-point slope.
+func (d *senData) enumerateBetween(lo, hi cut, capHint int64) []slopeItem {
 	seq, pHi := d.interval(lo, hi)
-	out := make([]slopeRef, 0, capHint)
-	tmp := make([]int32, len(seq))
+	out := grow(d.enum, int(capHint))[:0]
+	d.enumTmp = grow(d.enumTmp, len(seq))
+	tmp := d.enumTmp
 	var rec func(a, t []int32)
 	rec = func(a, t []int32) {
 		n := len(a)
@@ -462,7 +560,8 @@ func (d *senData) enumerateBetween(lo, hi cut, capHint int64) []slopeRef {
 				i++
 			} else {
 				for l := i; l < mid; l++ {
-					out = append(out, pairOf(pHi[a[l]], pHi[a[j]]))
+					p := pairOf(pHi[a[l]], pHi[a[j]])
+					out = append(out, slopeItem{d.slopeF(p), p})
 				}
 				t[k] = a[j]
 				j++
@@ -474,6 +573,7 @@ func (d *senData) enumerateBetween(lo, hi cut, capHint int64) []slopeRef {
 		copy(a, t[:n])
 	}
 	rec(seq, tmp)
+	d.enum = out
 	return out
 }
 
@@ -491,7 +591,7 @@ func (d *senData) sortSlopes(ps []slopeRef) {
 	it := d.floatSortSlopes(ps)
 	for i := 0; i < len(it); {
 		j := i + 1
-		for j < len(it) && it[j].f-it[j-1].f <= 8*epsU*(math.Abs(it[j].f)+math.Abs(it[j-1].f))+1e-300 {
+		for j < len(it) && it[j].f-it[j-1].f <= slopeTol(it[j].f, it[j-1].f) {
 			j++
 		}
 		if j-i > 1 {
@@ -540,6 +640,24 @@ func selectItem(it []slopeItem, k int) slopeItem {
 	return it[k]
 }
 
+// selectMany partially orders it by f so that it[k] is the element of rank
+// k (0-based) for every k in ks (ascending, distinct), in O(m log len(ks)).
+func selectMany(it []slopeItem, ks []int) {
+	if len(ks) == 0 {
+		return
+	}
+	mid := len(ks) / 2
+	k := ks[mid]
+	selectItem(it, k) // it[:k] ≤ it[k] ≤ it[k+1:]
+	selectMany(it[:k], ks[:mid])
+	right := ks[mid+1:]
+	shifted := make([]int, len(right))
+	for i, r := range right {
+		shifted[i] = r - k - 1
+	}
+	selectMany(it[k+1:], shifted)
+}
+
 // floatSortSlopes sorts pairs by their floating-point slope estimates only
 // (enough for choosing sample quantiles, whose exact values are then
 // evaluated exactly).
@@ -562,19 +680,80 @@ func (d *senData) floatSortSlopes(ps []slopeRef) []slopeItem {
 	return it
 }
 
-// selectRank returns a pair whose slope is the k-th smallest (1 ≤ k ≤ pairs).
-func (d *senData) selectRank(k int64, cache *[]cut) slopeRef {
+// slopeTol is the gap above which two floating-point slope estimates are
+// in the exact order (each carries at most 3u relative error and its sign is
+// exact), and so is every pair of estimates separated by such a gap.
+func slopeTol(a, b float64) float64 {
+	return 8*epsU*(math.Abs(a)+math.Abs(b)) + 1e-300
+}
+
+// exactSelect returns the pair of exact rank r (0-based) among it: the
+// rank-r element by floating-point slope, then an exact sort of the chain
+// of estimates too close to it to call. it is reordered.
+func (d *senData) exactSelect(it []slopeItem, r int) slopeRef {
+	fx := selectItem(it, r).f
+	delta := 64*epsU*math.Abs(fx) + 1e-300
+	var near []slopeItem
+	for {
+		lowEdge, highEdge := fx-delta, fx+delta
+		near = near[:0]
+		below, above := 0, 0
+		for _, e := range it {
+			switch {
+			case e.f < lowEdge:
+				below++
+			case e.f > highEdge:
+				above++
+			default:
+				near = append(near, e)
+			}
+		}
+		slices.SortFunc(near, func(a, b slopeItem) int {
+			if a.f < b.f {
+				return -1
+			} else if a.f > b.f {
+				return 1
+			}
+			return 0
+		})
+		pos := r - below // 0 ≤ pos < len(near)
+		cs, ce := pos, pos+1
+		for cs > 0 && near[cs].f-near[cs-1].f <= slopeTol(near[cs].f, near[cs-1].f) {
+			cs--
+		}
+		for ce < len(near) && near[ce].f-near[ce-1].f <= slopeTol(near[ce].f, near[ce-1].f) {
+			ce++
+		}
+		// The chain must be separated from the estimates outside the window.
+		lowOK := cs > 0 || below == 0 || near[0].f-lowEdge > slopeTol(near[0].f, lowEdge)
+		highOK := ce < len(near) || above == 0 || highEdge-near[len(near)-1].f > slopeTol(near[len(near)-1].f, highEdge)
+		if lowOK && highOK {
+			chain := near[cs:ce]
+			if len(chain) > 1 {
+				slices.SortFunc(chain, func(a, b slopeItem) int { return d.cmpSlopes(a.r, b.r, a.f, b.f) })
+			}
+			return near[pos].r
+		}
+		delta *= 2
+	}
+}
+
+// knownRank reports a pair of rank k when an evaluated cut has it.
+func (d *senData) knownRank(k int64) (slopeRef, bool) {
 	for _, tb := range d.tieBlocks {
 		if tb.below < k && k <= tb.upto {
-			return tb.v
+			return tb.v, true
 		}
 	}
-	if k > d.enumBase && k <= d.enumBase+int64(len(d.enumList)) {
-		return d.enumList[k-d.enumBase-1]
-	}
-	lo := cut{inf: -1, count: 0}
-	hi := cut{inf: 1, count: d.pairs}
-	for _, c := range *cache {
+	return slopeRef{}, false
+}
+
+// bracket returns the tightest evaluated cuts lo, hi with
+// lo.count < k ≤ hi.count.
+func (d *senData) bracket(k int64) (lo, hi cut) {
+	lo = cut{inf: -1, count: 0}
+	hi = cut{inf: 1, count: d.pairs}
+	for _, c := range d.cuts {
 		if c.count < k && c.count > lo.count {
 			lo = c
 		}
@@ -582,64 +761,119 @@ func (d *senData) selectRank(k int64, cache *[]cut) slopeRef {
 			hi = c
 		}
 	}
-	limit := int64(max(3*d.n, 8192))
-	mSample := max(d.n, 4096)
-	perm := make([]int32, d.n)
-	var found *slopeRef
-	try := func(v slopeRef) {
-		less, lessEq := d.evalCut(v, perm)
-		d.remember(v, perm)
-		d.tieBlocks = append(d.tieBlocks, tieBlock{v, less, lessEq})
-		*cache = append(*cache, cut{v: v, incl: false, count: less}, cut{v: v, incl: true, count: lessEq})
-		switch {
-		case less < k && k <= lessEq:
-			found = &v
-		case lessEq < k:
-			if lessEq > lo.count || lo.inf != 0 {
-				lo = cut{v: v, incl: true, count: lessEq}
-			}
-		default:
-			if less < hi.count || hi.inf != 0 {
-				hi = cut{v: v, incl: false, count: less}
-			}
+	return
+}
+
+// tryCut evaluates the cut at the slope of v (once) and records it.
+func (d *senData) tryCut(v slopeRef, perm []int32) {
+	for _, tb := range d.tieBlocks {
+		if tb.v == v {
+			return
 		}
 	}
-	for found == nil {
+	less, lessEq := d.evalCut(v, perm)
+	d.remember(v, perm)
+	d.tieBlocks = append(d.tieBlocks, tieBlock{v, less, lessEq})
+	d.cuts = append(d.cuts, cut{v: v, incl: false, count: less}, cut{v: v, incl: true, count: lessEq})
+}
+
+// selectRanks returns, for each k in ks (1 ≤ k ≤ pairs), a pair whose
+// slope is the k-th smallest. Cuts evaluated here are kept for later calls.
+func (d *senData) selectRanks(ks []int64) []slopeRef {
+	out := make([]slopeRef, len(ks))
+	pending := make([]int, len(ks))
+	for i := range pending {
+		pending[i] = i
+	}
+	slices.SortFunc(pending, func(a, b int) int { return cmp.Compare(ks[a], ks[b]) })
+	d.perm = grow(d.perm, d.n)
+	perm := d.perm
+	for len(pending) > 0 {
+		rest := pending[:0]
+		for _, i := range pending {
+			if v, ok := d.knownRank(ks[i]); ok {
+				out[i] = v
+			} else {
+				rest = append(rest, i)
+			}
+		}
+		pending = rest
+		if len(pending) == 0 {
+			break
+		}
+		// The targets sharing the first pending target's bracket.
+		lo, hi := d.bracket(ks[pending[0]])
+		var group, others []int
+		for _, i := range pending {
+			if l, h := d.bracket(ks[i]); l.count == lo.count && h.count == hi.count {
+				group = append(group, i)
+			} else {
+				others = append(others, i)
+			}
+		}
 		T := hi.count - lo.count
-		if T <= limit {
-			list := d.enumerateBetween(lo, hi, T)
-			d.sortSlopes(list)
-			d.enumBase, d.enumList = lo.count, list
-			return list[k-lo.count-1]
+		if T <= d.limit {
+			items := d.enumerateBetween(lo, hi, T)
+			for _, i := range group {
+				out[i] = d.exactSelect(items, int(ks[i]-lo.count-1))
+			}
+			pending = others
+			continue
 		}
-		m := int(min(int64(mSample), T))
-		sample := d.sampleBetween(lo, hi, m)
-		it := make([]slopeItem, len(sample))
-		for i, p := range sample {
-			it[i] = slopeItem{d.slopeF(p), p}
+		var it []slopeItem
+		if lo.inf == -1 && hi.inf == 1 {
+			it = d.sampleAll(int(min(int64(d.mFirst), T)))
+		} else {
+			// enough draws that the windows (± 3√m of m) are expected to
+			// leave at most 3/4 of limit pairs: 6T/√m ≤ 3·limit/4
+			r := 8 * float64(T) / float64(d.limit)
+			m := int(min(float64(d.mNext), max(1024, r*r)))
+			it = d.sampleBetween(lo, hi, int(min(int64(m), T)))
 		}
-		m = len(it)
-		f := float64(k-lo.count) / float64(T)
-		idx := f*float64(m) - 0.5
+		m := len(it)
+		// Sample windows around each target (group is in rank order);
+		// overlapping windows share their cuts.
 		delta := 3*math.Sqrt(float64(m)) + 1
-		li := int(math.Floor(idx - delta))
-		ui := int(math.Ceil(idx + delta))
-		// Only two sample quantiles are needed (by floating-point slope; the
-		// chosen pairs are then evaluated exactly), so select, don't sort.
-		tried := false
-		if li >= 0 && li < m {
-			try(selectItem(it, li).r)
-			tried = true
+		type span struct{ li, ui int }
+		var spans []span
+		for _, i := range group {
+			idx := float64(ks[i]-lo.count)/float64(T)*float64(m) - 0.5
+			li, ui := int(math.Floor(idx-delta)), int(math.Ceil(idx+delta))
+			if len(spans) > 0 && li <= spans[len(spans)-1].ui {
+				spans[len(spans)-1].ui = max(spans[len(spans)-1].ui, ui)
+			} else {
+				spans = append(spans, span{li, ui})
+			}
 		}
-		if found == nil && ui < m && ui >= 0 {
-			try(selectItem(it, ui).r)
-			tried = true
+		// The sample order statistics bounding each window (by
+		// floating-point slope; the chosen pairs are then evaluated
+		// exactly). A window covering the whole sample gets its median.
+		var at []int
+		for _, sp := range spans {
+			n0 := len(at)
+			if sp.li >= 0 && sp.li < m {
+				at = append(at, sp.li)
+			}
+			if sp.ui >= 0 && sp.ui < m {
+				at = append(at, sp.ui)
+			}
+			if len(at) == n0 {
+				at = append(at, m/2)
+			}
 		}
-		if !tried {
-			try(selectItem(it, m/2).r)
+		slices.Sort(at)
+		at = slices.Compact(at)
+		selectMany(it, at)
+		for _, j := range at {
+			d.tryCut(it[j].r, perm)
 		}
 	}
-	return *found
+	return out
+}
+
+// selectRank returns a pair whose slope is the k-th smallest.
+func (d *senData) selectRank(k int64) slopeRef {
+	return d.selectRanks([]int64{k})[0]
 }
 
 // SenMedian returns the Theil–Sen slope (median of pairwise slopes, in y per
@@ -699,20 +933,14 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64) (Sen
 		return SenResult{}, errors.New("t and y differ in length")
 	}
 	d := newSenData(t, y, blocks)
+	defer d.release()
 	res := SenResult{N: n, Pairs: d.pairs}
 	if d.pairs == 0 {
 		return res, errors.New("the Sen slope needs at least 2 values")
 	}
-	var cache []cut
 	val := func(r slopeRef) float64 { return exactQuotient(y[r.b], y[r.a], t[r.b], t[r.a]) }
 	N := d.pairs
-	if N%2 == 1 {
-		res.Slope = val(d.selectRank((N+1)/2, &cache))
-	} else {
-		a := val(d.selectRank(N/2, &cache))
-		b := val(d.selectRank(N/2+1, &cache))
-		res.Slope = (a + b) / 2
-	}
+	ks := []int64{(N + 1) / 2, N/2 + 1} // the middle rank(s)
 	res.MedianT = Median(t)
 	res.MedianY = Median(y)
 	if confidence > 0 && confidence < 1 {
@@ -731,8 +959,17 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64) (Sen
 		m2 := int64(math.RoundToEven((float64(N) + c) / 2))
 		res.LowerRank = min(max(m1, 1), N)
 		res.UpperRank = min(max(m2+1, 1), N)
-		res.Lower = val(d.selectRank(res.LowerRank, &cache))
-		res.Upper = val(d.selectRank(res.UpperRank, &cache))
+		ks = append(ks, res.LowerRank, res.UpperRank)
+	}
+	sel := d.selectRanks(ks)
+	if N%2 == 1 {
+		res.Slope = val(sel[0])
+	} else {
+		res.Slope = (val(sel[0]) + val(sel[1])) / 2
+	}
+	if res.Confidence > 0 {
+		res.Lower = val(sel[2])
+		res.Upper = val(sel[3])
 	}
 	return res, nil
 }

@@ -78,9 +78,8 @@ func TestSenSelectionMatchesBruteForce(t *testing.T) {
 				ranks = append(ranks, 1+rng.Int64N(N))
 			}
 			fast := newSenData(tt, yy, []int{0, n})
-			var cache []cut
 			for _, k := range ranks {
-				got := fast.selectRank(k, &cache)
+				got := fast.selectRank(k)
 				want := order[k-1]
 				if d.cmpSlopes(got, want, d.slopeF(got), d.slopeF(want)) != 0 {
 					t.Fatalf("n=%d kind=%d rank %d: selected slope %v (pair %v), brute force %v (pair %v)",
@@ -135,14 +134,83 @@ func TestSenBlocksMatchBruteForce(t *testing.T) {
 			if fast.pairs != N {
 				t.Fatalf("pairs %d, brute %d", fast.pairs, N)
 			}
-			var cache []cut
 			for _, k := range []int64{1, N, (N + 1) / 2, N/2 + 1, 1 + rng.Int64N(N)} {
-				got := fast.selectRank(k, &cache)
+				got := fast.selectRank(k)
 				want := order[k-1]
 				if d.cmpSlopes(got, want, d.slopeF(got), d.slopeF(want)) != 0 {
 					t.Fatalf("n=%d blocks=%d kind=%d rank %d: %v vs brute %v", tc.n, tc.blocks, kind, k, d.slopeF(got), d.slopeF(want))
 				}
 			}
+		}
+	}
+}
+
+// TestSenSelectionSmallRounds forces tiny samples and enumeration limits so
+// that selection goes through many rounds (windows that miss their target,
+// groups of targets splitting, cuts on tied slopes) and checks every rank
+// asked for together against the brute-force order.
+func TestSenSelectionSmallRounds(t *testing.T) {
+	rng := rand.New(rand.NewPCG(31, 37))
+	for _, n := range []int{5, 17, 60, 150, 400} {
+		for kind := 0; kind < 6; kind++ {
+			for _, nb := range []int{1, 3} {
+				tt, yy := randSeries(rng, n, kind)
+				blocks := []int{0}
+				for b := 1; b <= nb; b++ {
+					blocks = append(blocks, n*b/nb)
+				}
+				d, order := bruteOrder(tt, yy, blocks)
+				N := int64(len(order))
+				if N == 0 {
+					continue
+				}
+				for _, sizes := range [][3]int{{4, 8, 2}, {16, 32, 16}, {40, 200, 50}} {
+					fast := newSenData(tt, yy, blocks)
+					fast.limit, fast.mFirst, fast.mNext = int64(sizes[0]), sizes[1], sizes[2]
+					ks := []int64{(N + 1) / 2, N/2 + 1, max(1, N/2-N/20), min(N, N/2+N/20), 1, N}
+					for i := 0; i < 4; i++ {
+						ks = append(ks, 1+rng.Int64N(N))
+					}
+					got := fast.selectRanks(ks)
+					for i, k := range ks {
+						want := order[k-1]
+						if d.cmpSlopes(got[i], want, d.slopeF(got[i]), d.slopeF(want)) != 0 {
+							t.Fatalf("n=%d kind=%d blocks=%d sizes=%v rank %d: selected %v (pair %v), brute force %v (pair %v)",
+								n, kind, nb, sizes, k, d.slopeF(got[i]), got[i], d.slopeF(want), want)
+						}
+					}
+				}
+			}
+		}
+	}
+}
+
+// TestExactSelectNearTies checks the final selection step on slopes that
+// differ only in the last bits or not at all (chains longer than the first
+// window), against an exact sort.
+func TestExactSelectNearTies(t *testing.T) {
+	// y_i = i·s exactly representable slopes plus tiny perturbations: pairs
+	// (0,i) have slopes s + ε_i/i that round to nearby floating values.
+	n := 200
+	tt := make([]float64, n)
+	yy := make([]float64, n)
+	for i := range tt {
+		tt[i] = float64(i) * 3
+		yy[i] = float64(i)*0.1 + float64(i%3)*1e-15
+	}
+	d, order := bruteOrder(tt, yy, []int{0, n})
+	var items []slopeItem
+	for _, p := range order {
+		items = append(items, slopeItem{d.slopeF(p), p})
+	}
+	rng := rand.New(rand.NewPCG(5, 6))
+	for trial := 0; trial < 50; trial++ {
+		rng.Shuffle(len(items), func(i, j int) { items[i], items[j] = items[j], items[i] })
+		r := rng.IntN(len(items))
+		got := d.exactSelect(items, r)
+		want := order[r]
+		if d.cmpSlopes(got, want, d.slopeF(got), d.slopeF(want)) != 0 {
+			t.Fatalf("rank %d: %v vs %v", r, d.slopeF(got), d.slopeF(want))
 		}
 	}
 }
