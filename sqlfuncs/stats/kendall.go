@@ -25,7 +25,7 @@ import (
 	"cmp"
 	"errors"
 	"math"
-	"sort"
+	"slices"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -239,20 +239,26 @@ func HamedRaoWithSlope(t, y []float64, mk MKResult, maxLag int, beta float64) (H
 // they span.
 func Ranks(x []float64) []float64 {
 	n := len(x)
-	idx := make([]int, n)
-	for i := range idx {
-		idx[i] = i
+	// (value, index) items sorted by value: one contiguous array, no
+	// indirection in the comparisons.
+	type item struct {
+		v float64
+		i int32
 	}
-	sort.Slice(idx, func(a, b int) bool { return x[idx[a]] < x[idx[b]] })
+	it := make([]item, n)
+	for i, v := range x {
+		it[i] = item{v, int32(i)}
+	}
+	slices.SortFunc(it, func(a, b item) int { return cmp.Compare(a.v, b.v) })
 	r := make([]float64, n)
 	for i := 0; i < n; {
 		j := i + 1
-		for j < n && x[idx[j]] == x[idx[i]] {
+		for j < n && it[j].v == it[i].v {
 			j++
 		}
 		avg := float64(i+j+1) / 2 // mean of ranks i+1..j
 		for k := i; k < j; k++ {
-			r[idx[k]] = avg
+			r[it[k].i] = avg
 		}
 		i = j
 	}
