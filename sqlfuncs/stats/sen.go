@@ -32,7 +32,8 @@ package stats
 // All comparisons are exact (exact.go), so the result is the k-th order
 // statistic of the exact slopes of the given floating-point data; the
 // returned value is that slope correctly rounded. Random sampling affects
-// only the running time. Memory is O(n) throughout.
+// only the running time. Memory is O(n) throughout (samples and enumerated
+// lists hold at most 8n pairs); the scratch buffers are pooled between calls.
 //
 // The same machinery selects over the union of within-block pairs (blocks
 // of consecutive points, e.g. seasons), used by the seasonal Sen slope.
