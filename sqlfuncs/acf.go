@@ -191,7 +191,7 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	}
 	c := stats.ComputeCorrelogram(x, int(maxLag), o.fitdf)
 	band := 1.96 / math.Sqrt(float64(c.N))
-	var out jsonObj
+	out := jsonObj{b: make([]byte, 0, 256+160*int(maxLag))}
 	out.int("n", int64(c.N))
 	out.int("n_slots", int64(c.NSlots))
 	out.int("missing_slots", int64(c.Missing))
@@ -209,6 +209,7 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	out.int("fitdf", int64(o.fitdf))
 	out.num("band", band)
 	var row jsonObj
+	bandJSON := string(appendJSONNum(nil, band)) // the same in every lag
 	out.array("lags", int(maxLag), func(b []byte, i int) []byte {
 		h := i + 1
 		l := stats.CorrelogramLag{ACVF: math.NaN(), ACF: math.NaN(), PACF: math.NaN(), LBQ: math.NaN(), LBP: math.NaN()}
@@ -221,7 +222,7 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 		row.num("acvf", l.ACVF)
 		row.num("acf", l.ACF)
 		row.num("pacf", l.PACF)
-		row.num("band", band)
+		row.raw("band", bandJSON)
 		row.num("q_lb", l.LBQ)
 		row.int("df_lb", int64(h-o.fitdf))
 		row.num("p_lb", l.LBP)

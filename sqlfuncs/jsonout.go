@@ -26,8 +26,21 @@ func (o *jsonObj) key(k string) {
 	} else {
 		o.b = append(o.b, ',')
 	}
-	o.b = strconv.AppendQuote(o.b, k)
+	o.b = appendJSONKey(o.b, k)
 	o.b = append(o.b, ':')
+}
+
+// appendJSONKey appends k as a JSON string: keys are plain ASCII names, so
+// they are copied between quotes; anything else goes through strconv.
+func appendJSONKey(b []byte, k string) []byte {
+	for i := 0; i < len(k); i++ {
+		if c := k[i]; c < 0x20 || c >= 0x7f || c == '"' || c == '\\' {
+			return strconv.AppendQuote(b, k)
+		}
+	}
+	b = append(b, '"')
+	b = append(b, k...)
+	return append(b, '"')
 }
 
 // jsonNum renders one number (null for NaN and infinities).
