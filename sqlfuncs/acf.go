@@ -14,6 +14,18 @@ package sqlfuncs
 // Rows may come in any order; each group is sorted by t. NULL values are
 // skipped (missing observations); two rows with the same t are an error.
 //
+// options is text of comma-separated key=value pairs: step=<duration> (the
+// grid, below), detrend=linear|none and, for correlogram, fitdf=<k>.
+// detrend=linear analyses the residuals of the least-squares straight line
+// on the slot index instead of the values (stats.DetrendLinear: Householder
+// QR on the centred index; on a gap-free regular series exactly R's
+// residuals(lm(x ~ time(x)))), so "is there dependence left once a linear
+// trend is removed?" is one aggregate over the raw readings. Every statistic
+// below is then of the residuals (ȳ is their mean, about 0); the tests' n
+// and degrees of freedom are unchanged (fitdf is for fitted ARMA terms and
+// is not adjusted for the line). With fewer than 3 readings, or readings on
+// an exact line, the residuals are 0 and the autocorrelations NULL.
+//
 // The grid. Lag h means h sampling steps apart. The step is the option
 // "step=<duration>" (s, min, h, d, w, y; 1y = 365.25 d), or else it is
 // inferred as the most common spacing between consecutive readings
@@ -60,6 +72,8 @@ package sqlfuncs
 //	mean           ȳ
 //	acvf0          γ̂(0)
 //	fitdf          degrees of freedom subtracted for the Ljung–Box p-values
+//	detrend        "linear" when the residuals of a straight line were
+//	               analysed, else "none"
 //	band           1.96/√n
 //	lags           one object per lag 1..max_lag:
 //	    lag, pairs (m(h)), acvf, acf, pacf, band,
@@ -71,6 +85,7 @@ package sqlfuncs
 //	SELECT series_id, sample_acf(t, value, 1) FROM readings GROUP BY series_id;
 //	SELECT series_id, correlogram(t, value, 24, 'step=1d') AS c FROM readings GROUP BY series_id;
 //	SELECT series_id, ljung_box(t, value, 10)->>'p' FROM readings GROUP BY series_id;
+//	SELECT series_id, ljung_box_p(t, value, 24, 0, 'detrend=linear') FROM readings GROUP BY series_id;
 
 import (
 	"database/sql/driver"
@@ -87,18 +102,20 @@ const maxLagArg = 1 << 20
 
 // lagOptions are the parsed trailing arguments of a lag function.
 type lagOptions struct {
-	step  float64 // 0 = infer
-	fitdf int
+	step    float64 // 0 = infer
+	fitdf   int
+	detrend bool // residuals of a straight line on the slot index
 }
 
-// parseLagOptions reads "step=<duration>" (and "fitdf=<k>" when allowFitdf).
+// parseLagOptions reads "step=<duration>", "detrend=linear|none" (and
+// "fitdf=<k>" when allowFitdf).
 func parseLagOptions(fn string, v driver.Value, allowFitdf bool) (lagOptions, error) {
 	var o lagOptions
 	text, err := argText(fn, "options", v)
 	if err != nil {
 		return o, err
 	}
-	keys := []string{"step"}
+	keys := []string{"step", "detrend"}
 	if allowFitdf {
 		keys = append(keys, "fitdf")
 	}
@@ -120,16 +137,35 @@ func parseLagOptions(fn string, v driver.Value, allowFitdf bool) (lagOptions, er
 		}
 		o.fitdf = k
 	}
+	switch d := m["detrend"]; d {
+	case "", "none":
+	case "linear":
+		o.detrend = true
+	default:
+		return o, fmt.Errorf("%s: option detrend=%q must be linear or none", fn, d)
+	}
 	return o, nil
 }
 
-// gridded places one group's rows on the grid.
-func gridded(fn string, r Rows, step float64) (stats.Grid, []float64, error) {
-	g, x, err := stats.Regularize(r.T, r.Y, step)
+// gridded places one group's rows on the grid and, with detrend=linear,
+// replaces the values by their residuals from a straight line on the slot
+// index (stats.DetrendLinear).
+func gridded(fn string, r Rows, o lagOptions) (stats.Grid, []float64, error) {
+	g, x, err := stats.Regularize(r.T, r.Y, o.step)
 	if err != nil {
 		return g, nil, fmt.Errorf("%s: %v", fn, err)
 	}
+	if o.detrend {
+		x = stats.DetrendLinear(x)
+	}
 	return g, x, nil
+}
+
+func detrendName(o lagOptions) string {
+	if o.detrend {
+		return "linear"
+	}
+	return "none"
 }
 
 func nullIfNaN(v float64) driver.Value {
@@ -155,7 +191,7 @@ func lagValue(fn string, acf bool) func(r Rows, opts []driver.Value) (driver.Val
 		if r.Len() == 0 {
 			return nil, nil
 		}
-		_, x, err := gridded(fn, r, o.step)
+		_, x, err := gridded(fn, r, o)
 		if err != nil {
 			return nil, err
 		}
@@ -185,7 +221,7 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if r.Len() == 0 {
 		return nil, nil
 	}
-	g, x, err := gridded(fn, r, o.step)
+	g, x, err := gridded(fn, r, o)
 	if err != nil {
 		return nil, err
 	}
@@ -203,6 +239,7 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 		out.raw("step", "null")
 	}
 	out.raw("step_inferred", strconv.FormatBool(o.step == 0))
+	out.str("detrend", detrendName(o))
 	out.str("t_first", isoTime(r.T[0]))
 	out.num("mean", c.Mean)
 	out.num("acvf0", c.ACVF0)
@@ -254,7 +291,7 @@ func portmanteauValue(fn string, boxPierce, scalarP bool) func(r Rows, opts []dr
 		if r.Len() < 2 {
 			return nil, nil
 		}
-		g, x, err := gridded(fn, r, o.step)
+		g, x, err := gridded(fn, r, o)
 		if err != nil {
 			return nil, err
 		}
@@ -275,25 +312,26 @@ func portmanteauValue(fn string, boxPierce, scalarP bool) func(r Rows, opts []dr
 		out.int("n_slots", int64(g.NSlots))
 		out.int("missing_slots", int64(g.Missing))
 		out.str("step", stats.FormatStep(g.Step))
+		out.str("detrend", detrendName(o))
 		return out.String(), nil
 	}
 }
 
 func init() {
 	defineSeries(seriesSpec{
-		doc: Doc{Name: "sample_acvf", Signature: "sample_acvf(t, y, lag [, 'step=<duration>'])", Kind: Aggregate,
+		doc: Doc{Name: "sample_acvf", Signature: "sample_acvf(t, y, lag [, 'step=<duration>, detrend=linear'])", Kind: Aggregate,
 			Summary: "sample autocovariance γ̂(lag) = S(lag)/(m(lag)+lag) on the regular grid (divisor n without gaps; R acf na.pass convention with missing slots); NULL if lag ≥ slots"},
 		argNames: []string{"t", "y", "lag", "options"}, values: 1, minOptions: 1, maxOptions: 2,
 		compute: lagValue("sample_acvf", false),
 	})
 	defineSeries(seriesSpec{
-		doc: Doc{Name: "sample_acf", Signature: "sample_acf(t, y, lag [, 'step=<duration>'])", Kind: Aggregate,
+		doc: Doc{Name: "sample_acf", Signature: "sample_acf(t, y, lag [, 'step=<duration>, detrend=linear'])", Kind: Aggregate,
 			Summary: "sample autocorrelation ρ̂(lag) = γ̂(lag)/γ̂(0) on the regular grid; NULL for a constant series or lag ≥ slots"},
 		argNames: []string{"t", "y", "lag", "options"}, values: 1, minOptions: 1, maxOptions: 2,
 		compute: lagValue("sample_acf", true),
 	})
 	defineSeries(seriesSpec{
-		doc: Doc{Name: "correlogram", Signature: "correlogram(t, y, max_lag [, 'step=<duration>, fitdf=<k>'])", Kind: Aggregate,
+		doc: Doc{Name: "correlogram", Signature: "correlogram(t, y, max_lag [, 'step=<duration>, fitdf=<k>, detrend=linear'])", Kind: Aggregate,
 			Summary: "JSON correlogram: n, grid step, missing slots, mean, γ̂(0), and per lag acvf, acf, pacf (Durbin–Levinson), ±1.96/√n band, cumulative Ljung–Box Q and p"},
 		argNames: []string{"t", "y", "max_lag", "options"}, values: 1, minOptions: 1, maxOptions: 2,
 		compute: correlogramValue,
@@ -308,7 +346,7 @@ func init() {
 		{"box_pierce_p", "Box–Pierce p-value (REAL); NULL when undefined or lags ≤ fitdf", true, true},
 	} {
 		defineSeries(seriesSpec{
-			doc:      Doc{Name: d.name, Signature: d.name + "(t, y, lags [, fitdf [, 'step=<duration>']])", Kind: Aggregate, Summary: d.summary},
+			doc:      Doc{Name: d.name, Signature: d.name + "(t, y, lags [, fitdf [, 'step=<duration>, detrend=linear']])", Kind: Aggregate, Summary: d.summary},
 			argNames: []string{"t", "y", "lags", "fitdf", "options"}, values: 1, minOptions: 1, maxOptions: 3,
 			compute: portmanteauValue(d.name, d.bp, d.p),
 		})

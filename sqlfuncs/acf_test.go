@@ -240,9 +240,19 @@ func queryString(t *testing.T, db *sql.DB, q string, args ...any) (sql.NullStrin
 // reference Box.test values of a case, for the rows selected by where.
 func checkTests(t *testing.T, db *sql.DB, label, from string, c acfRefCase) {
 	t.Helper()
+	checkTestsOpts(t, db, label, from, c, "")
+}
+
+// checkTestsOpts is checkTests with an options argument ('' for none).
+func checkTestsOpts(t *testing.T, db *sql.DB, label, from string, c acfRefCase, opts string) {
+	t.Helper()
+	optArg := ""
+	if opts != "" {
+		optArg = ", '" + opts + "'"
+	}
 	for _, b := range c.Box {
 		fn := map[string]string{"Ljung-Box": "ljung_box", "Box-Pierce": "box_pierce"}[b.Type]
-		s, err := queryString(t, db, fmt.Sprintf("SELECT %s(t, value, ?, ?) FROM %s", fn, from), b.Lags, b.Fitdf)
+		s, err := queryString(t, db, fmt.Sprintf("SELECT %s(t, value, ?, ?%s) FROM %s", fn, optArg, from), b.Lags, b.Fitdf)
 		if err != nil || !s.Valid {
 			t.Fatalf("%s %s: %v %v", label, fn, s, err)
 		}
@@ -254,7 +264,7 @@ func checkTests(t *testing.T, db *sql.DB, label, from string, c acfRefCase) {
 			t.Errorf("%s %s(lags=%d, fitdf=%d) = %s; want q %v p %v", label, fn, b.Lags, b.Fitdf, s.String, b.Q, b.P)
 		}
 		var p sql.NullFloat64
-		if err := db.QueryRow(fmt.Sprintf("SELECT %s_p(t, value, ?, ?) FROM %s", fn, from), b.Lags, b.Fitdf).Scan(&p); err != nil || !p.Valid || !pClose(p.Float64, b.P) {
+		if err := db.QueryRow(fmt.Sprintf("SELECT %s_p(t, value, ?, ?%s) FROM %s", fn, optArg, from), b.Lags, b.Fitdf).Scan(&p); err != nil || !p.Valid || !pClose(p.Float64, b.P) {
 			t.Errorf("%s %s_p = %v %v; want %v", label, fn, p, err, b.P)
 		}
 	}
@@ -380,6 +390,74 @@ func TestResidualCorrelogramAgainstR(t *testing.T) {
 			checkCorrelogram(t, fmt.Sprintf("R %s residuals fitdf=%d", name, fitdf), text.String, rc)
 		}
 		checkTests(t, s.DB, "R "+name+" residuals", from, rc)
+	}
+}
+
+// TestDetrendLinearAgainstR: the detrend=linear option on the raw Nile and
+// co2 readings (monthly co2: slots of 1y/12, times at calendar month
+// starts) against R's correlogram and tests of residuals(lm(x ~ time(x)))
+// (R 4.2.2, acf_ref.R cases nile_lm_resid and co2_lm_resid): the residuals
+// of a line on the slot index, which time(x) is up to an affine change.
+func TestDetrendLinearAgainstR(t *testing.T) {
+	ref := loadACFRef(t, "acf_r.json")
+	s := openACFStore(t)
+	for _, name := range []string{"nile", "co2"} {
+		c, rc := ref[name], ref[name+"_lm_resid"]
+		sid := insertReadings(t, s.DB, name+"-raw", c.unix(t), c.Y)
+		from := fmt.Sprintf("readings WHERE series_id = %d", sid)
+		for _, fitdf := range []int{0, 2} {
+			text, err := queryString(t, s.DB, fmt.Sprintf("SELECT correlogram(t, value, ?, 'fitdf=%d, detrend=linear') FROM %s", fitdf, from), rc.MaxLag)
+			if err != nil || !text.Valid {
+				t.Fatalf("%s: %v %v", name, text, err)
+			}
+			if !strings.Contains(text.String, `"detrend":"linear"`) {
+				t.Errorf("%s: no detrend key in %.200s", name, text.String)
+			}
+			checkCorrelogram(t, fmt.Sprintf("R %s detrend=linear fitdf=%d", name, fitdf), text.String, rc)
+		}
+		checkTestsOpts(t, s.DB, "R "+name+" detrend=linear", from, rc, "detrend=linear")
+		for _, h := range []int{0, 1, rc.MaxLag} {
+			var g, r sql.NullFloat64
+			if err := s.DB.QueryRow("SELECT sample_acvf(t, value, ?, 'detrend=linear'), sample_acf(t, value, ?, 'detrend=linear') FROM "+from, h, h).Scan(&g, &r); err != nil {
+				t.Fatal(err)
+			}
+			if !g.Valid || !r.Valid || !relClose(g.Float64, *rc.ACVF[h], 1e-9, 1e-12**rc.ACVF[0]) || !relClose(r.Float64, *rc.ACF[h], 1e-9, 1e-12) {
+				t.Errorf("%s detrended lag %d: sample_acvf %v sample_acf %v; want %v %v", name, h, g, r, *rc.ACVF[h], *rc.ACF[h])
+			}
+		}
+	}
+}
+
+// TestDetrendLinearEdges: the option's spelling, its error, and the
+// degenerate groups (fewer than 3 readings; readings on an exact line),
+// whose residual autocorrelations are NULL, not correlations of rounding
+// noise. Expected values are the definitions (common practice).
+func TestDetrendLinearEdges(t *testing.T) {
+	s := openACFStore(t)
+	db := s.DB
+	tv := []any{int64(1700000000), int64(1700003600), int64(1700007200), int64(1700010800), int64(1700014400)}
+	insertLagObs(t, db, 901, tv, []any{1.5, 3.0, 4.5, 6.0, 7.5}) // exact line
+	insertLagObs(t, db, 902, tv[:2], []any{1.0, 2.0})
+	insertLagObs(t, db, 903, tv, []any{1.0, 3.0, 2.0, 5.0, 4.0})
+	for _, g := range []int{901, 902} {
+		var r sql.NullFloat64
+		if err := db.QueryRow("SELECT sample_acf(t, y, 1, 'detrend=linear') FROM lagobs WHERE g = ?", g).Scan(&r); err != nil || r.Valid {
+			t.Errorf("group %d: sample_acf of residuals = %v %v, want NULL", g, r, err)
+		}
+	}
+	// 903: residuals of 1,3,2,5,4 on k = 0..4 (slope 0.8, intercept 1.4):
+	// −0.4, 0.8, −1.0, 1.2, −0.6; γ̂(0) = 3.6/5, γ̂(1) = (−0.32 − 0.8 − 1.2 − 0.72)/5.
+	var r sql.NullFloat64
+	if err := db.QueryRow("SELECT sample_acf(t, y, 1, ' detrend = linear ') FROM lagobs WHERE g = 903").Scan(&r); err != nil || !r.Valid || !relClose(r.Float64, -3.04/3.6, 1e-12, 0) {
+		t.Errorf("group 903: sample_acf of residuals = %v %v, want %v", r, err, -3.04/3.6)
+	}
+	var none, def sql.NullFloat64
+	if err := db.QueryRow("SELECT sample_acf(t, y, 1, 'detrend=none'), sample_acf(t, y, 1) FROM lagobs WHERE g = 903").Scan(&none, &def); err != nil || none != def {
+		t.Errorf("detrend=none %v differs from no option %v (%v)", none, def, err)
+	}
+	_, err := queryString(t, db, "SELECT correlogram(t, y, 2, 'detrend=quadratic') FROM lagobs WHERE g = 903")
+	if err == nil || !strings.Contains(err.Error(), "correlogram: option detrend=\"quadratic\" must be linear or none") {
+		t.Errorf("bad detrend: %v", err)
 	}
 }
 

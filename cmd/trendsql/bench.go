@@ -40,8 +40,10 @@ repetitions interleaved: the CSV load, the plain scan
 
   SELECT series_id, avg(value), count(*) FROM readings GROUP BY series_id
 
-every core aggregate over all series, one query computing trend slope,
-correlogram(48) and Ljung–Box(24) together, and a full summarize run (no
+every core aggregate over all series, one query computing trend slope and
+the correlogram(48) and Ljung–Box(24) of the straight-line residuals
+together (the figures of the Python scripts in testdata/bench), and a full
+summarize run (no
 seasonal model: every figure on the raw readings, including the exact Sen
 slope; plus a seasonal run when the records span two years). Each
 figure is the median over --reps runs, shown as a ratio to the avg() scan of

@@ -22,7 +22,9 @@
 #   shell avg() scan   sqlite3 bench.db "SELECT series_id, avg(value), count(*) FROM readings GROUP BY series_id"
 #   trendsql avg() scan   the same statement through `trendsql query`
 #   trendsql trend+correlogram+LB   trend_slope, correlogram(…, 48) and
-#                      ljung_box(…, 24) for every series in one `trendsql query`
+#                      ljung_box(…, 24) of the residuals of the straight-line
+#                      fit (detrend=linear), the scripts' three figures, for
+#                      every series in one `trendsql query`
 #   trendsql summarize the full summary run (written to bench.db) with the
 #                      model of `trendsql bench`'s "summarize" item: no
 #                      seasonal model, every figure on the raw readings; the
@@ -54,7 +56,7 @@ done
 [ -x /usr/bin/time ] || { echo "$0: needs GNU time at /usr/bin/time" >&2; exit 1; }
 
 SCAN="SELECT series_id, avg(value), count(*) FROM readings GROUP BY series_id"
-COMBINED="SELECT series_id, trend_slope(t, value), correlogram(t, value, 48), ljung_box(t, value, 24) FROM readings GROUP BY series_id"
+COMBINED="SELECT series_id, trend_slope(t, value), correlogram(t, value, 48, 'detrend=linear'), ljung_box(t, value, 24, 0, 'detrend=linear') FROM readings GROUP BY series_id"
 ROWS=$("$SQLITE3" "$DB" "SELECT count(*) FROM readings")
 
 has_cmd() { "$TRENDSQL" "$1" --help >/dev/null 2>&1; }
