@@ -243,7 +243,7 @@ func checkTests(t *testing.T, db *sql.DB, label, from string, c acfRefCase) {
 	checkTestsOpts(t, db, label, from, c, "")
 }
 
-// checkTestsOpts is checkTests with an options argument (” for none).
+// checkTestsOpts is checkTests with an options argument (empty: none).
 func checkTestsOpts(t *testing.T, db *sql.DB, label, from string, c acfRefCase, opts string) {
 	t.Helper()
 	optArg := ""
