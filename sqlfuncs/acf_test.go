@@ -393,15 +393,17 @@ func TestResidualCorrelogramAgainstR(t *testing.T) {
 	}
 }
 
-// TestDetrendLinearAgainstR: the detrend=linear option on the raw Nile and
-// co2 readings (monthly co2: slots of 1y/12, times at calendar month
-// starts) against R's correlogram and tests of residuals(lm(x ~ time(x)))
-// (R 4.2.2, acf_ref.R cases nile_lm_resid and co2_lm_resid): the residuals
-// of a line on the slot index, which time(x) is up to an affine change.
+// TestDetrendLinearAgainstR: the detrend=linear option on the raw Nile,
+// co2 and presidents readings (monthly co2: slots of 1y/12, times at
+// calendar month starts; presidents: quarters with 6 missing) against R's
+// correlogram and tests of residuals(lm(x ~ time(x))) (R 4.2.2, acf_ref.R
+// cases nile_lm_resid, co2_lm_resid and presidents_lm_resid, the last with
+// na.action = na.exclude): the residuals of a line on the slot index, which
+// time(x) is up to an affine change.
 func TestDetrendLinearAgainstR(t *testing.T) {
 	ref := loadACFRef(t, "acf_r.json")
 	s := openACFStore(t)
-	for _, name := range []string{"nile", "co2"} {
+	for _, name := range []string{"nile", "co2", "presidents"} {
 		c, rc := ref[name], ref[name+"_lm_resid"]
 		sid := insertReadings(t, s.DB, name+"-raw", c.unix(t), c.Y)
 		from := fmt.Sprintf("readings WHERE series_id = %d", sid)

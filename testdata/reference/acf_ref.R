@@ -12,7 +12,8 @@
 #     $statistic is the reference Q; the reference p-value is
 #     pchisq(Q, h - k, lower.tail = FALSE) (Box.test itself reports
 #     1 - pchisq(...), which loses precision below about 1e-15).
-#   residuals(lm(x ~ time(x))) for the residual series.
+#   residuals(lm(x ~ time(x))) for the residual series (presidents, which
+#   has missing quarters: lm(..., na.action = na.exclude), NA kept in place).
 #
 # Times: each observation is given as the UTC date of the start of its
 # period (year, quarter or month), so trendsql places them on a grid of
@@ -61,6 +62,8 @@ case_json <- function(name, source, x, L, boxes) {
 }
 
 resid_ts <- function(x) ts(unname(residuals(lm(x ~ time(x)))), start = start(x), frequency = frequency(x))
+# With missing values: na.exclude puts NA back in place of the dropped rows.
+resid_ts_na <- function(x) ts(unname(residuals(lm(x ~ time(x), na.action = na.exclude))), start = start(x), frequency = frequency(x))
 
 cases <- c(
   case_json("nile", "R datasets::Nile (annual flow at Aswan, 1871-1970)", Nile, 20,
@@ -74,7 +77,9 @@ cases <- c(
   case_json("presidents", "R datasets::presidents (quarterly approval, 1945-1974, 6 NA)", presidents, 16,
     list(c(4, 0), c(8, 1), c(16, 0))),
   case_json("lakehuron", "R datasets::LakeHuron (annual level, 1875-1972)", LakeHuron, 25,
-    list(c(5, 0), c(25, 2)))
+    list(c(5, 0), c(25, 2))),
+  case_json("presidents_lm_resid", "residuals(lm(presidents ~ time(presidents), na.action = na.exclude))", resid_ts_na(presidents), 16,
+    list(c(4, 0), c(8, 1)))
 )
 
 cat('{"generator":"testdata/reference/acf_ref.R","r_version":"', R.version.string, '",\n', sep = "")
