@@ -32,6 +32,9 @@ import (
 	"trendsql/sqlfuncs"
 	"trendsql/sqlfuncs/stats"
 	"trendsql/sqlfuncs/timefmt"
+
+	"modernc.org/sqlite"
+	sqlite3 "modernc.org/sqlite/lib"
 )
 
 // ErrBusy is returned when another summarize run holds the store's lock and
@@ -51,7 +54,12 @@ type SummarizeOptions struct {
 	Model       stats.SummaryOptions
 	ChangedOnly bool
 	Wait        bool
-	Workers     int // 0 = runtime.NumCPU()
+	// WriteWait is how long the final write keeps retrying while another
+	// connection (an import, say) holds the store's write lock; 0 means
+	// DefaultWriteWait. The figures are computed before the write, so a
+	// busy store delays the run instead of discarding its work.
+	WriteWait time.Duration
+	Workers   int // 0 = runtime.NumCPU()
 	ToolVersion string
 	// Progress, if set, is called after each series is computed.
 	Progress func(done, total int)
@@ -227,7 +235,11 @@ func (s *Store) Summarize(ctx context.Context, o SummarizeOptions) (*SummarizeRe
 		}
 	}
 	res.Computed = len(results)
-	if err := s.writeRun(ctx, res, results); err != nil {
+	wait := o.WriteWait
+	if wait <= 0 {
+		wait = DefaultWriteWait
+	}
+	if err := s.writeRunWaiting(ctx, res, results, wait); err != nil {
 		return fail(err)
 	}
 	res.Elapsed = time.Since(start)
@@ -522,9 +534,65 @@ func adjustFDRWith(results []*seriesResult, others []float64, alpha float64) {
 	}
 }
 
-// writeRun stores every result and marks the run ok, in one transaction.
-func (s *Store) writeRun(ctx context.Context, res *SummarizeResult, results []*seriesResult) error {
-	tx, err := s.DB.BeginTx(ctx, nil)
+// DefaultWriteWait is how long a summary run's final write waits for
+// another writer by default.
+const DefaultWriteWait = 15 * time.Minute
+
+// writeAttempt bounds one write attempt's wait for the lock (SQLite's busy
+// timeout on the write connection); a variable so tests can shorten it.
+var writeAttempt = BusyTimeout
+
+// writeRunWaiting runs writeRun, and while it fails because another
+// connection holds the write lock, tries again (with a growing pause, at
+// most 5 s) until wait has passed or ctx ends. A failed attempt has rolled
+// back, so nothing is stored twice.
+func (s *Store) writeRunWaiting(ctx context.Context, res *SummarizeResult, results []*seriesResult, wait time.Duration) error {
+	deadline := time.Now().Add(wait)
+	pause := 100 * time.Millisecond
+	for {
+		attempt := min(writeAttempt, max(time.Until(deadline), time.Millisecond))
+		err := s.writeRun(ctx, res, results, attempt)
+		if err == nil || !isBusy(err) {
+			return err
+		}
+		if !time.Now().Before(deadline) {
+			return fmt.Errorf("%w; another writer held the store for longer than the write wait (%s)", err, wait)
+		}
+		select {
+		case <-ctx.Done():
+			return ctx.Err()
+		case <-time.After(min(pause, time.Until(deadline))):
+		}
+		pause = min(2*pause, 5*time.Second)
+	}
+}
+
+// isBusy reports whether err is SQLite's "database is locked" (SQLITE_BUSY)
+// or "table is locked" (SQLITE_LOCKED), extended codes included.
+func isBusy(err error) bool {
+	var se *sqlite.Error
+	if errors.As(err, &se) {
+		c := se.Code() & 0xff
+		return c == sqlite3.SQLITE_BUSY || c == sqlite3.SQLITE_LOCKED
+	}
+	return false
+}
+
+// writeRun stores every result and marks the run ok, in one transaction on
+// a connection of its own whose busy timeout is busyWait for the duration.
+func (s *Store) writeRun(ctx context.Context, res *SummarizeResult, results []*seriesResult, busyWait time.Duration) error {
+	conn, err := s.DB.Conn(ctx)
+	if err != nil {
+		return fmt.Errorf("summarize: write: %w", err)
+	}
+	defer conn.Close()
+	if busyWait != BusyTimeout {
+		if _, err := conn.ExecContext(ctx, fmt.Sprintf("PRAGMA busy_timeout = %d", busyWait.Milliseconds())); err != nil {
+			return fmt.Errorf("summarize: write: %w", err)
+		}
+		defer conn.ExecContext(context.Background(), fmt.Sprintf("PRAGMA busy_timeout = %d", BusyTimeout.Milliseconds()))
+	}
+	tx, err := conn.BeginTx(ctx, nil)
 	if err != nil {
 		return fmt.Errorf("summarize: begin write: %w", err)
 	}

@@ -25,6 +25,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 
@@ -1073,4 +1074,89 @@ func (s *Store) beginFixtureBatch(ctx context.Context, series, t int64, v float6
 		return 0, err
 	}
 	return b, tx.Commit()
+}
+
+// holdWriteLock takes the store's write lock on a connection of its own
+// (BEGIN IMMEDIATE) and releases it after d, or when release is called.
+func holdWriteLock(t *testing.T, s *Store, d time.Duration) (release func()) {
+	t.Helper()
+	ctx := context.Background()
+	conn, err := s.DB.Conn(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := conn.ExecContext(ctx, "BEGIN IMMEDIATE"); err != nil {
+		t.Fatal(err)
+	}
+	var once sync.Once
+	release = func() {
+		once.Do(func() {
+			conn.ExecContext(ctx, "ROLLBACK")
+			conn.Close()
+		})
+	}
+	time.AfterFunc(d, release)
+	return release
+}
+
+// TestSummarizeWriteWaitsForOtherWriter: another connection holds the write
+// lock (as a long import does) when the computed run is written. With
+// attempts shortened to 100 ms, the write retries until the lock is
+// released and the run is stored; with a write wait shorter than the hold
+// the run fails, is recorded as failed, and stores no series rows.
+func TestSummarizeWriteWaitsForOtherWriter(t *testing.T) {
+	fx := buildSummaryFixture(t)
+	saved := writeAttempt
+	writeAttempt = 100 * time.Millisecond
+	defer func() { writeAttempt = saved }()
+
+	run := func(hold, wait time.Duration) (*SummarizeResult, error, time.Duration) {
+		o := fixtureOptions(0)
+		o.WriteWait = wait
+		var release func()
+		var mu sync.Mutex
+		o.Progress = func(done, total int) {
+			mu.Lock()
+			defer mu.Unlock()
+			if done == total && release == nil {
+				release = holdWriteLock(t, fx.s, hold)
+			}
+		}
+		start := time.Now()
+		res, err := fx.s.Summarize(context.Background(), o)
+		elapsed := time.Since(start)
+		mu.Lock()
+		if release != nil {
+			release()
+		}
+		mu.Unlock()
+		return res, err, elapsed
+	}
+
+	res, err, elapsed := run(700*time.Millisecond, time.Minute)
+	if err != nil {
+		t.Fatalf("write behind a 0.7 s lock: %v", err)
+	}
+	if elapsed < 700*time.Millisecond {
+		t.Errorf("run took %s: the lock was not held while it wrote, the test proved nothing", elapsed)
+	}
+	var n int
+	var status string
+	if err := fx.s.DB.QueryRow(`SELECT count(*) FROM series_summaries WHERE run_id = ?`, res.RunID).Scan(&n); err != nil || n != 5 {
+		t.Errorf("stored rows %d (%v), want 5", n, err)
+	}
+	if err := fx.s.DB.QueryRow(`SELECT status FROM summary_runs WHERE id = ?`, res.RunID).Scan(&status); err != nil || status != "ok" {
+		t.Errorf("run status %q (%v), want ok", status, err)
+	}
+
+	res, err, _ = run(2*time.Second, 300*time.Millisecond)
+	if err == nil || !isBusy(err) || !strings.Contains(err.Error(), "longer than the write wait (300ms)") {
+		t.Fatalf("write behind a 2 s lock with a 0.3 s wait: %v; want a busy error naming the wait", err)
+	}
+	if err := fx.s.DB.QueryRow(`SELECT count(*) FROM series_summaries WHERE run_id = ?`, res.RunID).Scan(&n); err != nil || n != 0 {
+		t.Errorf("failed run stored %d rows (%v)", n, err)
+	}
+	if err := fx.s.DB.QueryRow(`SELECT status FROM summary_runs WHERE id = ?`, res.RunID).Scan(&status); err != nil || status != "failed" {
+		t.Errorf("failed run status %q (%v), want failed", status, err)
+	}
 }

@@ -26,6 +26,7 @@ type summarizeOptions struct {
 	alpha, confidence   float64
 	minN                int
 	changedOnly, wait   bool
+	writeWait           time.Duration
 	workers             int
 	quiet               bool
 }
@@ -71,6 +72,7 @@ the store and --wait was not given.`,
 	fl.IntVar(&o.minN, "min-n", 10, "fewest readings for a summary; fewer sets insufficient_data")
 	fl.BoolVar(&o.changedOnly, "changed-only", false, "skip series with no readings imported since their last successful summary with the same parameters")
 	fl.BoolVar(&o.wait, "wait", false, "wait for another running summarize instead of exiting with code 3")
+	fl.DurationVar(&o.writeWait, "write-wait", store.DefaultWriteWait, "how long the final write keeps retrying while another writer (e.g. an import) holds the store")
 	fl.IntVar(&o.workers, "workers", 0, "parallel workers (0 = all cores)")
 	fl.BoolVar(&o.quiet, "quiet", false, "no progress bar even on a terminal")
 	return c
@@ -105,9 +107,12 @@ func runSummarize(cmd *cobra.Command, e *env, o summarizeOptions) error {
 	if o.minN < 3 {
 		return usageErr("summarize: --min-n must be at least 3")
 	}
+	if o.writeWait <= 0 {
+		return usageErr("summarize: --write-wait must be a positive duration, e.g. 30s or 15m, got %s", o.writeWait)
+	}
 	opts := store.SummarizeOptions{
 		Stations: o.stations, Variables: o.variables, Where: o.where,
-		Model: model, ChangedOnly: o.changedOnly, Wait: o.wait, Workers: o.workers,
+		Model: model, ChangedOnly: o.changedOnly, Wait: o.wait, WriteWait: o.writeWait, Workers: o.workers,
 		ToolVersion: versionString(), Analyze: sqlfuncs.SummarizeSeries,
 	}
 	for _, tv := range []struct {
