@@ -58,8 +58,8 @@ type SummarizeOptions struct {
 	// connection (an import, say) holds the store's write lock; 0 means
 	// DefaultWriteWait. The figures are computed before the write, so a
 	// busy store delays the run instead of discarding its work.
-	WriteWait time.Duration
-	Workers   int // 0 = runtime.NumCPU()
+	WriteWait   time.Duration
+	Workers     int // 0 = runtime.NumCPU()
 	ToolVersion string
 	// Progress, if set, is called after each series is computed.
 	Progress func(done, total int)
