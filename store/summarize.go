@@ -26,6 +26,7 @@ import (
 	"sort"
 	"strings"
 	"sync"
+	"sync/atomic"
 	"syscall"
 	"time"
 
@@ -542,6 +543,10 @@ const DefaultWriteWait = 15 * time.Minute
 // timeout on the write connection); a variable so tests can shorten it.
 var writeAttempt = BusyTimeout
 
+// writeRetries counts write attempts that found the store busy (for tests
+// and diagnostics).
+var writeRetries atomic.Int64
+
 // writeRunWaiting runs writeRun, and while it fails because another
 // connection holds the write lock, tries again (with a growing pause, at
 // most 5 s) until wait has passed or ctx ends. A failed attempt has rolled
@@ -555,6 +560,7 @@ func (s *Store) writeRunWaiting(ctx context.Context, res *SummarizeResult, resul
 		if err == nil || !isBusy(err) {
 			return err
 		}
+		writeRetries.Add(1)
 		if !time.Now().Before(deadline) {
 			return fmt.Errorf("%w; another writer held the store for longer than the write wait (%s)", err, wait)
 		}
