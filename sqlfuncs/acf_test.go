@@ -243,6 +243,26 @@ func checkTests(t *testing.T, db *sql.DB, label, from string, c acfRefCase) {
 	checkTestsOpts(t, db, label, from, c, "")
 }
 
+// checkSingleLags compares sample_acvf and sample_acf at lags 0, 1 and
+// c.MaxLag (with the options text opts, empty for none) with c.
+func checkSingleLags(t *testing.T, db *sql.DB, label, from, opts string, c acfRefCase) {
+	t.Helper()
+	optArg := ""
+	if opts != "" {
+		optArg = ", '" + opts + "'"
+	}
+	for _, h := range []int{0, 1, c.MaxLag} {
+		var g, r sql.NullFloat64
+		q := fmt.Sprintf("SELECT sample_acvf(t, value, ?%s), sample_acf(t, value, ?%s) FROM %s", optArg, optArg, from)
+		if err := db.QueryRow(q, h, h).Scan(&g, &r); err != nil {
+			t.Fatal(err)
+		}
+		if !g.Valid || !r.Valid || !relClose(g.Float64, *c.ACVF[h], 1e-9, 1e-12**c.ACVF[0]) || !relClose(r.Float64, *c.ACF[h], 1e-9, 1e-12) {
+			t.Errorf("%s lag %d: sample_acvf %v sample_acf %v; want %v %v", label, h, g, r, *c.ACVF[h], *c.ACF[h])
+		}
+	}
+}
+
 // checkTestsOpts is checkTests with an options argument (empty: none).
 func checkTestsOpts(t *testing.T, db *sql.DB, label, from string, c acfRefCase, opts string) {
 	t.Helper()
@@ -319,16 +339,7 @@ func TestCorrelogramAgainstR(t *testing.T) {
 			t.Fatalf("%s explicit step: %v %v", name, text2, err)
 		}
 		checkCorrelogram(t, "R "+name+" step="+step, text2.String, c)
-		// Single lags: sample_acvf and sample_acf.
-		for _, h := range []int{0, 1, c.MaxLag} {
-			var g, r sql.NullFloat64
-			if err := s.DB.QueryRow("SELECT sample_acvf(t, value, ?), sample_acf(t, value, ?) FROM "+from, h, h).Scan(&g, &r); err != nil {
-				t.Fatal(err)
-			}
-			if !g.Valid || !r.Valid || !relClose(g.Float64, *c.ACVF[h], 1e-9, 1e-12**c.ACVF[0]) || !relClose(r.Float64, *c.ACF[h], 1e-9, 1e-12) {
-				t.Errorf("%s lag %d: sample_acvf %v sample_acf %v; want %v %v", name, h, g, r, *c.ACVF[h], *c.ACF[h])
-			}
-		}
+		checkSingleLags(t, s.DB, name, from, "", c)
 	}
 }
 
@@ -418,15 +429,7 @@ func TestDetrendLinearAgainstR(t *testing.T) {
 			checkCorrelogram(t, fmt.Sprintf("R %s detrend=linear fitdf=%d", name, fitdf), text.String, rc)
 		}
 		checkTestsOpts(t, s.DB, "R "+name+" detrend=linear", from, rc, "detrend=linear")
-		for _, h := range []int{0, 1, rc.MaxLag} {
-			var g, r sql.NullFloat64
-			if err := s.DB.QueryRow("SELECT sample_acvf(t, value, ?, 'detrend=linear'), sample_acf(t, value, ?, 'detrend=linear') FROM "+from, h, h).Scan(&g, &r); err != nil {
-				t.Fatal(err)
-			}
-			if !g.Valid || !r.Valid || !relClose(g.Float64, *rc.ACVF[h], 1e-9, 1e-12**rc.ACVF[0]) || !relClose(r.Float64, *rc.ACF[h], 1e-9, 1e-12) {
-				t.Errorf("%s detrended lag %d: sample_acvf %v sample_acf %v; want %v %v", name, h, g, r, *rc.ACVF[h], *rc.ACF[h])
-			}
-		}
+		checkSingleLags(t, s.DB, name+" detrended", from, "detrend=linear", rc)
 	}
 }
 

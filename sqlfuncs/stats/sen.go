@@ -667,19 +667,15 @@ func (d *senData) floatSortSlopes(ps []slopeRef) []slopeItem {
 	for i, p := range ps {
 		it[i] = slopeItem{d.slopeF(p), p}
 	}
-	slices.SortFunc(it, func(a, b slopeItem) int {
-		if a.f < b.f {
-			return -1
-		} else if a.f > b.f {
-			return 1
-		}
-		return 0
-	})
+	slices.SortFunc(it, bySlopeF)
 	for i := range it {
 		ps[i] = it[i].r
 	}
 	return it
 }
+
+// bySlopeF orders items by their floating-point slope estimates.
+func bySlopeF(a, b slopeItem) int { return cmp.Compare(a.f, b.f) }
 
 // slopeTol is the gap above which two floating-point slope estimates are
 // in the exact order (each carries at most 3u relative error and its sign is
@@ -709,14 +705,7 @@ func (d *senData) exactSelect(it []slopeItem, r int) slopeRef {
 				near = append(near, e)
 			}
 		}
-		slices.SortFunc(near, func(a, b slopeItem) int {
-			if a.f < b.f {
-				return -1
-			} else if a.f > b.f {
-				return 1
-			}
-			return 0
-		})
+		slices.SortFunc(near, bySlopeF)
 		pos := r - below // 0 ≤ pos < len(near)
 		cs, ce := pos, pos+1
 		for cs > 0 && near[cs].f-near[cs-1].f <= slopeTol(near[cs].f, near[cs-1].f) {
