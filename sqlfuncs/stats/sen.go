@@ -19,7 +19,7 @@ package stats
 // m of them can be drawn uniformly at random with a Fenwick tree (from all
 // pairs, the first round draws pairs directly); the sample order statistics
 // around the target fraction (± 3√m) give new, narrower cuts. When at most
-// max(8n, 65536) pairs are left they are enumerated (O(n log n + K)) and the
+// max(8n, 8192) pairs are left they are enumerated (O(n log n + K)) and the
 // target is found by selection on the floating-point slopes followed by an
 // exact sort of the few slopes too close to it to call.
 //
@@ -133,9 +133,9 @@ func newSenData(t, y []float64, blocks []int) *senData {
 	if d.rng == nil {
 		d.rng = rand.New(&d.pcg)
 	}
-	d.limit = int64(max(8*n, 65536))
-	d.mFirst = max(8*n, 8192)
-	d.mNext = max(4*n, 16384)
+	d.limit = int64(max(8*n, 8192))
+	d.mFirst = max(8*n, 4096)
+	d.mNext = max(4*n, 4096)
 	d.dropPerms()
 	d.cuts, d.tieBlocks = d.cuts[:0], d.tieBlocks[:0]
 	return d
