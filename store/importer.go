@@ -125,6 +125,8 @@ type ReadingsOptions struct {
 	// Progress, if set, is called now and then while the file is read, and
 	// once at its end, from the importing goroutine.
 	Progress func(Progress)
+	// Stdin is read when the path is StdinPath (nil: os.Stdin).
+	Stdin io.Reader
 }
 
 // StationsOptions controls ImportStations.
@@ -132,7 +134,16 @@ type StationsOptions struct {
 	DecimalComma bool // latitude, longitude and elevation use a decimal comma
 	Delimiter    byte // field separator; 0 means ','
 	Progress     func(Progress)
+	Stdin        io.Reader // read when the path is StdinPath (nil: os.Stdin)
 }
+
+// StdinPath as an import path reads standard input (or the options' Stdin)
+// instead of a file. The batch records its source as StdinName; the file is
+// read once, as any other, so nothing is stored unless all of it was read.
+const (
+	StdinPath = "-"
+	StdinName = "stdin"
+)
 
 // ImportResult is the accounting of one import batch.
 type ImportResult struct {
@@ -199,7 +210,13 @@ func (in *importInput) Read(p []byte) (int, error) {
 	return n, err
 }
 
-func openInput(path string) (*importInput, error) {
+func openInput(path string, stdin io.Reader) (*importInput, error) {
+	if path == StdinPath {
+		if stdin == nil {
+			stdin = os.Stdin
+		}
+		return &importInput{f: io.NopCloser(stdin), name: StdinName, abs: StdinName, size: -1, h: sha256.New()}, nil
+	}
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, err
@@ -584,7 +601,7 @@ func (s *Store) ImportReadings(ctx context.Context, path string, opt ReadingsOpt
 			return nil, fmt.Errorf("import %s: time zone %q: %w", path, opt.TZ, err)
 		}
 	}
-	in, err := openInput(path)
+	in, err := openInput(path, opt.Stdin)
 	if err != nil {
 		return nil, fmt.Errorf("import: %w", err)
 	}

@@ -48,7 +48,7 @@ var stationColumns = []string{"name", "latitude", "longitude", "elevation_m", "m
 // key (stored keys not in the file are kept). The row counts as duplicate;
 // if anything changed it also counts as replaced.
 func (s *Store) ImportStations(ctx context.Context, path string, opt StationsOptions) (*ImportResult, error) {
-	in, err := openInput(path)
+	in, err := openInput(path, opt.Stdin)
 	if err != nil {
 		return nil, fmt.Errorf("import: %w", err)
 	}

@@ -67,7 +67,9 @@ JSON with the cell text as its value, kept as text exactly as written.
 A station already stored is merged: given cells overwrite, empty cells keep
 the stored value, metadata keys are merged key by key. Rows with a bad
 latitude (outside -90..90), longitude (outside -180..180) or elevation are
-rejected with the reason.`,
+rejected with the reason.
+
+FILE "-" reads standard input; the batch records its source as "stdin".`,
 		Example: `  trendsql import stations sites.csv
   trendsql import stations --delimiter ';' --decimal-comma sites.csv`,
 		Args: exactArgs(1),
@@ -78,7 +80,7 @@ rejected with the reason.`,
 			}
 			return runImport(cmd, e, args[0], func(s *store.Store, progress func(store.Progress)) (string, error) {
 				res, err := s.ImportStations(cmd.Context(), args[0], store.StationsOptions{
-					Delimiter: delim, DecimalComma: f.decimalComma, Progress: progress})
+					Delimiter: delim, DecimalComma: f.decimalComma, Progress: progress, Stdin: e.in})
 				if err != nil {
 					return "", err
 				}
@@ -111,10 +113,13 @@ rejected row by row with the reason. A (station, variable, time) already
 stored or repeated in the file is a duplicate: --on-duplicate error (default)
 stops the import and changes nothing; keep-first keeps the earlier reading;
 replace overwrites it where the value or qualifier differs (an identical row
-changes nothing and is counted as duplicate only).`,
+changes nothing and is counted as duplicate only).
+
+FILE "-" reads standard input; the batch records its source as "stdin".`,
 		Example: `  trendsql import readings --variable stage --unit m gauges.csv
   trendsql import readings --variable-col param --tz Europe/Berlin --delimiter ';' --decimal-comma export.csv
-  trendsql import readings --variable level --on-duplicate keep-first logger-2024.csv`,
+  trendsql import readings --variable level --on-duplicate keep-first logger-2024.csv
+  gunzip -c archive-2019.csv.gz | trendsql import readings --variable stage -`,
 		Args: exactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opt, err := f.readingsOptions()
@@ -123,6 +128,7 @@ changes nothing and is counted as duplicate only).`,
 			}
 			return runImport(cmd, e, args[0], func(s *store.Store, progress func(store.Progress)) (string, error) {
 				opt.Progress = progress
+				opt.Stdin = e.in
 				res, err := s.ImportReadings(cmd.Context(), args[0], opt)
 				if errors.Is(err, store.ErrDuplicate) {
 					return "", fmt.Errorf("%w (--on-duplicate keep-first keeps the earlier reading, replace overwrites it)", err)
@@ -192,6 +198,9 @@ func importDelimiter(s string) (byte, error) {
 // checkImportFile fails early, before a store is created, when the file
 // cannot be read.
 func checkImportFile(path string) error {
+	if path == store.StdinPath {
+		return nil
+	}
 	st, err := os.Stat(path)
 	if err != nil {
 		if errors.Is(err, os.ErrNotExist) {

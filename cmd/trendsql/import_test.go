@@ -7,6 +7,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -164,5 +165,85 @@ func TestImportParseDelimiter(t *testing.T) {
 		if _, err := importDelimiter(in); err == nil {
 			t.Errorf("importDelimiter(%q): no error", in)
 		}
+	}
+}
+
+// TestImportCmdStdin: FILE "-" reads the command's standard input; the
+// batch records "stdin" as its source, error messages name it, and the
+// stored rows are those of the same file imported by name.
+func TestImportCmdStdin(t *testing.T) {
+	dir := t.TempDir()
+	runIn := func(stdin string, args ...string) (string, int) {
+		var out, errw bytes.Buffer
+		code := Main(args, strings.NewReader(stdin), &out, &errw)
+		return errw.String(), code
+	}
+	stations, err := os.ReadFile(importFixture("stations.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	readings, err := os.ReadFile(importFixture("readings_rejects.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	dbStdin, dbFile := filepath.Join(dir, "stdin.db"), filepath.Join(dir, "file.db")
+	errs, code := runIn(string(stations), "--db", dbStdin, "import", "stations", "-")
+	if code != 0 || !strings.HasPrefix(errs, "stdin → batch 1: 3 rows read, 3 new") {
+		t.Fatalf("stations from stdin: exit %d, %q", code, errs)
+	}
+	errs, code = runIn(string(readings), "--db", dbStdin, "import", "readings", "--variable", "level", "--unit", "m", "--tz", "Europe/Berlin", "-")
+	if code != 0 || !strings.HasPrefix(errs, "stdin → batch 2: 22 rows read, 4 stored, 18 rejected") {
+		t.Fatalf("readings from stdin: exit %d, %q", code, errs)
+	}
+	for _, a := range [][]string{
+		{"--db", dbFile, "import", "stations", importFixture("stations.csv")},
+		{"--db", dbFile, "import", "readings", "--variable", "level", "--unit", "m", "--tz", "Europe/Berlin", importFixture("readings_rejects.csv")},
+	} {
+		if errs, code := runIn("", a...); code != 0 {
+			t.Fatalf("%v: exit %d, %q", a, code, errs)
+		}
+	}
+	dump := func(db string) (string, []string) {
+		s := importStoreCheck(t, db)
+		var b strings.Builder
+		rows, err := s.DB.Query(`SELECT series_id, t, value, coalesce(qualifier, '-') FROM readings ORDER BY 1, 2`)
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer rows.Close()
+		for rows.Next() {
+			var sid, tt int64
+			var v float64
+			var q string
+			if err := rows.Scan(&sid, &tt, &v, &q); err != nil {
+				t.Fatal(err)
+			}
+			fmt.Fprintf(&b, "%d %d %v %s\n", sid, tt, v, q)
+		}
+		var sources []string
+		srows, err := s.DB.Query(`SELECT source FROM import_batches ORDER BY id`)
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer srows.Close()
+		for srows.Next() {
+			var src string
+			srows.Scan(&src)
+			sources = append(sources, src)
+		}
+		return b.String(), sources
+	}
+	a, srcA := dump(dbStdin)
+	b, _ := dump(dbFile)
+	if a != b || a == "" {
+		t.Errorf("readings from stdin differ from the file's:\n%s\nvs\n%s", a, b)
+	}
+	if len(srcA) != 2 || srcA[0] != "stdin" || srcA[1] != "stdin" {
+		t.Errorf("batch sources %v, want [stdin stdin]", srcA)
+	}
+	// A bad header from stdin names "stdin" and stores nothing.
+	errs, code = runIn("when,level\n2024-01-01,1\n", "--db", dbStdin, "import", "readings", "--variable", "level", "-")
+	if code != ExitFailed || !strings.Contains(errs, "stdin line 1") {
+		t.Errorf("bad stdin: exit %d, %q", code, errs)
 	}
 }
