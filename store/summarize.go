@@ -247,6 +247,64 @@ func (s *Store) Summarize(ctx context.Context, o SummarizeOptions) (*SummarizeRe
 	return res, nil
 }
 
+// correlogramWriter inserts series_correlograms rows in statements of
+// correlogramBatch rows (one statement per stored lag cost about as much as
+// the rest of a short series' summary); the last partial batch goes row by
+// row.
+type correlogramWriter struct {
+	full, one *sql.Stmt
+	args      []any
+}
+
+const correlogramCols = 9
+
+// correlogramBatch is the rows per full statement (a variable so that tests
+// can make the fixture's few rows fill batches).
+var correlogramBatch = 100
+
+func newCorrelogramWriter(ctx context.Context, tx *sql.Tx) (*correlogramWriter, error) {
+	const head = `INSERT INTO series_correlograms(run_id, series_id, lag, acvf, acf, pacf, band, ljung_box_q, ljung_box_p) VALUES `
+	const row = `(?,?,?,?,?,?,?,?,?)`
+	w := &correlogramWriter{args: make([]any, 0, correlogramCols*correlogramBatch)}
+	var err error
+	if w.one, err = tx.PrepareContext(ctx, head+row); err != nil {
+		return nil, fmt.Errorf("summarize: prepare: %w", err)
+	}
+	if w.full, err = tx.PrepareContext(ctx, head+strings.Repeat(row+",", correlogramBatch-1)+row); err != nil {
+		w.one.Close()
+		return nil, fmt.Errorf("summarize: prepare: %w", err)
+	}
+	return w, nil
+}
+
+// add queues one row (correlogramCols values), writing a full batch when
+// one is ready.
+func (w *correlogramWriter) add(ctx context.Context, vals ...any) error {
+	w.args = append(w.args, vals...)
+	if len(w.args) < correlogramCols*correlogramBatch {
+		return nil
+	}
+	_, err := w.full.ExecContext(ctx, w.args...)
+	w.args = w.args[:0]
+	return err
+}
+
+// flush writes the queued rows.
+func (w *correlogramWriter) flush(ctx context.Context) error {
+	for i := 0; i < len(w.args); i += correlogramCols {
+		if _, err := w.one.ExecContext(ctx, w.args[i:i+correlogramCols]...); err != nil {
+			return err
+		}
+	}
+	w.args = w.args[:0]
+	return nil
+}
+
+func (w *correlogramWriter) close() {
+	w.full.Close()
+	w.one.Close()
+}
+
 // nowISO is the time stamp the store records (batches, runs): ISO 8601 UTC
 // with milliseconds.
 func nowISO() string { return time.Now().UTC().Format("2006-01-02T15:04:05.000Z") }
@@ -617,12 +675,11 @@ func (s *Store) writeRun(ctx context.Context, res *SummarizeResult, results []*s
 		return fmt.Errorf("summarize: prepare: %w", err)
 	}
 	defer ins.Close()
-	cg, err := tx.PrepareContext(ctx, `INSERT INTO series_correlograms(run_id, series_id, lag, acvf, acf, pacf, band, ljung_box_q, ljung_box_p)
-		VALUES (?,?,?,?,?,?,?,?,?)`)
+	cg, err := newCorrelogramWriter(ctx, tx)
 	if err != nil {
-		return fmt.Errorf("summarize: prepare: %w", err)
+		return err
 	}
-	defer cg.Close()
+	defer cg.close()
 	for _, r := range results {
 		m := r.sum
 		var tFirst, tLast, timeFirst, timeLast any
@@ -676,10 +733,13 @@ func (s *Store) writeRun(ctx context.Context, res *SummarizeResult, results []*s
 			if c.HasLjungBx {
 				q, p = fin(c.LBQ), fin(c.LBP)
 			}
-			if _, err := cg.ExecContext(ctx, res.RunID, r.ref.id, c.Lag, fin(c.ACVF), fin(c.ACF), pacf, fin(c.Band), q, p); err != nil {
+			if err := cg.add(ctx, res.RunID, r.ref.id, c.Lag, fin(c.ACVF), fin(c.ACF), pacf, fin(c.Band), q, p); err != nil {
 				return fmt.Errorf("summarize: write correlogram of series %d: %w", r.ref.id, err)
 			}
 		}
+	}
+	if err := cg.flush(ctx); err != nil {
+		return fmt.Errorf("summarize: write correlograms: %w", err)
 	}
 	if _, err := tx.ExecContext(ctx, `UPDATE summary_runs SET status = 'ok', finished_at = ?, series_computed = ?, series_skipped = ?, series_with_notes = ? WHERE id = ?`,
 		nowISO(), res.Computed, res.Skipped, res.Noted, res.RunID); err != nil {
