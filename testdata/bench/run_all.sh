@@ -12,7 +12,7 @@
 # (scaling.sh; SCALING_REPS repetitions, default 5), OUTDIR/n100k.txt (one
 # series of 100,000 readings), OUTDIR/adapter-on.txt and adapter-off.txt
 # (1M rows with and without the C-level adapter) and OUTDIR/machine.txt.
-# Needs about 1.5 GB of disk and, on a 2-core machine, about 25 minutes. Run
+# Needs about 1.5 GB of disk and, on a 2-core machine, about 15 minutes. Run
 # it on an otherwise idle machine.
 set -eu
 OUT=${1:-bench-results}
