@@ -12,12 +12,11 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"os"
-	"path/filepath"
 	"strings"
 	"testing"
 	"time"
 
+	"trendsql/sqlfuncs/internal/trendref"
 	"trendsql/store"
 )
 
@@ -55,63 +54,14 @@ func floatsToAny(v []float64) []any {
 	return out
 }
 
-type sqlRefCase struct {
-	Name         string    `json:"name"`
-	Source       string    `json:"source"`
-	N            int       `json:"n"`
-	TCenter      float64   `json:"t_center"`
-	Coef         []float64 `json:"coef"`
-	SE           []float64 `json:"se"`
-	R2           *float64  `json:"r2"`
-	Sigma        float64   `json:"sigma"`
-	DFResid      int       `json:"df_resid"`
-	HACLags      int       `json:"hac_lags"`
-	ResidACF1    *float64  `json:"resid_acf1"`
-	SlopePerYear *float64  `json:"slope_per_year"`
-	SlopeSE      *float64  `json:"slope_se"`
-	SlopeP       *float64  `json:"slope_p"`
-	HACSlopeSE   *float64  `json:"hac_slope_se"`
-	HACP         *float64  `json:"hac_p"`
-	NEff         *float64  `json:"n_eff"`
-	NEffP        *float64  `json:"n_eff_p"`
-	TEval        []float64 `json:"t_eval"`
-	Value        []float64 `json:"value"`
-	Input        struct {
-		T         []float64 `json:"t"`
-		Y         []float64 `json:"y"`
-		Degree    int       `json:"degree"`
-		PeriodS   float64   `json:"period_s"`
-		Harmonics int       `json:"harmonics"`
-		HACLags   int       `json:"hac_lags"`
-	} `json:"input"`
-}
+// The reference file's layout is described once, in trendref.
+type sqlRefCase = trendref.Trend
 
-type sqlRegrRef struct {
-	X, Y                      []float64
-	Count                     int64
-	Avgx, Avgy, Sxx, Syy, Sxy float64
-	Slope, Intercept, R2      float64
-	CovarPop                  float64 `json:"covar_pop"`
-	CovarSamp                 float64 `json:"covar_samp"`
-	Corr                      float64
-	SMSlope                   float64 `json:"sm_slope"`
-}
-
-type sqlRefFile struct {
-	Versions map[string]string `json:"versions"`
-	Trend    []sqlRefCase      `json:"trend"`
-	Regr     []sqlRegrRef      `json:"regr"`
-}
-
-func loadSQLRef(tb testing.TB) sqlRefFile {
+func loadSQLRef(tb testing.TB) trendref.File {
 	tb.Helper()
-	b, err := os.ReadFile(filepath.Join("..", "testdata", "reference", "trend_ref.json"))
+	f, err := trendref.Load("..")
 	if err != nil {
-		tb.Fatalf("read reference: %v", err)
-	}
-	var f sqlRefFile
-	if err := json.Unmarshal(b, &f); err != nil {
-		tb.Fatalf("parse reference: %v", err)
+		tb.Fatal(err)
 	}
 	return f
 }

@@ -14,68 +14,27 @@ import (
 	"testing"
 	"time"
 
+	"trendsql/sqlfuncs/internal/trendref"
+
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 )
 
 // trendRefPath is the committed reference file written by
 // testdata/reference/trend_ref.py (Debian statsmodels 0.13.5, scipy 1.10.1,
-// numpy 1.24.2; versions recorded in the file).
-var trendRefPath = filepath.Join("..", "..", "testdata", "reference", "trend_ref.json")
+// numpy 1.24.2; versions recorded in the file), decoded by trendref.
+var trendRefPath = trendref.Path(filepath.Join("..", ".."))
 
-type trendRefInput struct {
-	T         []float64 `json:"t"`
-	Y         []float64 `json:"y"`
-	Degree    int       `json:"degree"`
-	PeriodS   float64   `json:"period_s"`
-	Harmonics int       `json:"harmonics"`
-	HACLags   int       `json:"hac_lags"`
-}
+type (
+	trendRefInput  = trendref.Input
+	trendRefResult = trendref.Trend
+)
 
-// trendRefResult mirrors fit_case() in trend_ref.py. Pointer fields are
-// JSON null (or absent) where statsmodels gives NaN or the field does not
-// apply.
-type trendRefResult struct {
-	Name         string    `json:"name"`
-	Source       string    `json:"source"`
-	N            int       `json:"n"`
-	TCenter      float64   `json:"t_center"`
-	Coef         []float64 `json:"coef"`
-	SE           []float64 `json:"se"`
-	R2           *float64  `json:"r2"`
-	Sigma        float64   `json:"sigma"`
-	DFResid      int       `json:"df_resid"`
-	HACLags      int       `json:"hac_lags"`
-	ResidACF1    *float64  `json:"resid_acf1"`
-	SlopePerYear *float64  `json:"slope_per_year"`
-	SlopeSE      *float64  `json:"slope_se"`
-	SlopeP       *float64  `json:"slope_p"`
-	HACSlopeSE   *float64  `json:"hac_slope_se"`
-	HACP         *float64  `json:"hac_p"`
-	NEff         *float64  `json:"n_eff"`
-	NEffP        *float64  `json:"n_eff_p"`
-	TEval        []float64 `json:"t_eval"`
-	Value        []float64 `json:"value"`
-	Input        trendRefInput
-}
-
-type trendRefFile struct {
-	Versions map[string]string `json:"versions"`
-	Trend    []trendRefResult  `json:"trend"`
-}
-
-func loadTrendRef(t *testing.T) trendRefFile {
+func loadTrendRef(t *testing.T) trendref.File {
 	t.Helper()
-	b, err := os.ReadFile(trendRefPath)
+	f, err := trendref.Load(filepath.Join("..", ".."))
 	if err != nil {
-		t.Fatalf("read reference: %v", err)
-	}
-	var f trendRefFile
-	if err := json.Unmarshal(b, &f); err != nil {
-		t.Fatalf("parse %s: %v", trendRefPath, err)
-	}
-	if len(f.Trend) == 0 {
-		t.Fatalf("%s has no trend cases", trendRefPath)
+		t.Fatal(err)
 	}
 	return f
 }
@@ -546,20 +505,7 @@ func TestFitTrendAgainstR(t *testing.T) {
 // tolerance, 1e-9 relative, is far below what the normal equations in
 // float64 could give on these designs.
 func TestFitTrendHighPrecision(t *testing.T) {
-	b, err := os.ReadFile(trendRefPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var ref struct {
-		Highprec []struct {
-			Name  string
-			Input trendRefInput
-			Coef  []float64
-		}
-	}
-	if err := json.Unmarshal(b, &ref); err != nil {
-		t.Fatal(err)
-	}
+	ref := loadTrendRef(t)
 	if len(ref.Highprec) == 0 {
 		t.Fatal("no highprec cases in the reference file")
 	}
