@@ -17,10 +17,11 @@ package sqlfuncs
 // options is text of comma-separated key=value pairs: step=<duration> (the
 // grid, below), detrend=linear|none and, for correlogram, fitdf=<k>.
 // detrend=linear analyses the residuals of the least-squares straight line
-// on the slot index instead of the values (stats.DetrendLinear: Householder
-// QR on the centred index; on a gap-free regular series exactly R's
-// residuals(lm(x ~ time(x)))), so "is there dependence left once a linear
-// trend is removed?" is one aggregate over the raw readings. Every statistic
+// on the slot index instead of the values (stats.DetrendLinear: centred
+// least squares, whose design has orthogonal columns; on a gap-free regular
+// series exactly R's residuals(lm(x ~ time(x)))), so "is there dependence
+// left once a linear trend is removed?" is one aggregate over the raw
+// readings. Every statistic
 // below is then of the residuals (ȳ is their mean, about 0); the tests' n
 // and degrees of freedom are unchanged (fitdf is for fitted ARMA terms and
 // is not adjusted for the line). With fewer than 3 readings, or readings on

@@ -69,8 +69,8 @@ func (c *comoments) pair(args []driver.Value) (y, x float64, ok bool, err error)
 
 func (c *comoments) update(y, x float64, sign float64) {
 	d, e := x-c.x0, y-c.y0
-	c.sd = c.sd.accumF(sign * d)
-	c.se = c.se.accumF(sign * e)
+	c.sd = c.sd.accum(ddFrom(sign * d))
+	c.se = c.se.accum(ddFrom(sign * e))
 	c.sdd = c.sdd.accum(twoProd(sign*d, d))
 	c.see = c.see.accum(twoProd(sign*e, e))
 	c.sde = c.sde.accum(twoProd(sign*d, e))
@@ -186,14 +186,6 @@ func (a dd) add(b dd) dd {
 func (a dd) accum(b dd) dd {
 	s, e := twoSum(a.hi, b.hi)
 	e += a.lo + b.lo
-	hi := s + e
-	return dd{hi, e - (hi - s)}
-}
-
-// accumF is accum for a plain float64 b.
-func (a dd) accumF(b float64) dd {
-	s, e := twoSum(a.hi, b)
-	e += a.lo
 	hi := s + e
 	return dd{hi, e - (hi - s)}
 }
