@@ -83,16 +83,24 @@ func newReadingWriterOn(ctx context.Context, conn *sql.Conn, tx *sql.Tx, conflic
 }
 
 func insertSQL(c Conflict, n int) string {
-	var b strings.Builder
-	b.WriteString(c.clause())
-	b.WriteString(" INTO readings(series_id, t, value, qualifier) VALUES ")
-	for i := 0; i < n; i++ {
-		if i > 0 {
-			b.WriteByte(',')
-		}
-		b.WriteString("(?,?,?,?)")
+	return c.clause() + " INTO readings(series_id, t, value, qualifier) VALUES " + valuesList(n, 4)
+}
+
+// valuesList is the placeholder list of a multi-row INSERT: n rows of cols
+// parameters, "(?,?),(?,?)" for n = cols = 2.
+func valuesList(n, cols int) string {
+	row := "(" + strings.Repeat("?,", cols-1) + "?)"
+	return strings.Repeat(row+",", n-1) + row
+}
+
+// queue appends r's four statement arguments to the database/sql batch (a
+// missing qualifier is NULL).
+func (w *ReadingWriter) queue(r *Reading) {
+	var q any
+	if r.Qualifier != nil {
+		q = *r.Qualifier
 	}
-	return b.String()
+	w.buf = append(w.buf, r.SeriesID, r.T, r.Value, q)
 }
 
 // Add queues one reading, writing a full batch when one is ready.
@@ -106,11 +114,7 @@ func (w *ReadingWriter) Add(ctx context.Context, r Reading) error {
 		}
 		return nil
 	}
-	var q any
-	if r.Qualifier != nil {
-		q = *r.Qualifier
-	}
-	w.buf = append(w.buf, r.SeriesID, r.T, r.Value, q)
+	w.queue(&r)
 	w.n++
 	if w.n == bulkRows {
 		return w.write(w.full.ExecContext(ctx, w.buf...))
@@ -178,12 +182,7 @@ func (w *ReadingWriter) Sync(ctx context.Context) error {
 		// A partial batch: its own statement text, through database/sql on
 		// the same connection and transaction.
 		for i := range w.rows {
-			r := &w.rows[i]
-			var q any
-			if r.Qualifier != nil {
-				q = *r.Qualifier
-			}
-			w.buf = append(w.buf, r.SeriesID, r.T, r.Value, q)
+			w.queue(&w.rows[i])
 		}
 	}
 	return w.write(w.tx.ExecContext(ctx, insertSQL(w.conflict, w.n), w.buf...))

@@ -249,32 +249,29 @@ func (s *Store) Summarize(ctx context.Context, o SummarizeOptions) (*SummarizeRe
 
 // correlogramWriter inserts series_correlograms rows in statements of
 // correlogramBatch rows (one statement per stored lag cost about as much as
-// the rest of a short series' summary); the last partial batch goes row by
-// row.
+// the rest of a short series' summary); the last partial batch is one
+// statement of its own length.
 type correlogramWriter struct {
-	full, one *sql.Stmt
-	args      []any
+	tx   *sql.Tx
+	full *sql.Stmt
+	args []any
 }
 
-const correlogramCols = 9
+const (
+	correlogramCols   = 9
+	correlogramInsert = `INSERT INTO series_correlograms(run_id, series_id, lag, acvf, acf, pacf, band, ljung_box_q, ljung_box_p) VALUES `
+)
 
 // correlogramBatch is the rows per full statement (a variable so that tests
 // can make the fixture's few rows fill batches).
 var correlogramBatch = 100
 
 func newCorrelogramWriter(ctx context.Context, tx *sql.Tx) (*correlogramWriter, error) {
-	const head = `INSERT INTO series_correlograms(run_id, series_id, lag, acvf, acf, pacf, band, ljung_box_q, ljung_box_p) VALUES `
-	const row = `(?,?,?,?,?,?,?,?,?)`
-	w := &correlogramWriter{args: make([]any, 0, correlogramCols*correlogramBatch)}
-	var err error
-	if w.one, err = tx.PrepareContext(ctx, head+row); err != nil {
+	full, err := tx.PrepareContext(ctx, correlogramInsert+valuesList(correlogramBatch, correlogramCols))
+	if err != nil {
 		return nil, fmt.Errorf("summarize: prepare: %w", err)
 	}
-	if w.full, err = tx.PrepareContext(ctx, head+strings.Repeat(row+",", correlogramBatch-1)+row); err != nil {
-		w.one.Close()
-		return nil, fmt.Errorf("summarize: prepare: %w", err)
-	}
-	return w, nil
+	return &correlogramWriter{tx: tx, full: full, args: make([]any, 0, correlogramCols*correlogramBatch)}, nil
 }
 
 // add queues one row (correlogramCols values), writing a full batch when
@@ -291,19 +288,15 @@ func (w *correlogramWriter) add(ctx context.Context, vals ...any) error {
 
 // flush writes the queued rows.
 func (w *correlogramWriter) flush(ctx context.Context) error {
-	for i := 0; i < len(w.args); i += correlogramCols {
-		if _, err := w.one.ExecContext(ctx, w.args[i:i+correlogramCols]...); err != nil {
-			return err
-		}
+	if len(w.args) == 0 {
+		return nil
 	}
+	_, err := w.tx.ExecContext(ctx, correlogramInsert+valuesList(len(w.args)/correlogramCols, correlogramCols), w.args...)
 	w.args = w.args[:0]
-	return nil
+	return err
 }
 
-func (w *correlogramWriter) close() {
-	w.full.Close()
-	w.one.Close()
-}
+func (w *correlogramWriter) close() { w.full.Close() }
 
 // nowISO is the time stamp the store records (batches, runs): ISO 8601 UTC
 // with milliseconds.

@@ -1160,9 +1160,10 @@ func TestSummarizeWriteWaitsForOtherWriter(t *testing.T) {
 	}
 }
 
-// TestCorrelogramBatchesMatchRows: the batched insert of series_correlograms
-// stores exactly the rows the row-by-row path stores (a batch of 7 rows makes
-// the fixture's 75 rows fill ten full statements and leave a tail of 5).
+// TestCorrelogramBatchesMatchRows: the full-batch statements of
+// series_correlograms store exactly the rows the one tail statement stores
+// (a batch of 7 rows makes the fixture's 75 rows fill ten full statements
+// and leave a tail of 5).
 func TestCorrelogramBatchesMatchRows(t *testing.T) {
 	fx := buildSummaryFixture(t)
 	dump := func(run int64) [][]any {
@@ -1175,17 +1176,17 @@ func TestCorrelogramBatchesMatchRows(t *testing.T) {
 	}
 	saved := correlogramBatch
 	defer func() { correlogramBatch = saved }()
-	correlogramBatch = 1000 // every row through the single-row statement
+	correlogramBatch = 1000 // every row in the tail statement
 	tail := mustRun(t, fx.s, fixtureOptions(0))
 	correlogramBatch = 7
 	batched := mustRun(t, fx.s, fixtureOptions(0))
 	a, b := dump(tail.RunID), dump(batched.RunID)
 	if len(a) < 2*7 || len(a) != len(b) {
-		t.Fatalf("rows: %d row by row, %d batched (want equal, and enough for full batches)", len(a), len(b))
+		t.Fatalf("rows: %d in one tail statement, %d batched (want equal, and enough for full batches)", len(a), len(b))
 	}
 	for i := range a {
 		if fmt.Sprint(a[i]) != fmt.Sprint(b[i]) {
-			t.Fatalf("row %d: %v row by row, %v batched", i, a[i], b[i])
+			t.Fatalf("row %d: %v in the tail statement, %v batched", i, a[i], b[i])
 		}
 	}
 }
