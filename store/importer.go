@@ -687,7 +687,7 @@ func (s *Store) importReadings(ctx context.Context, in *importInput, opt Reading
 	if _, err := conn.ExecContext(ctx, `PRAGMA foreign_keys = OFF`); err != nil {
 		return nil, fmt.Errorf("import %s: %w", in.name, err)
 	}
-	defer restoreForeignKeys(conn)
+	defer restorePragma(conn, "foreign_keys", 1)
 	b, err := s.beginBatchOn(ctx, conn, "readings", in, rec, opt.Progress)
 	if err != nil {
 		return nil, err
@@ -1216,16 +1216,17 @@ func (im *readingsImporter) checkBatchSeries(ctx context.Context) error {
 	return nil
 }
 
-// restoreForeignKeys switches the foreign-key check back on for a
-// connection about to return to the pool, and discards the connection when
-// that cannot be confirmed.
-func restoreForeignKeys(conn *sql.Conn) {
+// restorePragma sets a per-connection PRAGMA back to want on a connection
+// about to return to the pool (after an import or a summary write changed it
+// for its own work), and discards the connection when the setting cannot be
+// confirmed, so no pooled connection keeps a changed setting.
+func restorePragma(conn *sql.Conn, name string, want int64) {
 	ctx := context.Background()
-	on := 0
-	if _, err := conn.ExecContext(ctx, `PRAGMA foreign_keys = ON`); err == nil {
-		_ = conn.QueryRowContext(ctx, `PRAGMA foreign_keys`).Scan(&on)
+	got := want + 1
+	if _, err := conn.ExecContext(ctx, fmt.Sprintf("PRAGMA %s = %d", name, want)); err == nil {
+		_ = conn.QueryRowContext(ctx, "PRAGMA "+name).Scan(&got)
 	}
-	if on != 1 {
+	if got != want {
 		_ = conn.Raw(func(any) error { return driver.ErrBadConn })
 	}
 }

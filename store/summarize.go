@@ -647,7 +647,7 @@ func (s *Store) writeRun(ctx context.Context, res *SummarizeResult, results []*s
 		if _, err := conn.ExecContext(ctx, fmt.Sprintf("PRAGMA busy_timeout = %d", busyWait.Milliseconds())); err != nil {
 			return fmt.Errorf("summarize: write: %w", err)
 		}
-		defer conn.ExecContext(context.Background(), fmt.Sprintf("PRAGMA busy_timeout = %d", BusyTimeout.Milliseconds()))
+		defer restorePragma(conn, "busy_timeout", BusyTimeout.Milliseconds())
 	}
 	tx, err := conn.BeginTx(ctx, nil)
 	if err != nil {
