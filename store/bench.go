@@ -175,23 +175,12 @@ func (s *Store) LoadBenchCSV(ctx context.Context, csvPath string) (int64, error)
 		return 0, fmt.Errorf("bench load: %w", err)
 	}
 	defer f.Close()
-	// One connection of its own, so the readings go through the C-level
-	// insert (rawbulk.go) when it is available, as in the import.
-	conn, err := s.DB.Conn(ctx)
+	rt, err := s.beginReadingsTx(ctx, ConflictError)
 	if err != nil {
 		return 0, fmt.Errorf("bench load: %w", err)
 	}
-	defer conn.Close()
-	tx, err := conn.BeginTx(ctx, nil)
-	if err != nil {
-		return 0, fmt.Errorf("bench load: %w", err)
-	}
-	defer tx.Rollback()
-	w, err := newReadingWriterOn(ctx, conn, tx, ConflictError)
-	if err != nil {
-		return 0, err
-	}
-	defer w.Close()
+	defer rt.end()
+	tx, w := rt.tx, rt.w
 	insSt, err := tx.PrepareContext(ctx, `INSERT INTO stations(id, name) VALUES (?, ?)`)
 	if err != nil {
 		return 0, fmt.Errorf("bench load: %w", err)

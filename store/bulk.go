@@ -82,6 +82,43 @@ func newReadingWriterOn(ctx context.Context, conn *sql.Conn, tx *sql.Tx, conflic
 	return &ReadingWriter{tx: tx, conflict: conflict, raw: raw, rows: make([]Reading, 0, bulkRows)}, nil
 }
 
+// readingsTx is a write transaction on a connection of its own with a
+// ReadingWriter on it, so that full batches use the C-level insert
+// (rawbulk.go) when it is available. The demo and bench loaders use it; the
+// import sets its connection up itself (foreign keys, batch record).
+type readingsTx struct {
+	conn *sql.Conn
+	tx   *sql.Tx
+	w    *ReadingWriter
+}
+
+func (s *Store) beginReadingsTx(ctx context.Context, conflict Conflict) (*readingsTx, error) {
+	conn, err := s.DB.Conn(ctx)
+	if err != nil {
+		return nil, err
+	}
+	rt := &readingsTx{conn: conn}
+	if rt.tx, err = conn.BeginTx(ctx, nil); err != nil {
+		conn.Close()
+		return nil, err
+	}
+	if rt.w, err = newReadingWriterOn(ctx, conn, rt.tx, conflict); err != nil {
+		rt.end()
+		return nil, err
+	}
+	return rt, nil
+}
+
+// end releases the writer, rolls back the transaction unless it was
+// committed, and returns the connection to the pool, in that order.
+func (rt *readingsTx) end() {
+	if rt.w != nil {
+		rt.w.Close()
+	}
+	rt.tx.Rollback()
+	rt.conn.Close()
+}
+
 func insertSQL(c Conflict, n int) string {
 	return c.clause() + " INTO readings(series_id, t, value, qualifier) VALUES " + valuesList(n, 4)
 }

@@ -524,18 +524,12 @@ func (s *Store) BuildDemo(ctx context.Context, opt DemoOptions) (DemoSummary, er
 	optJSON, _ := json.Marshal(map[string]any{"generator": DemoGenerator, "seed": opt.Seed, "stations": opt.Stations, "max_years": opt.MaxYears})
 	now := func() string { return time.Now().UTC().Format(time.RFC3339) }
 
-	// One connection of its own, so the readings go through the C-level
-	// insert (rawbulk.go) when it is available.
-	conn, err := s.DB.Conn(ctx)
-	if err != nil {
-		return sum, fmt.Errorf("demo: %w", err)
-	}
-	defer conn.Close()
-	tx, err := conn.BeginTx(ctx, nil)
+	rt, err := s.beginReadingsTx(ctx, ConflictError)
 	if err != nil {
 		return sum, fmt.Errorf("demo: begin: %w", err)
 	}
-	defer tx.Rollback()
+	defer rt.end()
+	tx, w := rt.tx, rt.w
 
 	res, err := tx.ExecContext(ctx, `INSERT INTO import_batches(kind, source, started_at, options) VALUES ('stations', ?, ?, ?)`, DemoSource, now(), string(optJSON))
 	if err != nil {
@@ -560,11 +554,6 @@ func (s *Store) BuildDemo(ctx context.Context, opt DemoOptions) (DemoSummary, er
 		return sum, fmt.Errorf("demo: record readings batch: %w", err)
 	}
 	batch, _ := res.LastInsertId()
-	w, err := newReadingWriterOn(ctx, conn, tx, ConflictError)
-	if err != nil {
-		return sum, err
-	}
-	defer w.Close()
 	type counted struct {
 		id   int64
 		rows int
