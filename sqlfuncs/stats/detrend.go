@@ -33,13 +33,17 @@ func DetrendLinear(x []float64) []float64 {
 			xbar += v
 		}
 	}
-	if n < 3 {
+	// zero sets every present residual to exactly 0.
+	zero := func() []float64 {
 		for k, v := range out {
 			if !math.IsNaN(v) {
 				out[k] = 0
 			}
 		}
 		return out
+	}
+	if n < 3 {
+		return zero()
 	}
 	kbar /= float64(n)
 	xbar /= float64(n)
@@ -64,11 +68,7 @@ func DetrendLinear(x []float64) []float64 {
 		ssr += e * e
 	}
 	if ssr <= 1e-24*syy {
-		for k, v := range out {
-			if !math.IsNaN(v) {
-				out[k] = 0
-			}
-		}
+		return zero()
 	}
 	return out
 }
