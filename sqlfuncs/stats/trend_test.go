@@ -275,14 +275,11 @@ func trendPython(t *testing.T) string {
 	return py
 }
 
+// trendLiveCase is a reference input (trendref.Input, flattened into the
+// same JSON object) with the times to evaluate the fit at.
 type trendLiveCase struct {
-	T         []float64 `json:"t"`
-	Y         []float64 `json:"y"`
-	Degree    int       `json:"degree"`
-	PeriodS   float64   `json:"period_s"`
-	Harmonics int       `json:"harmonics"`
-	HACLags   int       `json:"hac_lags"`
-	TEval     []float64 `json:"t_eval"`
+	trendref.Input
+	TEval []float64 `json:"t_eval"`
 }
 
 // TestFitTrendLiveStatsmodels generates random series (lengths 3..5000,
@@ -311,7 +308,7 @@ func TestFitTrendLiveStatsmodels(t *testing.T) {
 	}
 	var cases []trendLiveCase
 	for _, n := range lengths {
-		c := trendLiveCase{HACLags: -1}
+		c := trendLiveCase{Input: trendref.Input{HACLags: -1}}
 		if rng.IntN(3) == 0 {
 			c.HACLags = rng.IntN(12)
 		}
