@@ -23,6 +23,7 @@ package sqlfuncs
 import (
 	"database/sql/driver"
 	"fmt"
+	"slices"
 	"sort"
 	"sync"
 
@@ -230,15 +231,15 @@ func (a *seriesAgg) frame() (Rows, error) {
 				a.perm = append(a.perm, i)
 			}
 			sort.SliceStable(a.perm, func(i, j int) bool { return t[a.perm[i]] < t[a.perm[j]] })
-			a.scratch.T = grow(a.scratch.T, n)
-			a.scratch.Y = grow(a.scratch.Y, n)
+			a.scratch.T = slices.Grow(a.scratch.T[:0], n)[:n]
+			a.scratch.Y = slices.Grow(a.scratch.Y[:0], n)[:n]
 			for i, p := range a.perm {
 				a.scratch.T[i] = t[p]
 				a.scratch.Y[i] = y[p]
 			}
 			t, y = a.scratch.T, a.scratch.Y
 			if x != nil {
-				a.scratch.X = grow(a.scratch.X, n)
+				a.scratch.X = slices.Grow(a.scratch.X[:0], n)[:n]
 				for i, p := range a.perm {
 					a.scratch.X[i] = x[p]
 				}
@@ -252,13 +253,6 @@ func (a *seriesAgg) frame() (Rows, error) {
 		}
 	}
 	return Rows{T: t, X: x, Y: y}, nil
-}
-
-func grow(s []float64, n int) []float64 {
-	if cap(s) < n {
-		return make([]float64, n)
-	}
-	return s[:n]
 }
 
 func (a *seriesAgg) WindowValue(ctx *sqlite.FunctionContext) (v driver.Value, err error) {

@@ -110,12 +110,7 @@ var senPool = sync.Pool{New: func() any { return new(senData) }}
 
 // grow returns s resized to n elements, reusing its storage when it is
 // large enough (contents are not preserved).
-func grow[T any](s []T, n int) []T {
-	if cap(s) < n {
-		return make([]T, n, n+n/8)
-	}
-	return s[:n]
-}
+func grow[T any](s []T, n int) []T { return slices.Grow(s[:0], n)[:n] }
 
 func newSenData(t, y []float64, blocks []int) *senData {
 	n := len(t)
