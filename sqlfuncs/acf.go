@@ -75,6 +75,14 @@ package sqlfuncs
 //	fitdf          degrees of freedom subtracted for the Ljung–Box p-values
 //	detrend        "linear" when the residuals of a straight line were
 //	               analysed, else "none"
+//	detrend_slope_per_year
+//	               the removed line's slope in y per year (365.25 d): its
+//	               change per slot divided by the step; null without
+//	               detrend=linear, with a single reading or without a step.
+//	               Fitted on slot positions, so it equals trend_slope(t, y)
+//	               when every reading sits exactly on its slot (regular
+//	               times; a reading off its slot by less than half a step
+//	               counts at the slot)
 //	band           1.96/√n
 //	lags           one object per lag 1..max_lag:
 //	    lag, pairs (m(h)), acvf, acf, pacf, band,
@@ -150,16 +158,23 @@ func parseLagOptions(fn string, v driver.Value, allowFitdf bool) (lagOptions, er
 
 // gridded places one group's rows on the grid and, with detrend=linear,
 // replaces the values by their residuals from a straight line on the slot
-// index (stats.DetrendLinear).
-func gridded(fn string, r Rows, o lagOptions) (stats.Grid, []float64, error) {
-	g, x, err := stats.Regularize(r.T, r.Y, o.step)
+// index (stats.DetrendLinear). lineSlope is that line's slope in y per year
+// (NaN without detrend=linear, with fewer than 2 readings or without a
+// step).
+func gridded(fn string, r Rows, o lagOptions) (g stats.Grid, x []float64, lineSlope float64, err error) {
+	g, x, err = stats.Regularize(r.T, r.Y, o.step)
 	if err != nil {
-		return g, nil, fmt.Errorf("%s: %v", fn, err)
+		return g, nil, math.NaN(), fmt.Errorf("%s: %v", fn, err)
 	}
+	lineSlope = math.NaN()
 	if o.detrend {
-		x = stats.DetrendLinear(x)
+		var perSlot float64
+		x, perSlot = stats.DetrendLinear(x)
+		if g.Step > 0 {
+			lineSlope = perSlot / g.Step * stats.SecondsPerYear
+		}
 	}
-	return g, x, nil
+	return g, x, lineSlope, nil
 }
 
 func detrendName(o lagOptions) string {
@@ -192,7 +207,7 @@ func lagValue(fn string, acf bool) func(r Rows, opts []driver.Value) (driver.Val
 		if r.Len() == 0 {
 			return nil, nil
 		}
-		_, x, err := gridded(fn, r, o)
+		_, x, _, err := gridded(fn, r, o)
 		if err != nil {
 			return nil, err
 		}
@@ -222,7 +237,7 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if r.Len() == 0 {
 		return nil, nil
 	}
-	g, x, err := gridded(fn, r, o)
+	g, x, lineSlope, err := gridded(fn, r, o)
 	if err != nil {
 		return nil, err
 	}
@@ -241,6 +256,7 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	}
 	out.raw("step_inferred", strconv.FormatBool(o.step == 0))
 	out.str("detrend", detrendName(o))
+	out.num("detrend_slope_per_year", lineSlope)
 	out.str("t_first", isoTime(r.T[0]))
 	out.num("mean", c.Mean)
 	out.num("acvf0", c.ACVF0)
@@ -292,7 +308,7 @@ func portmanteauValue(fn string, boxPierce, scalarP bool) func(r Rows, opts []dr
 		if r.Len() < 2 {
 			return nil, nil
 		}
-		g, x, err := gridded(fn, r, o)
+		g, x, _, err := gridded(fn, r, o)
 		if err != nil {
 			return nil, err
 		}
@@ -333,7 +349,7 @@ func init() {
 	})
 	defineSeries(seriesSpec{
 		doc: Doc{Name: "correlogram", Signature: "correlogram(t, y, max_lag [, 'step=<duration>, fitdf=<k>, detrend=linear'])", Kind: Aggregate,
-			Summary: "JSON correlogram: n, grid step, missing slots, mean, γ̂(0), and per lag acvf, acf, pacf (Durbin–Levinson), ±1.96/√n band, cumulative Ljung–Box Q and p"},
+			Summary: "JSON correlogram: n, grid step, missing slots, mean, γ̂(0), and per lag acvf, acf, pacf (Durbin–Levinson), ±1.96/√n band, cumulative Ljung–Box Q and p; with detrend=linear also the removed line's slope per year"},
 		argNames: []string{"t", "y", "max_lag", "options"}, values: 1, minOptions: 1, maxOptions: 2,
 		compute: correlogramValue,
 	})

@@ -23,6 +23,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"trendsql/sqlfuncs/stats"
 	"trendsql/store"
 )
 
@@ -35,7 +36,10 @@ type acfRefCase struct {
 	ACVF   []*float64 `json:"acvf"`
 	ACF    []*float64 `json:"acf"`
 	PACF   []*float64 `json:"pacf"`
-	Box    []struct {
+	// LmSlope is coef(lm(x ~ time(x)))[2] of the raw series, per year
+	// (residual cases only).
+	LmSlope *float64 `json:"lm_slope"`
+	Box     []struct {
 		Type  string  `json:"type"`
 		Lags  int     `json:"lags"`
 		Fitdf int     `json:"fitdf"`
@@ -145,6 +149,8 @@ type corrJSON struct {
 	Mean         *float64 `json:"mean"`
 	ACVF0        *float64 `json:"acvf0"`
 	Fitdf        int      `json:"fitdf"`
+	Detrend      string   `json:"detrend"`
+	DetrendSlope *float64 `json:"detrend_slope_per_year"`
 	Band         *float64 `json:"band"`
 	Lags         []struct {
 		Lag   int      `json:"lag"`
@@ -423,13 +429,75 @@ func TestDetrendLinearAgainstR(t *testing.T) {
 			if err != nil || !text.Valid {
 				t.Fatalf("%s: %v %v", name, text, err)
 			}
-			if !strings.Contains(text.String, `"detrend":"linear"`) {
-				t.Errorf("%s: no detrend key in %.200s", name, text.String)
+			j := checkCorrelogram(t, fmt.Sprintf("R %s detrend=linear fitdf=%d", name, fitdf), text.String, rc)
+			if j.Detrend != "linear" {
+				t.Errorf("%s: detrend key %q in %.200s", name, j.Detrend, text.String)
 			}
-			checkCorrelogram(t, fmt.Sprintf("R %s detrend=linear fitdf=%d", name, fitdf), text.String, rc)
+			// The removed line's slope per year: R's coef(lm(x ~ time(x)))[2]
+			// (time(x) counts years for these annual, quarterly and monthly
+			// series).
+			if rc.LmSlope == nil || !eqPtr(j.DetrendSlope, rc.LmSlope, 1e-9, 0) {
+				t.Errorf("%s: detrend_slope_per_year %s, want R lm slope %s", name, fstr(j.DetrendSlope), fstr(rc.LmSlope))
+			}
+		}
+		// Without the option there is no line and no slope.
+		text, err := queryString(t, s.DB, "SELECT correlogram(t, value, 2) FROM "+from)
+		if err != nil || !strings.Contains(text.String, `"detrend":"none","detrend_slope_per_year":null`) {
+			t.Errorf("%s without detrend: %.300s %v", name, text.String, err)
 		}
 		checkTestsOpts(t, s.DB, "R "+name+" detrend=linear", from, rc, "detrend=linear")
 		checkSingleLags(t, s.DB, name+" detrended", from, "detrend=linear", rc)
+	}
+}
+
+// TestCorrelogramOnePass: one correlogram(…, 'detrend=linear') carries the
+// three figures of the per-series diagnostic query — the least-squares
+// slope, the residual correlogram and the residual Ljung–Box test — so they
+// equal trend_slope and ljung_box of the same rows when every reading sits
+// exactly on its slot (common practice: all three are the least-squares
+// line and the Ljung–Box Q of its residuals). The values are R's co2 series
+// (with its calendar months replaced by exact hours) and presidents'
+// quarters with 6 missing (replaced by exact days); the slope is also
+// checked against R's coef(lm(x ~ time(x)))[2] rescaled to the new step.
+func TestCorrelogramOnePass(t *testing.T) {
+	ref := loadACFRef(t, "acf_r.json")
+	s := openACFStore(t)
+	for _, tc := range []struct {
+		name string
+		step int64   // seconds between slots
+		per  float64 // slots per unit of R's time(x)
+	}{{"co2", 3600, 12}, {"presidents", 86400, 4}} {
+		c, rc := ref[tc.name], ref[tc.name+"_lm_resid"]
+		tt := make([]int64, len(c.Y))
+		for i := range tt {
+			tt[i] = 1500000000 + int64(i)*tc.step
+		}
+		sid := insertReadings(t, s.DB, tc.name+"-grid", tt, c.Y)
+		var corr string
+		var slope, lbQ, lbP float64
+		err := s.DB.QueryRow(`SELECT correlogram(t, value, 24, 'detrend=linear'), trend_slope(t, value),
+			ljung_box(t, value, 24, 0, 'detrend=linear') ->> 'q', ljung_box(t, value, 24, 0, 'detrend=linear') ->> 'p'
+			FROM readings WHERE series_id = ?`, sid).Scan(&corr, &slope, &lbQ, &lbP)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var j corrJSON
+		if err := json.Unmarshal([]byte(corr), &j); err != nil {
+			t.Fatal(err)
+		}
+		if j.DetrendSlope == nil || !relClose(*j.DetrendSlope, slope, 1e-9, 0) {
+			t.Errorf("%s: detrend_slope_per_year %s, trend_slope %v", tc.name, fstr(j.DetrendSlope), slope)
+		}
+		// R's slope is per unit of time(x) = tc.per slots; ours per year of
+		// 365.25 d = SecondsPerYear/step slots.
+		want := *rc.LmSlope / tc.per * (stats.SecondsPerYear / float64(tc.step))
+		if !eqPtr(j.DetrendSlope, &want, 1e-9, 0) {
+			t.Errorf("%s: detrend_slope_per_year %s, want R %v", tc.name, fstr(j.DetrendSlope), want)
+		}
+		l := j.Lags[23]
+		if l.QLB == nil || l.PLB == nil || !relClose(*l.QLB, lbQ, 1e-12, 0) || !relClose(*l.PLB, lbP, 1e-12, 0) {
+			t.Errorf("%s: correlogram q_lb(24) %s p %s, ljung_box %v %v", tc.name, fstr(l.QLB), fstr(l.PLB), lbQ, lbP)
+		}
 	}
 }
 

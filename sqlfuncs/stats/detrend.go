@@ -16,12 +16,16 @@ import "math"
 // is time(x) up to an affine change, which leaves residuals unchanged, and
 // lm drops NA rows as only the present values are used here.
 //
+// slope is b, the fitted line's change per slot (NaN with fewer than 2
+// present values).
+//
 // Degenerate cases: with fewer than 3 present values a line fits exactly,
 // and when the residual sum of squares is at most 1e-24 of Σ(x − x̄)² the
 // values lie on a line up to rounding; in both cases every present residual
 // is exactly 0, so the autocorrelations of the residuals are undefined
-// (NULL) rather than correlations of rounding noise.
-func DetrendLinear(x []float64) []float64 {
+// (NULL) rather than correlations of rounding noise. The slope is reported
+// in these cases too.
+func DetrendLinear(x []float64) (resid []float64, slope float64) {
 	out := make([]float64, len(x))
 	n := 0
 	var kbar, xbar float64
@@ -42,8 +46,8 @@ func DetrendLinear(x []float64) []float64 {
 		}
 		return out
 	}
-	if n < 3 {
-		return zero()
+	if n < 2 {
+		return zero(), math.NaN()
 	}
 	kbar /= float64(n)
 	xbar /= float64(n)
@@ -58,6 +62,9 @@ func DetrendLinear(x []float64) []float64 {
 		syy += dy * dy
 	}
 	b := sxy / sxx
+	if n < 3 {
+		return zero(), b
+	}
 	var ssr float64
 	for k, v := range x {
 		if math.IsNaN(v) {
@@ -68,7 +75,7 @@ func DetrendLinear(x []float64) []float64 {
 		ssr += e * e
 	}
 	if ssr <= 1e-24*syy {
-		return zero()
+		return zero(), b
 	}
-	return out
+	return out, b
 }

@@ -25,6 +25,9 @@
 #                      ljung_box(…, 24) of the residuals of the straight-line
 #                      fit (detrend=linear), the scripts' three figures, for
 #                      every series in one `trendsql query`
+#   trendsql one-pass  the same three figures from one correlogram(…, 48,
+#                      'detrend=linear') per series: the removed line's slope
+#                      and the Ljung–Box test at lag 24 are in its JSON
 #   trendsql summarize the full summary run (written to bench.db) with the
 #                      model of `trendsql bench`'s "summarize" item: no
 #                      seasonal model, every figure on the raw readings; the
@@ -57,6 +60,7 @@ done
 
 SCAN="SELECT series_id, avg(value), count(*) FROM readings GROUP BY series_id"
 COMBINED="SELECT series_id, trend_slope(t, value), correlogram(t, value, 48, 'detrend=linear'), ljung_box(t, value, 24, 0, 'detrend=linear') FROM readings GROUP BY series_id"
+ONEPASS="SELECT series_id, c ->> 'detrend_slope_per_year' AS slope_per_year, c ->> '\$.lags[23].q_lb' AS lb_q, c ->> '\$.lags[23].p_lb' AS lb_p, c AS correlogram FROM (SELECT series_id, correlogram(t, value, 48, 'detrend=linear') AS c FROM readings GROUP BY series_id)"
 ROWS=$("$SQLITE3" "$DB" "SELECT count(*) FROM readings")
 
 has_cmd() { "$TRENDSQL" "$1" --help >/dev/null 2>&1; }
@@ -65,6 +69,9 @@ HAVE_IMPORT=no; "$TRENDSQL" import readings --help >/dev/null 2>&1 && HAVE_IMPOR
 HAVE_SUMMARIZE=no; has_cmd summarize && HAVE_SUMMARIZE=yes
 HAVE_COMBINED=yes
 for f in trend_slope correlogram ljung_box; do has_fn $f || HAVE_COMBINED=no; done
+# The one-pass form needs the correlogram's detrend_slope_per_year key.
+HAVE_ONEPASS=no
+[ "$("$TRENDSQL" query --db "$DB" --format csv "SELECT correlogram(t, value, 2, 'detrend=linear') ->> 'detrend_slope_per_year' IS NOT NULL AS ok FROM readings WHERE series_id = (SELECT min(series_id) FROM readings)" 2>/dev/null | tail -n 1)" = 1 ] && HAVE_ONEPASS=yes
 
 cat > "$DIR/shell-import.sql" <<SQL
 CREATE TABLE readings (
@@ -110,6 +117,9 @@ while [ "$rep" -le "$REPS" ]; do
 	if [ $HAVE_COMBINED = yes ]; then
 		run "trendsql trend+correlogram(48)+ljung_box(24)" "$TRENDSQL" query --db "$DB" --format csv "$COMBINED"
 	fi
+	if [ $HAVE_ONEPASS = yes ]; then
+		run "trendsql one-pass correlogram(48, detrend=linear)" "$TRENDSQL" query --db "$DB" --format csv "$ONEPASS"
+	fi
 	if [ $HAVE_SUMMARIZE = yes ]; then
 		run "trendsql summarize" "$TRENDSQL" summarize --db "$DB" --quiet --max-lag 48 --lb-lags 24
 		short=$("$SQLITE3" "$DB" "SELECT count(*) FROM series_summaries WHERE run_id = (SELECT max(id) FROM summary_runs) AND insufficient_data")
@@ -123,10 +133,10 @@ while [ "$rep" -le "$REPS" ]; do
 done
 rm -f "$DIR/shell.db" "$DIR/ts-import.db" "$DIR/ts-import.db-wal" "$DIR/ts-import.db-shm" "$DIR/.time" "$DIR/.out" "$DIR/.err"
 
-"$PYTHON" - "$TIMES" "$ROWS" "$HAVE_IMPORT" "$HAVE_COMBINED" "$HAVE_SUMMARIZE" <<'PY'
+"$PYTHON" - "$TIMES" "$ROWS" "$HAVE_IMPORT" "$HAVE_COMBINED" "$HAVE_ONEPASS" "$HAVE_SUMMARIZE" <<'PY'
 import json, statistics, sys
 path, rows = sys.argv[1], int(sys.argv[2])
-have = dict(zip(["trendsql import", "combined", "trendsql summarize"], sys.argv[3:6]))
+have = dict(zip(["trendsql import", "combined", "one-pass", "trendsql summarize"], sys.argv[3:7]))
 runs = {}
 order = []
 for line in open(path):

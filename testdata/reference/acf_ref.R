@@ -13,7 +13,9 @@
 #     pchisq(Q, h - k, lower.tail = FALSE) (Box.test itself reports
 #     1 - pchisq(...), which loses precision below about 1e-15).
 #   residuals(lm(x ~ time(x))) for the residual series (presidents, which
-#   has missing quarters: lm(..., na.action = na.exclude), NA kept in place).
+#   has missing quarters: lm(..., na.action = na.exclude), NA kept in place),
+#   and coef(lm(x ~ time(x)))[2], the removed line's slope per unit of
+#   time(x) (one year for these series), as "lm_slope".
 #
 # Times: each observation is given as the UTC date of the start of its
 # period (year, quarter or month), so trendsql places them on a grid of
@@ -37,7 +39,7 @@ period_dates <- function(x) {
   sprintf("%04d-%02d-01", yr, as.integer(month))
 }
 
-case_json <- function(name, source, x, L, boxes) {
+case_json <- function(name, source, x, L, boxes, lm_slope = NULL) {
   cov <- acf(x, lag.max = L, type = "covariance", plot = FALSE, na.action = na.pass, demean = TRUE)$acf[, 1, 1]
   cor <- acf(x, lag.max = L, type = "correlation", plot = FALSE, na.action = na.pass)$acf[, 1, 1]
   pac <- pacf(x, lag.max = L, plot = FALSE, na.action = na.pass)$acf[, 1, 1]
@@ -58,28 +60,30 @@ case_json <- function(name, source, x, L, boxes) {
     '"acvf":', num(cov), ',',
     '"acf":', num(cor), ',',
     '"pacf":', num(c(NA, pac)), ',',  # R's pacf starts at lag 1; index 0 is null
+    if (is.null(lm_slope)) "" else sprintf('"lm_slope":%.17g,', lm_slope),
     '"box":[', paste(bx, collapse = ","), ']}')
 }
 
 resid_ts <- function(x) ts(unname(residuals(lm(x ~ time(x)))), start = start(x), frequency = frequency(x))
 # With missing values: na.exclude puts NA back in place of the dropped rows.
 resid_ts_na <- function(x) ts(unname(residuals(lm(x ~ time(x), na.action = na.exclude))), start = start(x), frequency = frequency(x))
+lm_slope <- function(x) unname(coef(lm(x ~ time(x)))[2])
 
 cases <- c(
   case_json("nile", "R datasets::Nile (annual flow at Aswan, 1871-1970)", Nile, 20,
     list(c(1, 0), c(10, 0), c(20, 2))),
   case_json("nile_lm_resid", "residuals(lm(Nile ~ time(Nile)))", resid_ts(Nile), 20,
-    list(c(10, 0), c(10, 2))),
+    list(c(10, 0), c(10, 2)), lm_slope(Nile)),
   case_json("co2", "R datasets::co2 (Mauna Loa monthly CO2, 1959-1997)", co2, 48,
     list(c(12, 0), c(24, 0), c(48, 3))),
   case_json("co2_lm_resid", "residuals(lm(co2 ~ time(co2)))", resid_ts(co2), 48,
-    list(c(12, 2), c(24, 2))),
+    list(c(12, 2), c(24, 2)), lm_slope(co2)),
   case_json("presidents", "R datasets::presidents (quarterly approval, 1945-1974, 6 NA)", presidents, 16,
     list(c(4, 0), c(8, 1), c(16, 0))),
   case_json("lakehuron", "R datasets::LakeHuron (annual level, 1875-1972)", LakeHuron, 25,
     list(c(5, 0), c(25, 2))),
   case_json("presidents_lm_resid", "residuals(lm(presidents ~ time(presidents), na.action = na.exclude))", resid_ts_na(presidents), 16,
-    list(c(4, 0), c(8, 1)))
+    list(c(4, 0), c(8, 1)), lm_slope(presidents))
 )
 
 cat('{"generator":"testdata/reference/acf_ref.R","r_version":"', R.version.string, '",\n', sep = "")
