@@ -600,40 +600,63 @@ func (d *senData) sortSlopes(ps []slopeRef) {
 	}
 }
 
-// selectItem partially orders it by f (quickselect) and returns the
-// element of rank k (0-based).
+// selectItem partially orders it by f and returns the element of rank k
+// (0-based): afterwards it[:k] ≤ it[k] ≤ it[k+1:] by f. It is Floyd and
+// Rivest's selection (CACM 18(3):165–172, 1975, algorithm SELECT): on a long
+// range it first selects within a small sample around the expected
+// position, so that the partition element lands next to rank k and the
+// range shrinks to a few √n elements after one pass (about 1.5n comparisons
+// for a median, against about 3.4n for quickselect with random pivots).
 func selectItem(it []slopeItem, k int) slopeItem {
-	lo, hi := 0, len(it)-1
-	x := uint64(0x9e3779b97f4a7c15)
-	for lo < hi {
-		x ^= x << 13
-		x ^= x >> 7
-		x ^= x << 17
-		p := it[lo+int(x%uint64(hi-lo+1))].f
-		i, j := lo, hi
-		for i <= j {
-			for it[i].f < p {
+	floydRivest(it, 0, len(it)-1, k)
+	return it[k]
+}
+
+func floydRivest(a []slopeItem, left, right, k int) {
+	for right > left {
+		if right-left > 600 {
+			n := float64(right - left + 1)
+			i := float64(k - left + 1)
+			z := math.Log(n)
+			s := 0.5 * math.Exp(2*z/3)
+			sd := 0.5 * math.Sqrt(z*s*(n-s)/n)
+			if i < n/2 {
+				sd = -sd
+			}
+			newLeft := max(left, int(float64(k)-i*s/n+sd))
+			newRight := min(right, int(float64(k)+(n-i)*s/n+sd))
+			floydRivest(a, newLeft, newRight, k)
+		}
+		t := a[k].f
+		i, j := left, right
+		a[left], a[k] = a[k], a[left]
+		if a[right].f > t {
+			a[right], a[left] = a[left], a[right]
+		}
+		for i < j {
+			a[i], a[j] = a[j], a[i]
+			i++
+			j--
+			for a[i].f < t {
 				i++
 			}
-			for it[j].f > p {
-				j--
-			}
-			if i <= j {
-				it[i], it[j] = it[j], it[i]
-				i++
+			for a[j].f > t {
 				j--
 			}
 		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return it[k]
+		if a[left].f == t {
+			a[left], a[j] = a[j], a[left]
+		} else {
+			j++
+			a[j], a[right] = a[right], a[j]
+		}
+		if j <= k {
+			left = j + 1
+		}
+		if k <= j {
+			right = j - 1
 		}
 	}
-	return it[k]
 }
 
 // selectMany partially orders it by f so that it[k] is the element of rank

@@ -214,3 +214,46 @@ func TestExactSelectNearTies(t *testing.T) {
 		}
 	}
 }
+
+// TestSelectItemMatchesSort: the selection leaves it[:k] ≤ it[k] ≤ it[k+1:]
+// and returns the k-th smallest by f, as a full sort does (common
+// practice), on short and long ranges (the sampling step starts above 600
+// elements), with many ties and with ±Inf.
+func TestSelectItemMatchesSort(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 11))
+	for _, n := range []int{1, 2, 3, 10, 600, 601, 602, 5000, 40000} {
+		for _, distinct := range []int{2, 50, 1 << 30} {
+			it := make([]slopeItem, n)
+			for i := range it {
+				it[i] = slopeItem{f: float64(rng.IntN(distinct)), r: slopeRef{int32(i), int32(i + 1)}}
+			}
+			if n > 5 {
+				it[1].f, it[3].f = math.Inf(-1), math.Inf(1)
+			}
+			want := make([]float64, n)
+			for i := range it {
+				want[i] = it[i].f
+			}
+			slices.Sort(want)
+			for _, k := range []int{0, n / 3, n / 2, n - 1, rng.IntN(n)} {
+				work := slices.Clone(it)
+				got := selectItem(work, k)
+				if got.f != want[k] || work[k] != got {
+					t.Fatalf("n=%d distinct=%d k=%d: got %v, want %v", n, distinct, k, got.f, want[k])
+				}
+				for i := range work {
+					if (i < k && work[i].f > got.f) || (i > k && work[i].f < got.f) {
+						t.Fatalf("n=%d distinct=%d k=%d: it[%d] = %v on the wrong side of %v", n, distinct, k, i, work[i].f, got.f)
+					}
+				}
+				// a permutation of the input
+				slices.SortFunc(work, func(a, b slopeItem) int { return int(a.r.a - b.r.a) })
+				for i := range work {
+					if work[i] != it[i] {
+						t.Fatalf("n=%d k=%d: items lost or duplicated", n, k)
+					}
+				}
+			}
+		}
+	}
+}
