@@ -359,3 +359,47 @@ func TestPACFIndefinite(t *testing.T) {
 		t.Fatalf("pacf %v", p)
 	}
 }
+
+// TestLagPairsMatchDefinition: the pair counts from the missing slots
+// (lagPairs, lagPairsAt, both branches of lagPairs) equal the definition
+// m(h) = #{i : slots i and i + h both present}, counted pair by pair
+// (common practice), for sparse and dense gaps, runs of missing slots, a
+// missing first or last slot and an empty series.
+func TestLagPairsMatchDefinition(t *testing.T) {
+	rng := rand.New(rand.NewSource(5))
+	for _, N := range []int{1, 2, 3, 7, 60, 500} {
+		for _, frac := range []float64{0, 0.02, 0.2, 0.6, 1} {
+			present := make([]bool, N)
+			var miss []int
+			for i := 0; i < N; {
+				run := 1
+				if rng.Float64() < frac {
+					run = 1 + rng.Intn(6)
+					for k := i; k < min(i+run, N); k++ {
+						miss = append(miss, k)
+					}
+				} else {
+					present[i] = true
+				}
+				i += run
+			}
+			for _, L := range []int{0, 1, 5, N - 1} {
+				if L < 0 || L >= N {
+					continue
+				}
+				got := lagPairs(N, L, miss)
+				for h := 0; h <= L; h++ {
+					want := 0
+					for i := 0; i+h < N; i++ {
+						if present[i] && present[i+h] {
+							want++
+						}
+					}
+					if got[h] != want || lagPairsAt(N, h, miss) != want {
+						t.Fatalf("N=%d frac=%v L=%d h=%d: lagPairs %d, lagPairsAt %d, want %d (missing %v)", N, frac, L, h, got[h], lagPairsAt(N, h, miss), want, miss)
+					}
+				}
+			}
+		}
+	}
+}
