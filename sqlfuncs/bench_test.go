@@ -117,11 +117,17 @@ func drain(b *testing.B, db *sql.DB, q string) {
 		b.Fatalf("%s: %v", q, err)
 	}
 	defer rows.Close()
-	var vals [4]sql.RawBytes
-	ptrs := []any{&vals[0], &vals[1], &vals[2], &vals[3]}
-	cols, _ := rows.Columns()
+	cols, err := rows.Columns()
+	if err != nil {
+		b.Fatalf("%s: %v", q, err)
+	}
+	vals := make([]sql.RawBytes, len(cols))
+	ptrs := make([]any, len(cols))
+	for i := range vals {
+		ptrs[i] = &vals[i]
+	}
 	for rows.Next() {
-		if err := rows.Scan(ptrs[:len(cols)]...); err != nil {
+		if err := rows.Scan(ptrs...); err != nil {
 			b.Fatal(err)
 		}
 	}
