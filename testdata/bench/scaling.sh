@@ -3,17 +3,22 @@
 #
 # usage: testdata/bench/scaling.sh OUTDIR [REPS]
 #
-# Runs `trendsql bench --format json` for
+# Measures `trendsql bench --format json` for
 #   total rows 1M, 3M, 10M at 10,000 readings per series
 #       (100×10000, 300×10000, 1000×10000)
 #   per-series n of 1k, 10k, 100k at 1M rows in total
 #       (1000×1000, 100×10000, 10×100000)
-# writing OUTDIR/<series>x<readings>.json; a file that already exists is
-# reused (so the 10M run of run_all.sh is not repeated). Then prints, per
-# measurement, the time per row (median wall time / rows) of each
-# configuration, its spread (max/min − 1) and the largest deviation from
-# the median of the three (the ±15 % of the target read as "every value
-# within 15 % of the middle one").
+# The host's speed drifts from minute to minute, so the configurations are
+# interleaved: REPS rounds (default 3), each running every configuration
+# once (`--reps 1`, fresh data of the same seed), written to
+# OUTDIR/scaling/<series>x<readings>.<round>.json. The 10M configuration
+# takes minutes per repetition and is not repeated here: OUTDIR/1000x10000.json
+# (the main run of run_all.sh, its own interleaved repetitions) is used, and
+# made with --reps REPS if missing. A round file that already exists is
+# reused. Then prints, per measurement, the time per row (median over the
+# rounds of the wall time / rows) of each configuration, its spread
+# (max/min − 1) and the largest deviation from the median of the three (the
+# ±15 % of the target read as "every value within 15 % of the middle one").
 #
 # Environment: TRENDSQL (default ./trendsql), PYTHON (default /usr/bin/python3),
 # ITEM_TIMEOUT (default 5m; a repetition running longer is cancelled).
@@ -27,40 +32,63 @@ REPS=${2:-3}
 TRENDSQL=${TRENDSQL:-./trendsql}
 PYTHON=${PYTHON:-/usr/bin/python3}
 ITEM_TIMEOUT=${ITEM_TIMEOUT:-5m}
-mkdir -p "$OUT"
-for cfg in 100x10000 300x10000 1000x10000 1000x1000 10x100000; do
-	f=$OUT/$cfg.json
-	[ -s "$f" ] && continue
-	s=${cfg%x*}
-	n=${cfg#*x}
-	echo "scaling: $s series × $n readings" >&2
-	"$TRENDSQL" bench --stations "$s" --readings "$n" --reps "$REPS" --item-timeout "$ITEM_TIMEOUT" --quiet --format json > "$f.tmp"
-	mv "$f.tmp" "$f"
+mkdir -p "$OUT/scaling"
+bench() { # bench SERIES READINGS REPS FILE
+	"$TRENDSQL" bench --stations "$1" --readings "$2" --reps "$3" --item-timeout "$ITEM_TIMEOUT" --quiet --format json > "$4.tmp"
+	mv "$4.tmp" "$4"
+}
+if [ ! -s "$OUT/1000x10000.json" ]; then
+	echo "scaling: 1000 series × 10000 readings, $REPS repetitions" >&2
+	bench 1000 10000 "$REPS" "$OUT/1000x10000.json"
+fi
+round=1
+while [ "$round" -le "$REPS" ]; do
+	for cfg in 100x10000 300x10000 1000x1000 10x100000; do
+		f=$OUT/scaling/$cfg.$round.json
+		[ -s "$f" ] && continue
+		echo "scaling: round $round/$REPS, ${cfg%x*} series × ${cfg#*x} readings" >&2
+		bench "${cfg%x*}" "${cfg#*x}" 1 "$f"
+	done
+	round=$(( round + 1 ))
 done
-"$PYTHON" - "$OUT" <<'PY'
-import json, os, sys
-out = sys.argv[1]
+"$PYTHON" - "$OUT" "$REPS" <<'PY'
+import json, os, statistics, sys
+out, reps = sys.argv[1], int(sys.argv[2])
 def load(cfg):
-    return json.load(open(os.path.join(out, cfg + ".json")))
+    """Per item: the median over the rounds of its wall time, and the rows."""
+    if cfg == "1000x10000":
+        runs = [json.load(open(os.path.join(out, cfg + ".json")))]
+    else:
+        runs = [json.load(open(os.path.join(out, "scaling", "%s.%d.json" % (cfg, r)))) for r in range(1, reps + 1)]
+    items = {}
+    for run in runs:
+        for it in run["items"]:
+            if it["status"] == "ok" and it.get("median_s"):
+                items.setdefault(it["name"], []).append(it["median_s"])
+            else:
+                items.setdefault(it["name"], [])
+    names = [it["name"] for it in runs[0]["items"]]
+    status = {it["name"]: it["status"] for it in runs[0]["items"]}
+    return {"series": runs[0]["series"], "readings": runs[0]["readings_per_series"], "rows": runs[0]["rows"],
+            "names": names, "status": status,
+            "median": {k: statistics.median(v) for k, v in items.items() if len(v) == len(runs)}}
 def table(title, cfgs):
-    reps = [load(c) for c in cfgs]
-    names = [it["name"] for it in reps[0]["items"]]
-    head = ["%d×%d (%gM rows)" % (r["series"], r["readings_per_series"], r["rows"] / 1e6) for r in reps]
+    reps_ = [load(c) for c in cfgs]
+    head = ["%d×%d (%gM rows)" % (r["series"], r["readings"], r["rows"] / 1e6) for r in reps_]
     print("\n" + title + "\n")
     print("| measurement | " + " | ".join("ns/row " + h for h in head) + " | spread (max/min − 1) | largest deviation from the median |")
     print("|---|" + "---:|" * (len(head) + 2))
-    for name in names:
+    for name in reps_[0]["names"]:
         cells, vals = [], []
-        for r in reps:
-            it = next((i for i in r["items"] if i["name"] == name), None)
-            if it is None or it["status"] != "ok" or not it.get("median_s"):
-                cells.append(it["status"] if it else "—")
+        for r in reps_:
+            if name not in r["median"]:
+                cells.append(r["status"].get(name, "—"))
                 continue
-            ns = it["median_s"] / r["rows"] * 1e9
+            ns = r["median"][name] / r["rows"] * 1e9
             vals.append(ns)
             cells.append("%.0f" % ns)
         spread = dev = "—"
-        if len(vals) == len(reps):
+        if len(vals) == len(reps_):
             spread = "%.0f %%" % ((max(vals) / min(vals) - 1) * 100)
             mid = sorted(vals)[len(vals) // 2]
             dev = "%+.0f %%" % (max((v / mid - 1 for v in vals), key=abs) * 100)
