@@ -19,6 +19,11 @@
 # rounds of the wall time / rows) of each configuration, its spread
 # (max/min − 1) and the largest deviation from the median of the three (the
 # ±15 % of the target read as "every value within 15 % of the middle one").
+# A second pair of tables gives each item as a multiple of the avg() scan
+# measured in the same invocation (median over the rounds): the scan does
+# the same work per row at every size, so this view removes the host's
+# drift between configurations, in particular between the 10M run and the
+# rounds.
 #
 # Environment: TRENDSQL (default ./trendsql), PYTHON (default /usr/bin/python3),
 # ITEM_TIMEOUT (default 5m; a repetition running longer is cancelled).
@@ -60,23 +65,28 @@ def load(cfg):
         runs = [json.load(open(os.path.join(out, cfg + ".json")))]
     else:
         runs = [json.load(open(os.path.join(out, "scaling", "%s.%d.json" % (cfg, r)))) for r in range(1, reps + 1)]
-    items = {}
+    items, ratios = {}, {}
     for run in runs:
+        scan = next((i.get("median_s") for i in run["items"] if i["name"] == "scan avg()"), None)
         for it in run["items"]:
             if it["status"] == "ok" and it.get("median_s"):
                 items.setdefault(it["name"], []).append(it["median_s"])
+                if scan:
+                    ratios.setdefault(it["name"], []).append(it["median_s"] / scan)
             else:
                 items.setdefault(it["name"], [])
     names = [it["name"] for it in runs[0]["items"]]
     status = {it["name"]: it["status"] for it in runs[0]["items"]}
     return {"series": runs[0]["series"], "readings": runs[0]["readings_per_series"], "rows": runs[0]["rows"],
             "names": names, "status": status,
-            "median": {k: statistics.median(v) for k, v in items.items() if len(v) == len(runs)}}
-def table(title, cfgs):
+            "median": {k: statistics.median(v) for k, v in items.items() if len(v) == len(runs)},
+            "ratio": {k: statistics.median(v) for k, v in ratios.items() if len(v) == len(runs)}}
+def table(title, cfgs, ratio=False):
     reps_ = [load(c) for c in cfgs]
     head = ["%d×%d (%gM rows)" % (r["series"], r["readings"], r["rows"] / 1e6) for r in reps_]
     print("\n" + title + "\n")
-    print("| measurement | " + " | ".join("ns/row " + h for h in head) + " | spread (max/min − 1) | largest deviation from the median |")
+    unit = "× scan " if ratio else "ns/row "
+    print("| measurement | " + " | ".join(unit + h for h in head) + " | spread (max/min − 1) | largest deviation from the median |")
     print("|---|" + "---:|" * (len(head) + 2))
     for name in reps_[0]["names"]:
         cells, vals = [], []
@@ -84,15 +94,19 @@ def table(title, cfgs):
             if name not in r["median"]:
                 cells.append(r["status"].get(name, "—"))
                 continue
-            ns = r["median"][name] / r["rows"] * 1e9
-            vals.append(ns)
-            cells.append("%.0f" % ns)
+            v = r["ratio"][name] if ratio else r["median"][name] / r["rows"] * 1e9
+            vals.append(v)
+            cells.append("%.2f" % v if ratio else "%.0f" % v)
         spread = dev = "—"
         if len(vals) == len(reps_):
             spread = "%.0f %%" % ((max(vals) / min(vals) - 1) * 100)
             mid = sorted(vals)[len(vals) // 2]
             dev = "%+.0f %%" % (max((v / mid - 1 for v in vals), key=abs) * 100)
         print("| %s | %s | %s | %s |" % (name, " | ".join(cells), spread, dev))
-table("**Total rows grow, 10,000 readings per series**", ["100x10000", "300x10000", "1000x10000"])
-table("**Per-series n grows, 1M rows in total**", ["1000x1000", "100x10000", "10x100000"])
+total = ["100x10000", "300x10000", "1000x10000"]
+length = ["1000x1000", "100x10000", "10x100000"]
+table("**Total rows grow, 10,000 readings per series**", total)
+table("**Per-series n grows, 1M rows in total**", length)
+table("**Total rows grow, as multiples of the same invocation's avg() scan**", total, ratio=True)
+table("**Per-series n grows, as multiples of the same invocation's avg() scan**", length, ratio=True)
 PY
