@@ -19,6 +19,16 @@ OUT=${1:-bench-results}
 TRENDSQL=${TRENDSQL:-./trendsql}
 export TRENDSQL
 HERE=$(cd "$(dirname "$0")" && pwd)
+# Everything the comparisons need, checked before the long main run.
+missing=""
+[ -x /usr/bin/sqlite3 ] || missing="$missing sqlite3"
+[ -x /usr/bin/time ] || missing="$missing time"
+/usr/bin/python3 -c 'import pandas, statsmodels, numpy' 2>/dev/null || missing="$missing python3-pandas python3-statsmodels"
+if [ -n "$missing" ]; then
+	echo "$0: missing Debian packages:$missing (apt-get install$missing)" >&2
+	exit 1
+fi
+[ -x "$TRENDSQL" ] || { echo "$0: no trendsql binary at $TRENDSQL (CGO_ENABLED=0 go build -o trendsql ./cmd/trendsql)" >&2; exit 1; }
 mkdir -p "$OUT"
 {
 	echo "date: $(date -u +%Y-%m-%dT%H:%M:%SZ)"
