@@ -61,23 +61,10 @@ func MannKendall(y []float64) (MKResult, error) {
 	r.Discor = countInversions(buf, tmp)
 	// buf is now sorted: tie groups are runs.
 	var tieVar float64
-	for i := 0; i < n; {
-		j := i + 1
-		for j < n && buf[j] == buf[i] {
-			j++
-		}
-		if g := int64(j - i); g > 1 {
-			r.Ties++
-			r.TiedY += g * (g - 1) / 2
-			gf := float64(g)
-			tieVar += gf * (gf - 1) * (2*gf + 5)
-		}
-		i = j
-	}
+	r.Ties, r.TiedY, tieVar = tieGroups(buf)
 	r.Concor = r.Pairs - r.TiedY - r.Discor
 	r.S = r.Concor - r.Discor
-	nf := float64(n)
-	r.VarS = (nf*(nf-1)*(2*nf+5) - tieVar) / 18
+	r.VarS = mkVarS(n, tieVar)
 	r.Z = MKZ(r.S, r.VarS)
 	r.P = NormalTwoSided(r.Z)
 	if d := float64(r.Pairs) * float64(r.Pairs-r.TiedY); d > 0 {
@@ -86,6 +73,41 @@ func MannKendall(y []float64) (MKResult, error) {
 		r.Tau = math.NaN()
 	}
 	return r, nil
+}
+
+// tieGroups returns, for an ascending slice, the number of tie groups, the
+// number of tied pairs Σ g(g−1)/2 and Σ g(g−1)(2g+5) over the groups (sizes
+// g > 1).
+func tieGroups(sorted []float64) (groups, tiedPairs int64, tieVar float64) {
+	n := len(sorted)
+	for i := 0; i < n; {
+		j := i + 1
+		for j < n && sorted[j] == sorted[i] {
+			j++
+		}
+		if g := int64(j - i); g > 1 {
+			groups++
+			tiedPairs += g * (g - 1) / 2
+			gf := float64(g)
+			tieVar += gf * (gf - 1) * (2*gf + 5)
+		}
+		i = j
+	}
+	return
+}
+
+// mkVarS is the tie-corrected variance of S,
+// (n(n−1)(2n+5) − Σ g(g−1)(2g+5)) / 18 (Kendall 1975).
+func mkVarS(n int, tieVar float64) float64 {
+	nf := float64(n)
+	return (nf*(nf-1)*(2*nf+5) - tieVar) / 18
+}
+
+// mkVarSSorted is MannKendall(y).VarS from y sorted ascending (the same
+// operations, so the same bits), without counting S.
+func mkVarSSorted(sorted []float64) float64 {
+	_, _, tieVar := tieGroups(sorted)
+	return mkVarS(len(sorted), tieVar)
 }
 
 // MKZ is the continuity-corrected normal score of S: (S − sgn(S))/√var, 0 for

@@ -77,6 +77,7 @@ type senData struct {
 	mNext  int   // sample size when drawing between two cuts
 
 	// scratch
+	sorted    []float64 // a sorted copy of y (or t) for the medians and ties
 	key, mag  []float64
 	tmp, work []int32
 	items     []keyItem
@@ -949,16 +950,26 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64) (Sen
 	val := func(r slopeRef) float64 { return exactQuotient(y[r.b], y[r.a], t[r.b], t[r.a]) }
 	N := d.pairs
 	ks := []int64{(N + 1) / 2, N/2 + 1} // the middle rank(s)
-	res.MedianT = Median(t)
-	res.MedianY = Median(y)
+	// The medians and the tie groups of y from one sorted copy in the
+	// pooled scratch (a call allocating O(n) here made the collector run
+	// about once per series, which emptied the pool of the selection's much
+	// larger buffers).
+	d.sorted = grow(d.sorted, n)
+	if slices.IsSorted(t) {
+		res.MedianT = medianOfSorted(t)
+	} else {
+		copy(d.sorted, t)
+		slices.Sort(d.sorted)
+		res.MedianT = medianOfSorted(d.sorted)
+	}
+	ys := d.sorted
+	copy(ys, y)
+	slices.Sort(ys)
+	res.MedianY = medianOfSorted(ys)
 	if confidence > 0 && confidence < 1 {
 		res.Confidence = confidence
 		if varS == 0 && len(blocks) == 2 {
-			mk, err := MannKendall(y)
-			if err != nil {
-				return res, err
-			}
-			varS = mk.VarS
+			varS = mkVarSSorted(ys)
 		}
 		res.VarS = varS
 		z := distuv.UnitNormal.Quantile(1 - (1-confidence)/2)
@@ -987,6 +998,11 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64) (Sen
 func Median(v []float64) float64 {
 	s := append([]float64(nil), v...)
 	slices.Sort(s)
+	return medianOfSorted(s)
+}
+
+// medianOfSorted is Median of an ascending slice.
+func medianOfSorted(s []float64) float64 {
 	n := len(s)
 	if n == 0 {
 		return math.NaN()

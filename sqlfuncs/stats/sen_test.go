@@ -257,3 +257,27 @@ func TestSelectItemMatchesSort(t *testing.T) {
 		}
 	}
 }
+
+// TestMKVarSSortedMatchesMannKendall: the Sen interval's Var(S), taken from
+// a sorted copy of y, is bit for bit MannKendall(y).VarS (the same tie
+// formula, common practice), with and without ties.
+func TestMKVarSSortedMatchesMannKendall(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 9))
+	for _, n := range []int{2, 3, 10, 1000} {
+		for _, levels := range []int{2, 7, 1 << 30} {
+			y := make([]float64, n)
+			for i := range y {
+				y[i] = float64(rng.IntN(levels)) / 8
+			}
+			mk, err := MannKendall(y)
+			if err != nil {
+				t.Fatal(err)
+			}
+			s := slices.Clone(y)
+			slices.Sort(s)
+			if got := mkVarSSorted(s); got != mk.VarS {
+				t.Fatalf("n=%d levels=%d: %v, MannKendall %v", n, levels, got, mk.VarS)
+			}
+		}
+	}
+}
