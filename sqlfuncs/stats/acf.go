@@ -120,13 +120,7 @@ func lagPairs(N, L int, miss []int) []int {
 	out := make([]int, L+1)
 	M := len(miss)
 	if missingPairWork(miss, L) > N*(L+1)/4 {
-		mask := make([]float64, N)
-		for i := range mask {
-			mask[i] = 1
-		}
-		for _, i := range miss {
-			mask[i] = 0
-		}
+		mask := presenceMask(N, miss)
 		for h := range out {
 			out[h] = int(floats.Dot(mask[:N-h], mask[h:]))
 		}
@@ -152,6 +146,19 @@ func lagPairs(N, L int, miss []int) []int {
 		out[h] += (N - h) - upTo - (M - below)
 	}
 	return out
+}
+
+// presenceMask is 1 in the present slots of an N-slot series and 0 in the
+// missing ones.
+func presenceMask(N int, miss []int) []float64 {
+	mask := make([]float64, N)
+	for i := range mask {
+		mask[i] = 1
+	}
+	for _, i := range miss {
+		mask[i] = 0
+	}
+	return mask
 }
 
 // missingPairWork returns the number of pairs of missing slots at most L
@@ -330,14 +337,7 @@ func SampleACVFFFT(x []float64, maxLag int) Autocov {
 	if missingPairWork(miss, L) <= 4*N {
 		pairs = lagPairs(N, L, miss)
 	} else {
-		mask := make([]float64, N)
-		for i := range mask {
-			mask[i] = 1
-		}
-		for _, i := range miss {
-			mask[i] = 0
-		}
-		mc := autocorrSums(f, mask, L)
+		mc := autocorrSums(f, presenceMask(N, miss), L)
 		pairs = make([]int, L+1)
 		for h := range pairs {
 			pairs[h] = int(math.Round(mc[h]))
