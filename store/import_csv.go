@@ -23,13 +23,18 @@ type csvRecord struct {
 // csvReader reads records of a delimited text file (RFC 4180 quoting: a
 // field that starts with a double quote runs to the matching quote, "" is a
 // literal quote, and a quoted field may span lines). A leading UTF-8 byte
-// order mark is dropped, \r\n and \n line ends are both accepted, and blank
-// lines are skipped (they offer no row). The reader keeps the raw text and
-// the starting line number of each record so rejects can quote them.
+// order mark is dropped, \r\n and \n line ends are both accepted, and so
+// are bare \r line ends (classic Mac OS; spreadsheet programs on the Mac
+// still offer such CSV) when the file's first line ends that way. Blank
+// lines are skipped (they offer no row). A quoted field that spans lines
+// holds \n between its lines, whatever the file's line ends. The reader
+// keeps the raw text and the starting line number of each record so rejects
+// can quote them.
 type csvReader struct {
 	br       *bufio.Reader
 	delim    byte
-	nextLine int // number of the next physical line to read
+	eol      byte // '\n', or '\r' for a file with bare carriage-return line ends
+	nextLine int  // number of the next physical line to read
 	fields   []string
 	acc      []byte
 	started  bool
@@ -37,17 +42,50 @@ type csvReader struct {
 }
 
 func newCSVReader(r io.Reader, delim byte) *csvReader {
-	return &csvReader{br: bufio.NewReaderSize(r, 256<<10), delim: delim, nextLine: 1}
+	return &csvReader{br: bufio.NewReaderSize(r, 256<<10), delim: delim, eol: '\n', nextLine: 1}
+}
+
+// detectLineEnd switches to bare carriage-return line ends when the first
+// line ends in a \r that no \n follows. It looks only at the bytes the first
+// read delivered (plus one byte after a \r at their end), so a slow or
+// silent input (a pipe) blocks it no longer than reading the first line
+// would.
+func (c *csvReader) detectLineEnd() {
+	if _, err := c.br.Peek(1); err != nil {
+		return // empty input, or the error surfaces on the first read
+	}
+	p, _ := c.br.Peek(c.br.Buffered())
+	r := bytes.IndexByte(p, '\r')
+	n := bytes.IndexByte(p, '\n')
+	if r < 0 || (n >= 0 && n < r) {
+		return
+	}
+	if r+1 >= len(p) {
+		q, err := c.br.Peek(r + 2)
+		if err == io.EOF {
+			c.eol = '\r' // the input's only line end is a final \r
+		}
+		if err != nil {
+			return
+		}
+		p = q
+	}
+	if p[r+1] != '\n' {
+		c.eol = '\r'
+	}
 }
 
 // readLine returns the next physical line without its line end, and whether
 // one was found. The returned slice is valid until the next call.
 func (c *csvReader) readLine() ([]byte, bool, error) {
-	b, err := c.br.ReadSlice('\n')
+	if !c.started {
+		c.detectLineEnd()
+	}
+	b, err := c.br.ReadSlice(c.eol)
 	if err == bufio.ErrBufferFull {
 		c.acc = append(c.acc[:0], b...)
 		for err == bufio.ErrBufferFull {
-			b, err = c.br.ReadSlice('\n')
+			b, err = c.br.ReadSlice(c.eol)
 			c.acc = append(c.acc, b...)
 		}
 		b = c.acc
@@ -64,9 +102,9 @@ func (c *csvReader) readLine() ([]byte, bool, error) {
 	}
 	c.nextLine++
 	n := len(b)
-	if n > 0 && b[n-1] == '\n' {
+	if n > 0 && b[n-1] == c.eol {
 		n--
-		if n > 0 && b[n-1] == '\r' {
+		if c.eol == '\n' && n > 0 && b[n-1] == '\r' {
 			n--
 		}
 	}

@@ -973,23 +973,27 @@ func TestImportReplaceCountsOnlyChanges(t *testing.T) {
 
 func TestImportCancelWhileInputIsSilent(t *testing.T) {
 	// The file is a pipe that delivers a header and one row and then stays
-	// open without data: a cancel must still end the import, changing nothing.
-	s := impOpenStore(t)
-	before := impSnapshot(t, s)
-	pr, pw := io.Pipe()
-	ctx, cancel := context.WithCancel(context.Background())
-	go func() {
-		io.WriteString(pw, "station,time,value\nA,2021-01-01T00:00:00Z,1\n")
-		cancel() // the reader has taken the bytes; it now waits for more
-	}()
-	in := &importInput{f: pr, name: "pipe.csv", abs: "/x/pipe.csv", size: -1, h: sha256.New()}
-	_, err := s.importReadings(ctx, in, ReadingsOptions{Variable: "x"}, time.UTC)
-	if !errors.Is(err, context.Canceled) {
-		t.Fatalf("err = %v, want context.Canceled", err)
-	}
-	pw.Close()
-	if impSnapshot(t, s) != before {
-		t.Error("a cancelled import changed the store")
+	// open without data: a cancel must still end the import, changing nothing
+	// (with \n and with bare \r line ends, whose detection must not wait for
+	// more input either).
+	for _, eol := range []string{"\n", "\r"} {
+		s := impOpenStore(t)
+		before := impSnapshot(t, s)
+		pr, pw := io.Pipe()
+		ctx, cancel := context.WithCancel(context.Background())
+		go func() {
+			io.WriteString(pw, "station,time,value"+eol+"A,2021-01-01T00:00:00Z,1"+eol)
+			cancel() // the reader has taken the bytes; it now waits for more
+		}()
+		in := &importInput{f: pr, name: "pipe.csv", abs: "/x/pipe.csv", size: -1, h: sha256.New()}
+		_, err := s.importReadings(ctx, in, ReadingsOptions{Variable: "x"}, time.UTC)
+		if !errors.Is(err, context.Canceled) {
+			t.Fatalf("line end %q: err = %v, want context.Canceled", eol, err)
+		}
+		pw.Close()
+		if impSnapshot(t, s) != before {
+			t.Errorf("line end %q: a cancelled import changed the store", eol)
+		}
 	}
 }
 
@@ -1010,4 +1014,77 @@ func TestImportStationsDecimalComma(t *testing.T) {
 	if name != "Kanal Nord" || lat != 52.5 || lon != 13.25 || elev != 34.5 || meta != `{"aquifer":"Sand"}` {
 		t.Errorf("K1 = %q %v %v %v %s", name, lat, lon, elev, meta)
 	}
+}
+
+// TestCSVReaderBareCR: a file whose line ends are bare carriage returns
+// (the "Macintosh" CSV some spreadsheet programs write) reads as the same
+// records, raw texts and line numbers as the file with \n line ends (the
+// line-end conventions are common practice); a CRLF file keeps its
+// carriage returns out of the fields, and a lone \r inside a file whose
+// first line ends in \n stays part of its field.
+func TestCSVReaderBareCR(t *testing.T) {
+	read := func(in string) []string {
+		cr := newCSVReader(strings.NewReader(in), ',')
+		var out []string
+		for {
+			r, err := cr.next()
+			if err != nil {
+				t.Fatal(err)
+			}
+			if r == nil {
+				return out
+			}
+			out = append(out, fmt.Sprintf("%d %q %q %q", r.line, r.fields, r.raw, r.bad))
+		}
+	}
+	for _, lf := range []string{
+		"a,b,c\n1,2,3\n",
+		"a,b,c\n1,2,3",
+		"\xef\xbb\xbfa,b\n\n1,\"x,y\"\n\"multi\nline\",z\n  \nlast,\"open",
+		"only\n",
+	} {
+		want := read(lf)
+		if got := read(strings.ReplaceAll(lf, "\n", "\r")); fmt.Sprint(got) != fmt.Sprint(want) {
+			t.Errorf("bare CR of %q:\n got %v\nwant %v", lf, got, want)
+		}
+		if got := read(strings.ReplaceAll(lf, "\n", "\r\n")); fmt.Sprint(got) != fmt.Sprint(want) {
+			t.Errorf("CRLF of %q:\n got %v\nwant %v", lf, got, want)
+		}
+	}
+	if got := read("a,b\nx\ry,z\n"); fmt.Sprint(got) != fmt.Sprint([]string{`1 ["a" "b"] "a,b" ""`, `2 ["x\ry" "z"] "x\ry,z" ""`}) {
+		t.Errorf("lone CR in an LF file: %v", got)
+	}
+}
+
+// TestImportBareCRFiles: the station and readings fixtures with bare
+// carriage-return line ends import exactly the rows the originals do (an
+// import that read such a file as one line stored nothing and said so only
+// as "0 rows read").
+func TestImportBareCRFiles(t *testing.T) {
+	ctx := context.Background()
+	s := impOpenStore(t)
+	dir := t.TempDir()
+	toCR := func(name string) string {
+		b, err := os.ReadFile(impFixture(name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		text := strings.ReplaceAll(strings.ReplaceAll(string(b), "\r\n", "\n"), "\n", "\r")
+		p := filepath.Join(dir, name)
+		if err := os.WriteFile(p, []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return p
+	}
+	res, err := s.ImportStations(ctx, toCR("stations.csv"), StationsOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	impCheckCounts(t, s, res, impCounts{read: 3, stored: 3})
+	res, err = s.ImportReadings(ctx, toCR("readings_good.csv"), ReadingsOptions{Variable: "stage", Unit: "m"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	impCheckCounts(t, s, res, impCounts{read: 6, stored: 6})
+	impCheckReadings(t, s, impGoodReadings)
 }
