@@ -213,8 +213,7 @@ func (s *Store) Summarize(ctx context.Context, o SummarizeOptions) (*SummarizeRe
 			status = "interrupted"
 		}
 		// Record the failure even if ctx was cancelled.
-		_, _ = s.DB.ExecContext(context.Background(), `UPDATE summary_runs SET status = ?, error = ?, finished_at = ? WHERE id = ?`,
-			status, runErr.Error(), nowISO(), res.RunID)
+		s.recordRunEnd(res.RunID, status, runErr.Error())
 		res.Elapsed = time.Since(start)
 		return res, runErr
 	}
@@ -624,6 +623,76 @@ func (s *Store) writeRunWaiting(ctx context.Context, res *SummarizeResult, resul
 	}
 }
 
+// failRecordWait bounds how long a failed run keeps trying to record its
+// status while another connection holds the write lock (a variable so tests
+// can shorten it). An interrupted run (the user cancelled it) makes one
+// attempt of at most the busy timeout.
+var failRecordWait = time.Minute
+
+// failRecordRetries counts attempts to record a run's end that found the
+// store busy (for tests and diagnostics).
+var failRecordRetries atomic.Int64
+
+// recordRunEnd marks the run failed or interrupted with the error text,
+// retrying while the store is busy (see failRecordWait). If it still cannot,
+// the run stays 'running' until the next run marks it 'interrupted'.
+func (s *Store) recordRunEnd(id int64, status, msg string) {
+	ctx := context.Background()
+	wait := failRecordWait
+	if status == "interrupted" {
+		wait = 0
+	}
+	deadline := time.Now().Add(wait)
+	pause := 100 * time.Millisecond
+	for {
+		attempt := writeAttempt
+		if wait > 0 {
+			attempt = min(writeAttempt, max(time.Until(deadline), time.Millisecond))
+		}
+		err := s.execBusyWait(ctx, attempt, `UPDATE summary_runs SET status = ?, error = ?, finished_at = ? WHERE id = ?`,
+			status, msg, nowISO(), id)
+		if err == nil || !isBusy(err) || !time.Now().Before(deadline) {
+			return
+		}
+		failRecordRetries.Add(1)
+		time.Sleep(min(pause, time.Until(deadline)))
+		pause = min(2*pause, 5*time.Second)
+	}
+}
+
+// execBusyWait runs one statement on a connection of its own whose busy
+// timeout is busyWait for the duration.
+func (s *Store) execBusyWait(ctx context.Context, busyWait time.Duration, query string, args ...any) error {
+	conn, done, err := s.connBusyWait(ctx, busyWait)
+	if err != nil {
+		return err
+	}
+	defer done()
+	_, err = conn.ExecContext(ctx, query, args...)
+	return err
+}
+
+// connBusyWait takes a connection of its own with busy timeout busyWait;
+// done restores the timeout (or discards the connection) and returns it to
+// the pool.
+func (s *Store) connBusyWait(ctx context.Context, busyWait time.Duration) (conn *sql.Conn, done func(), err error) {
+	conn, err = s.DB.Conn(ctx)
+	if err != nil {
+		return nil, nil, err
+	}
+	if busyWait == BusyTimeout {
+		return conn, func() { conn.Close() }, nil
+	}
+	if _, err := conn.ExecContext(ctx, fmt.Sprintf("PRAGMA busy_timeout = %d", busyWait.Milliseconds())); err != nil {
+		conn.Close()
+		return nil, nil, err
+	}
+	return conn, func() {
+		restorePragma(conn, "busy_timeout", BusyTimeout.Milliseconds())
+		conn.Close()
+	}, nil
+}
+
 // isBusy reports whether err is SQLite's "database is locked" (SQLITE_BUSY)
 // or "table is locked" (SQLITE_LOCKED), extended codes included.
 func isBusy(err error) bool {
@@ -638,17 +707,11 @@ func isBusy(err error) bool {
 // writeRun stores every result and marks the run ok, in one transaction on
 // a connection of its own whose busy timeout is busyWait for the duration.
 func (s *Store) writeRun(ctx context.Context, res *SummarizeResult, results []*seriesResult, busyWait time.Duration) error {
-	conn, err := s.DB.Conn(ctx)
+	conn, done, err := s.connBusyWait(ctx, busyWait)
 	if err != nil {
 		return fmt.Errorf("summarize: write: %w", err)
 	}
-	defer conn.Close()
-	if busyWait != BusyTimeout {
-		if _, err := conn.ExecContext(ctx, fmt.Sprintf("PRAGMA busy_timeout = %d", busyWait.Milliseconds())); err != nil {
-			return fmt.Errorf("summarize: write: %w", err)
-		}
-		defer restorePragma(conn, "busy_timeout", BusyTimeout.Milliseconds())
-	}
+	defer done()
 	tx, err := conn.BeginTx(ctx, nil)
 	if err != nil {
 		return fmt.Errorf("summarize: begin write: %w", err)

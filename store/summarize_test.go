@@ -1099,6 +1099,28 @@ func holdWriteLock(t *testing.T, s *Store, d time.Duration) (release func()) {
 	return release
 }
 
+// summarizeBehindLock runs a summary with o while another connection takes
+// the write lock for hold as soon as the last series has been computed (so
+// the lock is held while the run writes).
+func summarizeBehindLock(t *testing.T, s *Store, o SummarizeOptions, hold time.Duration) (*SummarizeResult, error) {
+	var release func()
+	var mu sync.Mutex
+	o.Progress = func(done, total int) {
+		mu.Lock()
+		defer mu.Unlock()
+		if done == total && release == nil {
+			release = holdWriteLock(t, s, hold)
+		}
+	}
+	res, err := s.Summarize(context.Background(), o)
+	mu.Lock()
+	if release != nil {
+		release()
+	}
+	mu.Unlock()
+	return res, err
+}
+
 // TestSummarizeWriteWaitsForOtherWriter: another connection holds the write
 // lock (as a long import does) when the computed run is written. With
 // attempts shortened to 100 ms, the write retries until the lock is
@@ -1113,22 +1135,7 @@ func TestSummarizeWriteWaitsForOtherWriter(t *testing.T) {
 	run := func(hold, wait time.Duration) (*SummarizeResult, error) {
 		o := fixtureOptions(0)
 		o.WriteWait = wait
-		var release func()
-		var mu sync.Mutex
-		o.Progress = func(done, total int) {
-			mu.Lock()
-			defer mu.Unlock()
-			if done == total && release == nil {
-				release = holdWriteLock(t, fx.s, hold)
-			}
-		}
-		res, err := fx.s.Summarize(context.Background(), o)
-		mu.Lock()
-		if release != nil {
-			release()
-		}
-		mu.Unlock()
-		return res, err
+		return summarizeBehindLock(t, fx.s, o, hold)
 	}
 
 	retries := writeRetries.Load()
@@ -1157,6 +1164,31 @@ func TestSummarizeWriteWaitsForOtherWriter(t *testing.T) {
 	}
 	if err := fx.s.DB.QueryRow(`SELECT status FROM summary_runs WHERE id = ?`, res.RunID).Scan(&status); err != nil || status != "failed" {
 		t.Errorf("failed run status %q (%v), want failed", status, err)
+	}
+}
+
+// TestSummarizeFailureRecordWaitsForOtherWriter: when the final write gives
+// up behind another writer, the run's 'failed' status is still recorded
+// once that writer is done, by retrying past single busy timeouts (here
+// 0.1 s each against a lock held 1.5 s) instead of trying once.
+func TestSummarizeFailureRecordWaitsForOtherWriter(t *testing.T) {
+	fx := buildSummaryFixture(t)
+	savedAttempt, savedWait := writeAttempt, failRecordWait
+	writeAttempt, failRecordWait = 100*time.Millisecond, 10*time.Second
+	defer func() { writeAttempt, failRecordWait = savedAttempt, savedWait }()
+	o := fixtureOptions(0)
+	o.WriteWait = 300 * time.Millisecond
+	retries := failRecordRetries.Load()
+	res, err := summarizeBehindLock(t, fx.s, o, 1500*time.Millisecond)
+	if err == nil || !isBusy(err) {
+		t.Fatalf("write behind a 1.5 s lock with a 0.3 s wait: %v; want a busy error", err)
+	}
+	if failRecordRetries.Load() == retries {
+		t.Errorf("recording the failure never found the store busy: the test proved nothing")
+	}
+	var status, msg string
+	if err := fx.s.DB.QueryRow(`SELECT status, error FROM summary_runs WHERE id = ?`, res.RunID).Scan(&status, &msg); err != nil || status != "failed" || !strings.Contains(msg, "write wait") {
+		t.Errorf("run status %q, error %q (%v); want failed with the write-wait error", status, msg, err)
 	}
 }
 
