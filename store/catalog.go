@@ -22,21 +22,31 @@ ORDER BY schema = 'main' DESC, schema, type, name`)
 }
 
 // ColumnsQuery lists the columns of a table or view: position, name, declared
-// type, NOT NULL, default and primary-key position. It returns an error naming
-// the table when there is no table or view of that name.
-func ColumnsQuery(ctx context.Context, q Querier, table string) (*sql.Rows, error) {
+// type, NOT NULL, default and primary-key position. schema names the attached
+// database ("" for the first that has the table: main, temp, then the
+// attached ones, as SQLite resolves an unqualified name). It returns an error
+// naming the table when there is no table or view of that name.
+func ColumnsQuery(ctx context.Context, q Querier, schema, table string) (*sql.Rows, error) {
 	var n int
-	if err := q.QueryRowContext(ctx, `SELECT count(*) FROM pragma_table_list WHERE name = ? COLLATE NOCASE`, table).Scan(&n); err != nil {
+	if err := q.QueryRowContext(ctx, `SELECT count(*) FROM pragma_table_list
+WHERE name = ? COLLATE NOCASE AND (? = '' OR schema = ? COLLATE NOCASE)`, table, schema, schema).Scan(&n); err != nil {
 		return nil, err
 	}
 	if n == 0 {
+		if schema != "" {
+			return nil, fmt.Errorf("no table or view named %q in schema %q", table, schema)
+		}
 		return nil, fmt.Errorf("no table or view named %q", table)
 	}
-	return q.QueryContext(ctx, `SELECT cid + 1 AS position, name, type, "notnull" = 1 AS not_null,
-       dflt_value AS default_value, pk AS primary_key_position
-FROM pragma_table_xinfo(?)
-ORDER BY cid`, table)
+	if schema == "" {
+		return q.QueryContext(ctx, columnsSQL+"(?) ORDER BY cid", table)
+	}
+	return q.QueryContext(ctx, columnsSQL+"(?, ?) ORDER BY cid", table, schema)
 }
+
+const columnsSQL = `SELECT cid + 1 AS position, name, type, "notnull" = 1 AS not_null,
+       dflt_value AS default_value, pk AS primary_key_position
+FROM pragma_table_xinfo`
 
 // TotalChanges returns SQLite's total_changes() for the connection: rows
 // inserted, updated or deleted since it opened. Run on a *sql.Conn.

@@ -354,6 +354,7 @@ SELECT count(*) AS stations,
        count(*) FILTER (WHERE json_extract(metadata, '$.aquifer') = 'karst') AS karst
 FROM stations;
 :columns readings
+:columns main."stations"
 :format csv
 SELECT id, 'semi;colon' AS text FROM stations ORDER BY id LIMIT 1;
 :functions regr_slope
@@ -366,6 +367,7 @@ SELECT id, 'semi;colon' AS text FROM stations ORDER BY id LIMIT 1;
 		"readings_view",                      // :tables
 		"stations  karst", "      40      7", // the multi-line statement, table format
 		"series_id", "qualifier", // :columns readings
+		"elevation_m",                   // :columns main."stations"
 		"id,text\nVOR-G01,semi;colon\n", // after :format csv
 		"regr_slope(y, x)",              // :functions
 	} {

@@ -24,7 +24,7 @@ import (
 const shellHelp = `Statements end with ';' and may span several lines.
 Shell commands (one per line, not ended by ';'):
   :tables             list the tables and views of the store
-  :columns NAME       list the columns of a table or view
+  :columns NAME       list the columns of a table or view (NAME or schema.NAME)
   :format [FORMAT]    show or set the result format: table, csv or json
   :functions [TEXT]   list trendsql's SQL functions (only those mentioning TEXT)
   :help               show this list
@@ -348,7 +348,8 @@ func (sh *shell) dispatch(line string) error {
 		if err := argN(1, 1); err != nil {
 			return err
 		}
-		rows, err := store.ColumnsQuery(ctx, sh.conn, strings.Trim(args[0], `"'[]`+"`"))
+		schema, table := splitQualified(args[0])
+		rows, err := store.ColumnsQuery(ctx, sh.conn, schema, table)
 		if err != nil {
 			return fmt.Errorf(":columns: %w", err)
 		}
@@ -385,4 +386,26 @@ func (sh *shell) dispatch(line string) error {
 		return fmt.Errorf("unknown shell command %s (:help lists them)", fields[0])
 	}
 	return nil
+}
+
+// splitQualified splits "schema.name" into its parts, each optionally
+// quoted with double quotes, square brackets, backticks or single quotes; a
+// name without a dot outside quotes has schema "".
+func splitQualified(s string) (schema, name string) {
+	unquote := func(p string) string { return strings.Trim(p, `"'[]`+"`") }
+	quote := byte(0)
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case quote != 0:
+			if c == quote || (quote == '[' && c == ']') {
+				quote = 0
+			}
+		case c == '"' || c == '\'' || c == '`' || c == '[':
+			quote = c
+		case c == '.':
+			return unquote(s[:i]), unquote(s[i+1:])
+		}
+	}
+	return "", unquote(s)
 }

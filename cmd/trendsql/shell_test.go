@@ -97,10 +97,10 @@ func TestShellInProcess(t *testing.T) {
 	}
 	out.Reset()
 	errw.Reset()
-	in := ":help\n:format json\nSELECT 1 AS one,\n NULL AS none;\n:format\n:format xml\n:columns nowhere\n:quit\nSELECT 'not reached';\n"
+	in := ":help\n:format json\nSELECT 1 AS one,\n NULL AS none;\n:format\n:format xml\n:columns nowhere\n:columns temp.stations\n:quit\nSELECT 'not reached';\n"
 	code := Main([]string{"shell", "--db", db}, strings.NewReader(in), &out, &errw)
 	if code != ExitFailed {
-		t.Errorf("exit %d, want %d (two commands failed)", code, ExitFailed)
+		t.Errorf("exit %d, want %d (three commands failed)", code, ExitFailed)
 	}
 	o := out.String()
 	for _, want := range []string{":columns NAME", `{"one": 1, "none": null}`, "format: json"} {
@@ -111,9 +111,27 @@ func TestShellInProcess(t *testing.T) {
 	if strings.Contains(o, "not reached") {
 		t.Error(":quit did not stop the shell")
 	}
-	for _, want := range []string{`expected table, csv or json, got "xml"`, `no table or view named "nowhere"`} {
+	for _, want := range []string{`expected table, csv or json, got "xml"`, `no table or view named "nowhere"`, `no table or view named "stations" in schema "temp"`} {
 		if !strings.Contains(errw.String(), want) {
 			t.Errorf("stderr lacks %q:\n%s", want, errw.String())
+		}
+	}
+}
+
+// TestSplitQualified: schema-qualified names for :columns, with SQL's
+// quoting styles (a dot inside quotes belongs to the name).
+func TestSplitQualified(t *testing.T) {
+	for in, want := range map[string][2]string{
+		"readings":          {"", "readings"},
+		"main.readings":     {"main", "readings"},
+		`"main"."odd.name"`: {"main", "odd.name"},
+		"[aux].[t]":         {"aux", "t"},
+		"`x`":               {"", "x"},
+		`"a.b"`:             {"", "a.b"},
+	} {
+		s, n := splitQualified(in)
+		if s != want[0] || n != want[1] {
+			t.Errorf("splitQualified(%q) = %q, %q; want %q, %q", in, s, n, want[0], want[1])
 		}
 	}
 }
