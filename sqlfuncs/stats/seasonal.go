@@ -135,14 +135,15 @@ func SeasonalKendall(t, y []float64, season []int, seasons int, confidence float
 	if !(res.VarS > 0) {
 		conf = 0
 	}
-	sen, err := senSlopeBlocks(gt, gy, blocks, conf, res.VarS)
+	// gt, gy hold the same values as t, y, so their medians are those of
+	// the series.
+	sen, err := senSlopeBlocks(gt, gy, blocks, conf, res.VarS, true)
 	if err != nil {
 		return res, err
 	}
 	if conf == 0 {
 		sen.Lower, sen.Upper = math.NaN(), math.NaN()
 	}
-	sen.MedianT, sen.MedianY = Median(t), Median(y)
 	res.Sen = sen
 	return res, nil
 }

@@ -888,7 +888,7 @@ func (d *senData) selectRank(k int64) slopeRef {
 // SenMedian returns the Theil–Sen slope (median of pairwise slopes, in y per
 // unit of t) of a series sorted by t with distinct t (n ≥ 2).
 func SenMedian(t, y []float64) (float64, error) {
-	r, err := SenSlope(t, y, 0)
+	r, err := senSlopeBlocks(t, y, []int{0, len(t)}, 0, 0, false)
 	if err != nil {
 		return 0, err
 	}
@@ -927,16 +927,19 @@ type SenResult struct {
 // MedianT and MedianY are the medians of t and y (mean of the two middle
 // values for even n).
 func SenSlope(t, y []float64, confidence float64) (SenResult, error) {
-	return senSlopeBlocks(t, y, []int{0, len(t)}, confidence, 0)
+	return senSlopeBlocks(t, y, []int{0, len(t)}, confidence, 0, true)
 }
 
 // SenSlopeWithVar is SenSlope with the Mann–Kendall Var(S) of y supplied by
 // a caller that has computed it already (0: compute it here).
 func SenSlopeWithVar(t, y []float64, confidence, varS float64) (SenResult, error) {
-	return senSlopeBlocks(t, y, []int{0, len(t)}, confidence, varS)
+	return senSlopeBlocks(t, y, []int{0, len(t)}, confidence, varS, true)
 }
 
-func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64) (SenResult, error) {
+// senSlopeBlocks is the Sen slope over the within-block pairs; with medians
+// set it also fills MedianT and MedianY (callers wanting only the slope
+// skip their sorts).
+func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64, medians bool) (SenResult, error) {
 	n := len(t)
 	if n != len(y) {
 		return SenResult{}, errors.New("t and y differ in length")
@@ -954,19 +957,27 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64) (Sen
 	// pooled scratch (a call allocating O(n) here made the collector run
 	// about once per series, which emptied the pool of the selection's much
 	// larger buffers).
+	interval := confidence > 0 && confidence < 1
 	d.sorted = grow(d.sorted, n)
-	if slices.IsSorted(t) {
-		res.MedianT = medianOfSorted(t)
-	} else {
-		copy(d.sorted, t)
-		slices.Sort(d.sorted)
-		res.MedianT = medianOfSorted(d.sorted)
+	if medians {
+		if slices.IsSorted(t) {
+			res.MedianT = medianOfSorted(t)
+		} else {
+			copy(d.sorted, t)
+			slices.Sort(d.sorted)
+			res.MedianT = medianOfSorted(d.sorted)
+		}
 	}
-	ys := d.sorted
-	copy(ys, y)
-	slices.Sort(ys)
-	res.MedianY = medianOfSorted(ys)
-	if confidence > 0 && confidence < 1 {
+	var ys []float64 // y sorted, when the median or Var(S) needs it
+	if medians || (interval && varS == 0 && len(blocks) == 2) {
+		ys = d.sorted
+		copy(ys, y)
+		slices.Sort(ys)
+	}
+	if medians {
+		res.MedianY = medianOfSorted(ys)
+	}
+	if interval {
 		res.Confidence = confidence
 		if varS == 0 && len(blocks) == 2 {
 			varS = mkVarSSorted(ys)
