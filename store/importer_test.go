@@ -1017,9 +1017,9 @@ func TestImportStationsDecimalComma(t *testing.T) {
 }
 
 // TestCSVReaderBareCR: a file whose line ends are bare carriage returns
-// (the "Macintosh" CSV some spreadsheet programs write) reads as the same
-// records, raw texts and line numbers as the file with \n line ends (the
-// line-end conventions are common practice); a CRLF file keeps its
+// (classic Mac OS line ends, which some spreadsheet programs still write)
+// reads as the same records, raw texts and line numbers as the file with \n
+// line ends (the line-end conventions are common practice); a CRLF file keeps its
 // carriage returns out of the fields, and a lone \r inside a file whose
 // first line ends in \n stays part of its field.
 func TestCSVReaderBareCR(t *testing.T) {

@@ -40,8 +40,8 @@ counts, every rejected row goes to import_rejects with its line number, text
 and reason, and on a failure nothing changes.
 
 Files are UTF-8 text (a leading byte order mark is ignored) with \n, \r\n
-or bare \r line ends (the last as written by spreadsheet programs' Macintosh
-CSV), fields quoted as in RFC 4180.
+or bare \r line ends (the classic Mac OS convention, which some spreadsheet
+programs still write), fields quoted as in RFC 4180.
 
 A one-line account goes to stderr. Exit status: 0 when the batch was stored
 (also when some rows were rejected: they are counted and listed in
