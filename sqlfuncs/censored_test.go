@@ -1,0 +1,205 @@
+package sqlfuncs_test
+
+// SQL-level checks of censored_mann_kendall, censored_seasonal_kendall and
+// censored_sen_slope: the single-limit reference cases of
+// testdata/reference/censored_ref.json / censored_ref_r.json (scipy 1.10.1
+// and R 4.2.2 on the data with the censored values replaced by one common
+// value below the limit; see censored_ref.py for the equivalence), the
+// example in the header of censored.go, marks, options and errors.
+
+import (
+	"encoding/json"
+	"math"
+	"os"
+	"strings"
+	"testing"
+
+	"trendsql/sqlfuncs/stats"
+	"trendsql/sqlfuncs/timefmt"
+)
+
+type censRefFile struct {
+	MKCases []struct {
+		Name string    `json:"name"`
+		T    []float64 `json:"t"`
+		Y    []float64 `json:"y"`
+		C    []int     `json:"c"`
+	} `json:"mk_cases"`
+	SeasonalCases []struct {
+		Name string      `json:"name"`
+		X    [][]float64 `json:"x"`
+		CX   [][]int     `json:"cx"`
+	} `json:"seasonal_cases"`
+	Seasonal []struct {
+		PIndep float64 `json:"p_indep"`
+	} `json:"seasonal"`
+	Sen []struct {
+		Name  string    `json:"name"`
+		T     []float64 `json:"t"`
+		Y     []float64 `json:"y"`
+		Slope float64   `json:"slope_per_year"`
+	} `json:"sen"`
+}
+
+type censRFile struct {
+	MK []struct {
+		Name string   `json:"name"`
+		Z    *float64 `json:"z"`
+		P    *float64 `json:"p"`
+		Tau  *float64 `json:"tau"`
+	} `json:"mk"`
+}
+
+func markText(c int) any {
+	switch c {
+	case -1:
+		return "<"
+	case 1:
+		return ">"
+	}
+	return nil
+}
+
+func TestCensoredSQLReference(t *testing.T) {
+	var py censRefFile
+	var r censRFile
+	for name, dst := range map[string]any{"censored_ref.json": &py, "censored_ref_r.json": &r} {
+		b, err := os.ReadFile(kRefPath(name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := json.Unmarshal(b, dst); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if len(py.MKCases) < 9 || len(r.MK) != len(py.MKCases) || len(py.SeasonalCases) < 3 {
+		t.Fatalf("reference files look truncated")
+	}
+	db := openKendallStore(t)
+	for i, c := range py.MKCases {
+		marks := make([]any, len(c.C))
+		for k, m := range c.C {
+			marks[k] = markText(m)
+		}
+		insertK(t, db, c.Name, c.T, marks, anys(c.Y))
+		m := jsonMap(t, queryVal(t, db, `SELECT censored_mann_kendall(t, y, x) FROM kobs WHERE g = ?`, c.Name))
+		// R 4.2.2 cor.test(t, y_sub, method = "kendall", exact = FALSE, continuity = TRUE)
+		rr := r.MK[i]
+		if rr.Name != c.Name || math.Abs(num(t, m, "z")-*rr.Z) > 1e-9*math.Max(1, math.Abs(*rr.Z)) || !kClose(num(t, m, "p"), *rr.P, 1e-9) || !kClose(num(t, m, "tau"), *rr.Tau, 1e-9) {
+			t.Errorf("%s: %v; R z %v p %v tau %v", c.Name, m, *rr.Z, *rr.P, *rr.Tau)
+		}
+	}
+	for i, c := range py.SeasonalCases {
+		var tt, yy []float64
+		var marks []any
+		m := len(c.X[0])
+		for yr, row := range c.X {
+			for g, v := range row {
+				tt = append(tt, 40*timefmt.SecondsPerYear+float64(yr)*timefmt.SecondsPerYear+(float64(g)+0.5)*timefmt.SecondsPerYear/float64(m))
+				yy = append(yy, v)
+				marks = append(marks, markText(c.CX[yr][g]))
+			}
+		}
+		insertK(t, db, c.Name, tt, marks, anys(yy))
+		res := jsonMap(t, queryVal(t, db, `SELECT censored_seasonal_kendall(t, y, x, '1y', ?) FROM kobs WHERE g = ?`, m, c.Name))
+		// scipy 1.10.1 scipy.stats.mstats.kendalltau_seasonal "global p-value (indep)"
+		if !kClose(num(t, res, "p"), py.Seasonal[i].PIndep, 1e-9) {
+			t.Errorf("%s: p %v, scipy %v", c.Name, res["p"], py.Seasonal[i].PIndep)
+		}
+	}
+	for _, c := range py.Sen {
+		insertK(t, db, c.Name, c.T, nil, anys(c.Y))
+		res := jsonMap(t, queryVal(t, db, `SELECT censored_sen_slope(t, y, x) FROM kobs WHERE g = ?`, c.Name))
+		// scipy 1.10.1 scipy.stats.theilslopes(y, t / 31557600)
+		if !kClose(num(t, res, "slope_per_year"), c.Slope, 1e-9) || res["censored"].(float64) != 0 {
+			t.Errorf("%s: %v, scipy slope %v", c.Name, res, c.Slope)
+		}
+	}
+}
+
+// TestCensoredSQLDocExample checks the example in the header of censored.go
+// (derived by hand there).
+func TestCensoredSQLDocExample(t *testing.T) {
+	db := openKendallStore(t)
+	day := 86400.0
+	insertK(t, db, "doc", []float64{day, 2 * day, 3 * day, 4 * day, 5 * day},
+		[]any{"<", nil, "<", "", int64(0)}, anys([]float64{1, 2, 1, 3, 4}))
+	want := `{"n":5,"censored":2,"censored_share":0.4,"limits":1,"highest_limit":1,"recensored_at":null,"s":7,"var_s":15.666666666666666,"z":1.5158734579197342,"p":0.1295513529044089,"tau":0.7378647873726218,"concordant":8,"discordant":1,"ambiguous_pairs":1,"tied_pairs":0}`
+	if got := queryVal(t, db, `SELECT censored_mann_kendall(t, y, x) FROM kobs WHERE g = 'doc'`); got != want {
+		t.Errorf("doc example:\n got %v\nwant %s", got, want)
+	}
+	// z = (7 − 1)/√(47/3), tau = 7/√90, p = erfc(|z|/√2).
+	if z := 6 / math.Sqrt(47.0/3); math.Abs(z-1.5158734579197342) > 1e-15 || math.Abs(7/math.Sqrt(90)-0.7378647873726218) > 1e-15 || math.Abs(math.Erfc(z/math.Sqrt2)-0.1295513529044089) > 1e-15 {
+		t.Error("hand-derived numbers in the doc example are inconsistent")
+	}
+}
+
+func TestCensoredSQLMarksOptionsErrors(t *testing.T) {
+	db := openKendallStore(t)
+	day := 86400.0
+	tt := []float64{day, 2 * day, 3 * day, 4 * day, 5 * day, 6 * day}
+	insertK(t, db, "multi", tt, []any{"<", nil, " < ", ">", int64(-1), int64(1)}, anys([]float64{5, 3, 1, 6, 2, 8}))
+	m := jsonMap(t, queryVal(t, db, `SELECT censored_mann_kendall(t, y, x) FROM kobs WHERE g = 'multi'`))
+	want, err := stats.CensoredMannKendall([]float64{5, 3, 1, 6, 2, 8}, []stats.Censoring{-1, 0, -1, 1, -1, 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if num(t, m, "s") != float64(want.S) || num(t, m, "var_s") != want.VarS || num(t, m, "limits") != 3 || num(t, m, "highest_limit") != 5 || num(t, m, "censored") != 5 {
+		t.Errorf("multi: %v, want S %d var %v", m, want.S, want.VarS)
+	}
+	// recensor=highest: everything below 5 becomes "<5" (3 and "<1", "<2").
+	m = jsonMap(t, queryVal(t, db, `SELECT censored_mann_kendall(t, y, x, 'recensor=highest') FROM kobs WHERE g = 'multi'`))
+	rw, _ := stats.CensoredMannKendall([]float64{5, 5, 5, 6, 5, 8}, []stats.Censoring{-1, -1, -1, 1, -1, 1})
+	if num(t, m, "recensored_at") != 5 || num(t, m, "s") != float64(rw.S) || num(t, m, "var_s") != rw.VarS {
+		t.Errorf("recensor: %v, want S %d var %v", m, rw.S, rw.VarS)
+	}
+	// Every value censored: no ordered pair, no slope.
+	insertK(t, db, "allcens", tt[:4], []any{"<", "<", "<", "<"}, anys([]float64{1, 2, 1, 5}))
+	m = jsonMap(t, queryVal(t, db, `SELECT censored_mann_kendall(t, y, x) FROM kobs WHERE g = 'allcens'`))
+	if m["p"] != nil || m["tau"] != nil || num(t, m, "s") != 0 || num(t, m, "ambiguous_pairs") != 6 {
+		t.Errorf("all censored: %v", m)
+	}
+	m = jsonMap(t, queryVal(t, db, `SELECT censored_sen_slope(t, y, x) FROM kobs WHERE g = 'allcens'`))
+	if m["slope_per_year"] != nil || num(t, m, "censored_share") != 1 {
+		t.Errorf("all censored slope: %v", m)
+	}
+	// Fewer than 2 rows → NULL.
+	if v := queryVal(t, db, `SELECT censored_mann_kendall(t, y, x) FROM kobs WHERE g = 'allcens' AND t = ?`, day); v != nil {
+		t.Errorf("one row: %v", v)
+	}
+	// Window: a running test over the rows so far, the last equals the aggregate.
+	var last string
+	rows, err := db.Query(`SELECT censored_mann_kendall(t, y, x) OVER (ORDER BY t) FROM kobs WHERE g = 'multi'`)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for rows.Next() {
+		var v *string
+		if err := rows.Scan(&v); err != nil {
+			t.Fatal(err)
+		}
+		if v != nil {
+			last = *v
+		}
+	}
+	rows.Close()
+	if agg := queryVal(t, db, `SELECT censored_mann_kendall(t, y, x) FROM kobs WHERE g = 'multi'`); last != agg {
+		t.Errorf("window last %s, aggregate %v", last, agg)
+	}
+	insertK(t, db, "dup", []float64{day, day}, nil, anys([]float64{1, 2}))
+	for q, wantErr := range map[string]string{
+		`SELECT censored_mann_kendall(t, y, 'x') FROM kobs WHERE g = 'multi'`:                 `censored_mann_kendall: argument mark: "x" is not a censoring mark`,
+		`SELECT censored_mann_kendall(t, y, 2) FROM kobs WHERE g = 'multi'`:                   `argument mark: 2 is not a censoring mark`,
+		`SELECT censored_mann_kendall(t, y) FROM kobs WHERE g = 'multi'`:                      `wrong number of arguments`,
+		`SELECT censored_mann_kendall(t, y, x, 'recensor=lowest') FROM kobs WHERE g = 'multi'`: `option recensor="lowest"`,
+		`SELECT censored_mann_kendall(t, y, x) FROM kobs WHERE g = 'dup'`:                      `two rows have the same time 1970-01-02T00:00:00Z`,
+		`SELECT censored_seasonal_kendall(t, y, x, 'soon') FROM kobs WHERE g = 'multi'`:        `censored_seasonal_kendall: argument period`,
+		`SELECT censored_sen_slope(t, y, x, 1) FROM kobs WHERE g = 'multi'`:                   `censored_sen_slope: wrong number of arguments`,
+	} {
+		var v any
+		err := db.QueryRow(q).Scan(&v)
+		if err == nil || !strings.Contains(err.Error(), wantErr) {
+			t.Errorf("%s: error %v, want %q", q, err, wantErr)
+		}
+	}
+}
