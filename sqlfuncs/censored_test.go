@@ -188,13 +188,13 @@ func TestCensoredSQLMarksOptionsErrors(t *testing.T) {
 	}
 	insertK(t, db, "dup", []float64{day, day}, nil, anys([]float64{1, 2}))
 	for q, wantErr := range map[string]string{
-		`SELECT censored_mann_kendall(t, y, 'x') FROM kobs WHERE g = 'multi'`:                 `censored_mann_kendall: argument mark: "x" is not a censoring mark`,
-		`SELECT censored_mann_kendall(t, y, 2) FROM kobs WHERE g = 'multi'`:                   `argument mark: 2 is not a censoring mark`,
-		`SELECT censored_mann_kendall(t, y) FROM kobs WHERE g = 'multi'`:                      `wrong number of arguments`,
+		`SELECT censored_mann_kendall(t, y, 'x') FROM kobs WHERE g = 'multi'`:                  `censored_mann_kendall: argument mark: "x" is not a censoring mark`,
+		`SELECT censored_mann_kendall(t, y, 2) FROM kobs WHERE g = 'multi'`:                    `argument mark: 2 is not a censoring mark`,
+		`SELECT censored_mann_kendall(t, y) FROM kobs WHERE g = 'multi'`:                       `wrong number of arguments`,
 		`SELECT censored_mann_kendall(t, y, x, 'recensor=lowest') FROM kobs WHERE g = 'multi'`: `option recensor="lowest"`,
 		`SELECT censored_mann_kendall(t, y, x) FROM kobs WHERE g = 'dup'`:                      `two rows have the same time 1970-01-02T00:00:00Z`,
 		`SELECT censored_seasonal_kendall(t, y, x, 'soon') FROM kobs WHERE g = 'multi'`:        `censored_seasonal_kendall: argument period`,
-		`SELECT censored_sen_slope(t, y, x, 1) FROM kobs WHERE g = 'multi'`:                   `censored_sen_slope: wrong number of arguments`,
+		`SELECT censored_sen_slope(t, y, x, 1) FROM kobs WHERE g = 'multi'`:                    `censored_sen_slope: wrong number of arguments`,
 	} {
 		var v any
 		err := db.QueryRow(q).Scan(&v)
