@@ -25,6 +25,7 @@ import (
 
 	"trendsql/sqlfuncs/stats"
 	"trendsql/store"
+	"trendsql/store/storetest"
 )
 
 type acfRefCase struct {
@@ -84,7 +85,7 @@ func (c acfRefCase) unix(tb testing.TB) []int64 {
 // that accepts NULL values and text times, and checks integrity at cleanup.
 func openACFStore(tb testing.TB) *store.Store {
 	tb.Helper()
-	return openScratchStore(tb, "acf.db", `CREATE TABLE lagobs (g INTEGER, t ANY, y ANY) STRICT`)
+	return storetest.OpenScratch(tb, `CREATE TABLE lagobs (g INTEGER, t ANY, y ANY) STRICT`)
 }
 
 func insertLagObs(tb testing.TB, db *sql.DB, g int, t []any, y []any) {
@@ -112,30 +113,14 @@ func insertLagObs(tb testing.TB, db *sql.DB, g int, t []any, y []any) {
 // are simply absent) under station code st.
 func insertReadings(tb testing.TB, db *sql.DB, st string, t []int64, y []*float64) int64 {
 	tb.Helper()
-	if _, err := db.Exec(`INSERT INTO stations (id, name) VALUES (?, ?)`, st, st); err != nil {
-		tb.Fatal(err)
-	}
-	res, err := db.Exec(`INSERT INTO series (station_id, variable) VALUES (?, 'v')`, st)
-	if err != nil {
-		tb.Fatal(err)
-	}
-	sid, _ := res.LastInsertId()
-	tx, err := db.Begin()
-	if err != nil {
-		tb.Fatal(err)
-	}
+	var ts []int64
+	var ys []float64
 	for i := range t {
-		if y[i] == nil {
-			continue
-		}
-		if _, err := tx.Exec(`INSERT INTO readings (series_id, t, value) VALUES (?, ?, ?)`, sid, t[i], *y[i]); err != nil {
-			tb.Fatal(err)
+		if y[i] != nil {
+			ts, ys = append(ts, t[i]), append(ys, *y[i])
 		}
 	}
-	if err := tx.Commit(); err != nil {
-		tb.Fatal(err)
-	}
-	return sid
+	return storetest.InsertSeries(tb, db, st, "v", ts, ys)
 }
 
 type corrJSON struct {

@@ -2,7 +2,7 @@ package sqlfuncs_test
 
 // SQL-level benchmarks: the cost of each aggregate through the driver, per
 // input row, relative to SQLite's built-in avg() over the same rows in the
-// same process. They use the generator of `trendsql bench` (store/bench.go)
+// same process. They use the generator of `trendsql bench` (store/benchmark)
 // on a store in a temporary directory.
 //
 // Sizes (environment):
@@ -38,6 +38,7 @@ import (
 
 	"trendsql/sqlfuncs"
 	"trendsql/store"
+	"trendsql/store/benchmark"
 )
 
 func benchEnvInt(b *testing.B, key string, def int) int {
@@ -78,15 +79,15 @@ func benchStore(b *testing.B, series, per int) *store.Store {
 	}
 	ctx := context.Background()
 	csv := filepath.Join(benchStores.dir, key+".csv")
-	data := store.BenchData{Series: series, PerSeries: per, Seed: 1}
-	if _, err := store.WriteBenchCSV(csv, data); err != nil {
+	data := benchmark.Data{Series: series, PerSeries: per, Seed: 1}
+	if _, err := benchmark.WriteCSV(csv, data); err != nil {
 		b.Fatal(err)
 	}
 	s, err := store.Open(ctx, filepath.Join(benchStores.dir, key+".db"), store.Options{})
 	if err != nil {
 		b.Fatal(err)
 	}
-	if n, err := s.LoadBenchCSV(ctx, csv); err != nil || n != data.Rows() {
+	if n, err := benchmark.LoadCSV(ctx, s, csv); err != nil || n != data.Rows() {
 		b.Fatalf("load bench store: %d rows, %v", n, err)
 	}
 	os.Remove(csv)
@@ -136,7 +137,7 @@ func drain(b *testing.B, db *sql.DB, q string) {
 	}
 }
 
-func available(q store.BenchQuery) (string, bool) {
+func available(q benchmark.Query) (string, bool) {
 	have := map[string]sqlfuncs.Kind{}
 	for _, d := range sqlfuncs.List() {
 		have[d.Name] = d.Kind
@@ -172,7 +173,7 @@ func benchQuery(b *testing.B, s *store.Store, q string, rows int64) {
 	k := min(b.N, 10)
 	t1 := time.Now()
 	for i := 0; i < k; i++ {
-		drain(b, s.DB, store.BenchQueries[0].SQL)
+		drain(b, s.DB, benchmark.Queries[0].SQL)
 	}
 	base := time.Since(t1)
 	perRow := float64(el.Nanoseconds()) / float64(b.N) / float64(rows)
@@ -186,7 +187,7 @@ func benchQuery(b *testing.B, s *store.Store, q string, rows int64) {
 // BenchmarkSQLAggregates runs every statement of `trendsql bench` over all
 // series of the shared store.
 func BenchmarkSQLAggregates(b *testing.B) {
-	for _, q := range store.BenchQueries {
+	for _, q := range benchmark.Queries {
 		b.Run(strings.ReplaceAll(q.Name, " ", "_"), func(b *testing.B) {
 			if why, ok := available(q); !ok {
 				b.Skip(why)
@@ -213,7 +214,7 @@ func BenchmarkSQLSeriesLength(b *testing.B) {
 		if err != nil || n < 1 {
 			b.Fatalf("TRENDSQL_BENCH_N=%q: want comma-separated positive integers", spec)
 		}
-		for _, q := range store.BenchQueries[1:] {
+		for _, q := range benchmark.Queries[1:] {
 			b.Run(fmt.Sprintf("%s/n=%d", strings.ReplaceAll(q.Name, " ", "_"), n), func(b *testing.B) {
 				if why, ok := available(q); !ok {
 					b.Skip(why)

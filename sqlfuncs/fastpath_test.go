@@ -19,27 +19,20 @@ import (
 
 	"trendsql/sqlfuncs"
 	"trendsql/store"
+	"trendsql/store/benchmark"
+	"trendsql/store/storetest"
 )
 
 func fastpathStore(t *testing.T) *store.Store {
 	t.Helper()
 	ctx := context.Background()
 	dir := t.TempDir()
-	s, err := store.Open(ctx, filepath.Join(dir, "fp.db"), store.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() {
-		if err := s.IntegrityCheck(ctx); err != nil {
-			t.Error(err)
-		}
-		s.Close()
-	})
+	s := storetest.Open(t)
 	csv := filepath.Join(dir, "r.csv")
-	if _, err := store.WriteBenchCSV(csv, store.BenchData{Series: 3, PerSeries: 700, Seed: 7}); err != nil {
+	if _, err := benchmark.WriteCSV(csv, benchmark.Data{Series: 3, PerSeries: 700, Seed: 7}); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := s.LoadBenchCSV(ctx, csv); err != nil {
+	if _, err := benchmark.LoadCSV(ctx, s, csv); err != nil {
 		t.Fatal(err)
 	}
 	return s

@@ -24,11 +24,12 @@ import (
 	"time"
 
 	"trendsql/sqlfuncs/internal/kendallref"
+	"trendsql/store/storetest"
 )
 
 func openKendallStore(tb testing.TB) *sql.DB {
 	tb.Helper()
-	return openScratchStore(tb, "k.db", `CREATE TABLE kobs (g TEXT, t ANY, x ANY, y ANY) STRICT`).DB
+	return storetest.OpenScratch(tb, `CREATE TABLE kobs (g TEXT, t ANY, x ANY, y ANY) STRICT`).DB
 }
 
 // insertK inserts one group in a shuffled order (functions must sort).

@@ -5,6 +5,7 @@ import (
 	"testing"
 
 	"trendsql/sqlfuncs"
+	"trendsql/store/storetest"
 )
 
 // The internal series reader returns the rows sorted by t with NULL values
@@ -58,7 +59,7 @@ func TestPackSeries(t *testing.T) {
 // under its text), as a plain aggregate and over a sliding window frame
 // (which exercises row removal); a group without qualifiers gives NULL.
 func TestQualifierCounts(t *testing.T) {
-	s := openScratchStore(t, "q.db", `CREATE TABLE q (g INTEGER, i INTEGER, qual)`)
+	s := storetest.OpenScratch(t, `CREATE TABLE q (g INTEGER, i INTEGER, qual)`)
 	quals := []any{nil, "E", "", "P", "E", nil, "E", 7, "P", "E", nil, ""}
 	for i, q := range quals {
 		if _, err := s.DB.Exec(`INSERT INTO q VALUES (1, ?, ?)`, i, q); err != nil {

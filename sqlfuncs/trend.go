@@ -167,6 +167,10 @@ func parseTrendSpec(fn, spec string) (stats.TrendSpec, error) {
 	return s, nil
 }
 
+// TrendModelJSON renders a fitted model exactly as trend_fit returns it;
+// summary runs store it as trend_model.
+func TrendModelJSON(m *stats.TrendModel) string { return trendJSON(m) }
+
 // trendJSON renders a model with the documented key order.
 func trendJSON(m *stats.TrendModel) string {
 	var o jsonObj

@@ -18,11 +18,12 @@ import (
 
 	"trendsql/sqlfuncs/internal/trendref"
 	"trendsql/store"
+	"trendsql/store/storetest"
 )
 
 func openTrendStore(tb testing.TB) *store.Store {
 	tb.Helper()
-	return openScratchStore(tb, "t.db", `CREATE TABLE obs (g INTEGER, t ANY, y ANY) STRICT`)
+	return storetest.OpenScratch(tb, `CREATE TABLE obs (g INTEGER, t ANY, y ANY) STRICT`)
 }
 
 func insertObs(tb testing.TB, db *sql.DB, g int, t []any, y []any) {

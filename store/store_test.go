@@ -1,4 +1,4 @@
-package store
+package store_test
 
 import (
 	"context"
@@ -10,25 +10,9 @@ import (
 	"testing"
 
 	"trendsql/migrations"
+	"trendsql/store"
+	"trendsql/store/storetest"
 )
-
-// openTemp opens a new writable store in a temporary directory and checks its
-// integrity when the test ends.
-func openTemp(t *testing.T) *Store {
-	t.Helper()
-	path := filepath.Join(t.TempDir(), "test.db")
-	s, err := Open(context.Background(), path, Options{})
-	if err != nil {
-		t.Fatalf("Open(%s): %v", path, err)
-	}
-	t.Cleanup(func() {
-		if err := s.IntegrityCheck(context.Background()); err != nil {
-			t.Errorf("integrity check: %v", err)
-		}
-		s.Close()
-	})
-	return s
-}
 
 type migrationRow struct {
 	Version   int
@@ -36,7 +20,7 @@ type migrationRow struct {
 	AppliedAt string
 }
 
-func migrationRows(t *testing.T, s *Store) []migrationRow {
+func migrationRows(t *testing.T, s *store.Store) []migrationRow {
 	t.Helper()
 	rows, err := s.DB.Query(`SELECT version, name, applied_at FROM schema_migrations ORDER BY version`)
 	if err != nil {
@@ -58,7 +42,7 @@ func migrationRows(t *testing.T, s *Store) []migrationRow {
 }
 
 func TestMigrateFromEmpty(t *testing.T) {
-	s := openTemp(t)
+	s := storetest.Open(t)
 	ctx := context.Background()
 	all, err := migrations.All()
 	if err != nil {
@@ -103,7 +87,7 @@ func TestMigrateFromEmpty(t *testing.T) {
 func TestMigrateIsIdempotent(t *testing.T) {
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "idem.db")
-	s, err := Open(ctx, path, Options{})
+	s, err := store.Open(ctx, path, store.Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -123,7 +107,7 @@ func TestMigrateIsIdempotent(t *testing.T) {
 	}
 	s.Close()
 	// Reopening (which migrates again) changes nothing either.
-	s, err = Open(ctx, path, Options{})
+	s, err = store.Open(ctx, path, store.Options{})
 	if err != nil {
 		t.Fatalf("reopen: %v", err)
 	}
@@ -139,7 +123,7 @@ func TestMigrateIsIdempotent(t *testing.T) {
 func TestReadOnlyOpenRefusesWrites(t *testing.T) {
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "ro.db")
-	w, err := Open(ctx, path, Options{})
+	w, err := store.Open(ctx, path, store.Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -148,7 +132,7 @@ func TestReadOnlyOpenRefusesWrites(t *testing.T) {
 	}
 	w.Close()
 
-	r, err := Open(ctx, path, Options{ReadOnly: true})
+	r, err := store.Open(ctx, path, store.Options{ReadOnly: true})
 	if err != nil {
 		t.Fatalf("read-only open: %v", err)
 	}
@@ -183,13 +167,13 @@ func TestReadOnlyOpenRefusesWrites(t *testing.T) {
 
 func TestReadOnlyOpenOfMissingFile(t *testing.T) {
 	path := filepath.Join(t.TempDir(), "absent.db")
-	s, err := Open(context.Background(), path, Options{ReadOnly: true})
+	s, err := store.Open(context.Background(), path, store.Options{ReadOnly: true})
 	if err == nil {
 		s.Close()
 		t.Fatal("read-only open of a missing file succeeded")
 	}
-	if !errors.Is(err, ErrNoStore) || !strings.Contains(err.Error(), path) {
-		t.Errorf("error %q: want ErrNoStore naming %s", err, path)
+	if !errors.Is(err, store.ErrNoStore) || !strings.Contains(err.Error(), path) {
+		t.Errorf("error %q: want store.ErrNoStore naming %s", err, path)
 	}
 	if _, err := os.Stat(path); !errors.Is(err, os.ErrNotExist) {
 		t.Errorf("read-only open created %s", path)
@@ -197,22 +181,22 @@ func TestReadOnlyOpenOfMissingFile(t *testing.T) {
 }
 
 func TestIntegrityCheckOnFreshStore(t *testing.T) {
-	s := openTemp(t)
+	s := storetest.Open(t)
 	if err := s.IntegrityCheck(context.Background()); err != nil {
 		t.Fatal(err)
 	}
 }
 
 func TestResolvePath(t *testing.T) {
-	t.Setenv(EnvDB, "")
-	if got := ResolvePath(""); got != DefaultPath {
-		t.Errorf("ResolvePath with nothing set = %q, want %q", got, DefaultPath)
+	t.Setenv(store.EnvDB, "")
+	if got := store.ResolvePath(""); got != store.DefaultPath {
+		t.Errorf("store.ResolvePath with nothing set = %q, want %q", got, store.DefaultPath)
 	}
-	t.Setenv(EnvDB, "/tmp/env.db")
-	if got := ResolvePath(""); got != "/tmp/env.db" {
-		t.Errorf("ResolvePath with $%s = %q", EnvDB, got)
+	t.Setenv(store.EnvDB, "/tmp/env.db")
+	if got := store.ResolvePath(""); got != "/tmp/env.db" {
+		t.Errorf("store.ResolvePath with $%s = %q", store.EnvDB, got)
 	}
-	if got := ResolvePath("flag.db"); got != "flag.db" {
-		t.Errorf("ResolvePath with a flag = %q, want flag.db", got)
+	if got := store.ResolvePath("flag.db"); got != "flag.db" {
+		t.Errorf("store.ResolvePath with a flag = %q, want flag.db", got)
 	}
 }

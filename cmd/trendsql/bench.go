@@ -11,9 +11,8 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"trendsql/sqlfuncs"
 	"trendsql/sqlfuncs/stats"
-	"trendsql/store"
+	"trendsql/store/benchmark"
 )
 
 type benchOptions struct {
@@ -78,7 +77,7 @@ comparisons on a kept directory. --db is ignored.`,
 
 // benchAnalyzer is the per-series analyzer of the measured summarize run,
 // the one `trendsql summarize` uses; nil would report "not available".
-var benchAnalyzer func(t, y []float64, o stats.SummaryOptions) stats.SeriesSummary = sqlfuncs.SummarizeSeries
+var benchAnalyzer func(t, y []float64, o stats.SummaryOptions) stats.SeriesSummary = stats.SummarizeSeries
 
 func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
 	if o.format != FormatTable && o.format != FormatJSON {
@@ -95,8 +94,8 @@ func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
 		}
 		dir, tmp = d, true
 	}
-	opts := store.BenchOptions{
-		Data:        store.BenchData{Series: o.stations, PerSeries: o.readings, Seed: o.seed},
+	opts := benchmark.Options{
+		Data:        benchmark.Data{Series: o.stations, PerSeries: o.readings, Seed: o.seed},
 		Dir:         dir,
 		Reps:        o.reps,
 		ItemTimeout: o.timeout,
@@ -117,7 +116,7 @@ func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
 		}
 		defer pprof.StopCPUProfile()
 	}
-	rep, err := store.RunBench(cmd.Context(), opts)
+	rep, err := benchmark.Run(cmd.Context(), opts)
 	if !o.keep {
 		if tmp {
 			os.RemoveAll(dir)
@@ -150,14 +149,14 @@ func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
 	return nil
 }
 
-func writeBenchTable(w io.Writer, r *store.BenchReport, kept bool) {
+func writeBenchTable(w io.Writer, r *benchmark.Report, kept bool) {
 	m := r.Machine
 	fmt.Fprintf(w, "trendsql bench  %s\n", r.Started)
 	fmt.Fprintf(w, "machine   %s, %d CPUs, %s RAM, %s, %s\n", m.CPU, m.CPUs, m.MemTotal, m.GoVersion, m.OS)
 	fmt.Fprintf(w, "load avg  before %s, after %s\n", m.LoadBefore, m.LoadAfter)
 	fmt.Fprintf(w, "data      %d series × %d hourly readings = %d rows (seed %d); CSV %.1f MiB written in %.2f s; store %.1f MiB\n",
 		r.Series, r.PerSeries, r.Rows, r.Seed, mib(r.CSVBytes), r.GenerateSec, mib(r.StoreBytes))
-	fmt.Fprintf(w, "method    median of %d interleaved repetitions; × scan = median / median of %q\n", r.Reps, store.BenchScanName)
+	fmt.Fprintf(w, "method    median of %d interleaved repetitions; × scan = median / median of %q\n", r.Reps, benchmark.ScanName)
 	if kept {
 		fmt.Fprintf(w, "files     %s, %s\n", r.CSV, r.Store)
 	}

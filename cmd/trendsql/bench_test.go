@@ -8,7 +8,7 @@ import (
 	"strings"
 	"testing"
 
-	"trendsql/store"
+	"trendsql/store/benchmark"
 )
 
 // A tiny `trendsql bench` through the command: the table names every
@@ -37,7 +37,7 @@ func TestBenchCommandTableAndJSON(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var rep store.BenchReport
+	var rep benchmark.Report
 	if err := json.Unmarshal(b, &rep); err != nil {
 		t.Fatal(err)
 	}

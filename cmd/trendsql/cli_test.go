@@ -18,6 +18,8 @@ import (
 	"time"
 
 	"trendsql/store"
+	"trendsql/store/demodata"
+	"trendsql/store/storetest"
 )
 
 var (
@@ -116,14 +118,7 @@ func demoStore(t *testing.T) string {
 // checkIntegrity opens a store read-only and runs PRAGMA integrity_check.
 func checkIntegrity(t *testing.T, path string) {
 	t.Helper()
-	s, err := store.Open(context.Background(), path, store.Options{ReadOnly: true})
-	if err != nil {
-		t.Fatalf("open %s: %v", path, err)
-	}
-	defer s.Close()
-	if err := s.IntegrityCheck(context.Background()); err != nil {
-		t.Errorf("%s: %v", path, err)
-	}
+	storetest.OpenReadOnly(t, path)
 }
 
 func TestDemoBuildsStoreAndPrintsTour(t *testing.T) {
@@ -132,7 +127,7 @@ func TestDemoBuildsStoreAndPrintsTour(t *testing.T) {
 	if !strings.Contains(demoStderr, "40 stations") {
 		t.Errorf("demo summary does not report 40 stations:\n%s", demoStderr)
 	}
-	steps := store.TourFor(haveFunction())
+	steps := demodata.TourFor(haveFunction())
 	if len(steps) < 5 {
 		t.Errorf("tour has %d steps, want at least 5", len(steps))
 	}
@@ -156,7 +151,7 @@ func TestDemoBuildsStoreAndPrintsTour(t *testing.T) {
 		t.Errorf("tour printed %d result tables for %d steps", n, len(steps))
 	}
 	lines := strings.Split(strings.TrimSpace(demoStdout), "\n")
-	if last := lines[len(lines)-1]; last != store.TourCaution {
+	if last := lines[len(lines)-1]; last != demodata.TourCaution {
 		t.Errorf("tour ends with %q, want the caution sentence", last)
 	}
 	// The store holds roughly a million readings, as the scenario promises.

@@ -12,6 +12,7 @@ import (
 
 	"trendsql/sqlfuncs"
 	"trendsql/store"
+	"trendsql/store/demodata"
 )
 
 func newDemoCmd(e *env) *cobra.Command {
@@ -39,7 +40,7 @@ store is never replaced.`,
 			path := e.dbPath()
 			fmt.Fprintf(e.errw, "building the demo store %s ...\n", path)
 			began := time.Now()
-			sum, err := store.CreateDemo(cmd.Context(), path, store.DemoOptions{Seed: seed}, force)
+			sum, err := demodata.Create(cmd.Context(), path, demodata.Options{Seed: seed}, force)
 			if err != nil {
 				return err
 			}
@@ -61,7 +62,7 @@ store is never replaced.`,
 	}
 	c.Flags().BoolVar(&force, "force", false, "replace an existing store that already holds data")
 	c.Flags().BoolVar(&noTour, "no-tour", false, "build the store only; print no tour")
-	c.Flags().Uint64Var(&seed, "seed", store.DemoSeed, "seed of the invented scenario")
+	c.Flags().Uint64Var(&seed, "seed", demodata.Seed, "seed of the invented scenario")
 	return c
 }
 
@@ -91,7 +92,7 @@ func haveFunction() func(string) bool {
 
 // runTour prints every tour step: its explanation, its SQL and its result.
 func runTour(ctx context.Context, s *store.Store, out io.Writer) error {
-	steps := store.TourFor(haveFunction())
+	steps := demodata.TourFor(haveFunction())
 	var failed []error
 	for i, st := range steps {
 		fmt.Fprintf(out, "── %d. %s\n\n", i+1, st.Explain)
@@ -107,6 +108,6 @@ func runTour(ctx context.Context, s *store.Store, out io.Writer) error {
 	}
 	fmt.Fprintln(out, "Try your own: trendsql query \"SELECT ...\"  or  trendsql shell   (trendsql functions lists the SQL functions)")
 	fmt.Fprintln(out)
-	fmt.Fprintln(out, store.TourCaution)
+	fmt.Fprintln(out, demodata.TourCaution)
 	return errors.Join(failed...)
 }

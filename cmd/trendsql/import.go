@@ -14,6 +14,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"trendsql/store"
+	"trendsql/store/csvimport"
 )
 
 func init() { extraCommands = append(extraCommands, newImportCmd) }
@@ -82,8 +83,8 @@ FILE "-" reads standard input; the batch records its source as "stdin".`,
 			if err != nil {
 				return err
 			}
-			return runImport(cmd, e, args[0], func(s *store.Store, progress func(store.Progress)) (string, error) {
-				res, err := s.ImportStations(cmd.Context(), args[0], store.StationsOptions{
+			return runImport(cmd, e, args[0], func(s *store.Store, progress func(csvimport.Progress)) (string, error) {
+				res, err := csvimport.ImportStations(cmd.Context(), s, args[0], csvimport.StationsOptions{
 					Delimiter: delim, DecimalComma: f.decimalComma, Progress: progress, Stdin: e.in})
 				if err != nil {
 					return "", err
@@ -130,11 +131,11 @@ FILE "-" reads standard input; the batch records its source as "stdin".`,
 			if err != nil {
 				return err
 			}
-			return runImport(cmd, e, args[0], func(s *store.Store, progress func(store.Progress)) (string, error) {
+			return runImport(cmd, e, args[0], func(s *store.Store, progress func(csvimport.Progress)) (string, error) {
 				opt.Progress = progress
 				opt.Stdin = e.in
-				res, err := s.ImportReadings(cmd.Context(), args[0], opt)
-				if errors.Is(err, store.ErrDuplicate) {
+				res, err := csvimport.ImportReadings(cmd.Context(), s, args[0], opt)
+				if errors.Is(err, csvimport.ErrDuplicate) {
 					return "", fmt.Errorf("%w (--on-duplicate keep-first keeps the earlier reading, replace overwrites it)", err)
 				}
 				if err != nil {
@@ -154,7 +155,7 @@ FILE "-" reads standard input; the batch records its source as "stdin".`,
 	fl.StringVar(&f.variableCol, "variable-col", "", `column with the variable name (default "variable" if present and --variable is not given)`)
 	fl.StringVar(&f.unit, "unit", "", "unit of the readings, e.g. m or mg/L")
 	fl.StringVar(&f.tz, "tz", "UTC", "IANA time zone of zone-less times, e.g. Europe/Berlin")
-	fl.StringVar(&f.onDuplicate, "on-duplicate", string(store.DupError), "what a repeated (station, variable, time) does: error, keep-first or replace")
+	fl.StringVar(&f.onDuplicate, "on-duplicate", string(csvimport.DupError), "what a repeated (station, variable, time) does: error, keep-first or replace")
 	return c
 }
 
@@ -164,13 +165,13 @@ func addImportCSVFlags(c *cobra.Command, f *importFlags) {
 }
 
 // readingsOptions checks the flags and turns them into store options.
-func (f *importFlags) readingsOptions() (store.ReadingsOptions, error) {
-	var opt store.ReadingsOptions
+func (f *importFlags) readingsOptions() (csvimport.ReadingsOptions, error) {
+	var opt csvimport.ReadingsOptions
 	delim, err := importDelimiter(f.delimiter)
 	if err != nil {
 		return opt, err
 	}
-	dup, err := store.ParseOnDuplicate(f.onDuplicate)
+	dup, err := csvimport.ParseOnDuplicate(f.onDuplicate)
 	if err != nil {
 		return opt, usageErr("import readings: --%s", err)
 	}
@@ -180,7 +181,7 @@ func (f *importFlags) readingsOptions() (store.ReadingsOptions, error) {
 	if _, err := time.LoadLocation(f.tz); err != nil || f.tz == "" || strings.EqualFold(f.tz, "local") {
 		return opt, usageErr("import readings: --tz %q is not an IANA time zone name (such as UTC, Europe/Berlin, America/New_York)", f.tz)
 	}
-	return store.ReadingsOptions{
+	return csvimport.ReadingsOptions{
 		StationCol: f.stationCol, TimeCol: f.timeCol, ValueCol: f.valueCol, QualifierCol: f.qualifierCol,
 		Variable: f.variable, VariableCol: f.variableCol, Unit: f.unit, TZ: f.tz,
 		DecimalComma: f.decimalComma, Delimiter: delim, OnDuplicate: dup,
@@ -202,7 +203,7 @@ func importDelimiter(s string) (byte, error) {
 // checkImportFile fails early, before a store is created, when the file
 // cannot be read.
 func checkImportFile(path string) error {
-	if path == store.StdinPath {
+	if path == csvimport.StdinPath {
 		return nil
 	}
 	st, err := os.Stat(path)
@@ -232,7 +233,7 @@ func newImportBar(w io.Writer, path string) *importBar {
 	return &importBar{w: w, tty: isTerminalWriter(w), name: filepath.Base(path), start: time.Now()}
 }
 
-func (b *importBar) update(p store.Progress) {
+func (b *importBar) update(p csvimport.Progress) {
 	if !b.tty || p.TotalBytes <= 0 {
 		return
 	}
@@ -269,7 +270,7 @@ func importCount(n int64, one, many string) string {
 	return fmt.Sprintf("%d %s", n, many)
 }
 
-func importRejectNote(r *store.ImportResult) string {
+func importRejectNote(r *csvimport.ImportResult) string {
 	if r.RowsRejected == 0 {
 		return "0 rejected"
 	}
@@ -277,7 +278,7 @@ func importRejectNote(r *store.ImportResult) string {
 }
 
 // readingsSummary is the one-line account of a readings import.
-func importReadingsSummary(r *store.ImportResult) string {
+func importReadingsSummary(r *csvimport.ImportResult) string {
 	s := fmt.Sprintf("%s → batch %d: %s read, %d stored, %s, %s",
 		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, importRejectNote(r), importCount(r.RowsDuplicate, "duplicate", "duplicates"))
 	if r.RowsReplaced > 0 {
@@ -297,14 +298,14 @@ func importReadingsSummary(r *store.ImportResult) string {
 }
 
 // stationsSummary is the one-line account of a stations import.
-func importStationsSummary(r *store.ImportResult) string {
+func importStationsSummary(r *csvimport.ImportResult) string {
 	return fmt.Sprintf("%s → batch %d: %s read, %d new, %d already stored (%d of them updated), %s",
 		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, r.RowsDuplicate, r.RowsReplaced, importRejectNote(r))
 }
 
 // runImport checks the file, opens the store writable, runs one import with
 // a progress bar on a terminal, and prints its one-line summary.
-func runImport(cmd *cobra.Command, e *env, path string, load func(*store.Store, func(store.Progress)) (string, error)) error {
+func runImport(cmd *cobra.Command, e *env, path string, load func(*store.Store, func(csvimport.Progress)) (string, error)) error {
 	if err := checkImportFile(path); err != nil {
 		return err
 	}

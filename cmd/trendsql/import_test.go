@@ -1,12 +1,11 @@
 package main
 
 // In-process tests of the import command's flags, exit codes and messages
-// (the store-level behaviour is tested in store/importer_test.go; fixtures
+// (the store-level behaviour is tested in store/csvimport/importer_test.go; fixtures
 // are the invented files under testdata/import).
 
 import (
 	"bytes"
-	"context"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -14,6 +13,7 @@ import (
 	"testing"
 
 	"trendsql/store"
+	"trendsql/store/storetest"
 )
 
 func importFixture(name string) string {
@@ -29,15 +29,7 @@ func importRunMain(t *testing.T, args ...string) (stdout, stderr string, code in
 
 func importStoreCheck(t *testing.T, db string) *store.Store {
 	t.Helper()
-	s, err := store.Open(context.Background(), db, store.Options{ReadOnly: true})
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { s.Close() })
-	if err := s.IntegrityCheck(context.Background()); err != nil {
-		t.Fatal(err)
-	}
-	return s
+	return storetest.OpenReadOnly(t, db)
 }
 
 func TestImportCmdStationsAndReadings(t *testing.T) {

@@ -10,10 +10,9 @@ import (
 	"github.com/spf13/cobra"
 	"golang.org/x/term"
 
-	"trendsql/sqlfuncs"
 	"trendsql/sqlfuncs/stats"
 	"trendsql/sqlfuncs/timefmt"
-	"trendsql/store"
+	"trendsql/store/summaries"
 )
 
 type summarizeOptions struct {
@@ -72,7 +71,7 @@ the store and --wait was not given.`,
 	fl.IntVar(&o.minN, "min-n", 10, "fewest readings for a summary; fewer sets insufficient_data")
 	fl.BoolVar(&o.changedOnly, "changed-only", false, "skip series with no readings imported since their last successful summary with the same parameters")
 	fl.BoolVar(&o.wait, "wait", false, "wait for another running summarize instead of exiting with code 3")
-	fl.DurationVar(&o.writeWait, "write-wait", store.DefaultWriteWait, "how long the final write keeps retrying while another writer (e.g. an import) holds the store")
+	fl.DurationVar(&o.writeWait, "write-wait", summaries.DefaultWriteWait, "how long the final write keeps retrying while another writer (e.g. an import) holds the store")
 	fl.IntVar(&o.workers, "workers", 0, "parallel workers (0 = all cores)")
 	fl.BoolVar(&o.quiet, "quiet", false, "no progress bar even on a terminal")
 	return c
@@ -110,10 +109,10 @@ func runSummarize(cmd *cobra.Command, e *env, o summarizeOptions) error {
 	if o.writeWait <= 0 {
 		return usageErr("summarize: --write-wait must be a positive duration, e.g. 30s or 15m, got %s", o.writeWait)
 	}
-	opts := store.SummarizeOptions{
+	opts := summaries.Options{
 		Stations: o.stations, Variables: o.variables, Where: o.where,
 		Model: model, ChangedOnly: o.changedOnly, Wait: o.wait, WriteWait: o.writeWait, Workers: o.workers,
-		ToolVersion: versionString(), Analyze: sqlfuncs.SummarizeSeries,
+		ToolVersion: versionString(), Analyze: stats.SummarizeSeries,
 	}
 	for _, tv := range []struct {
 		flag string
@@ -146,14 +145,14 @@ func runSummarize(cmd *cobra.Command, e *env, o summarizeOptions) error {
 			bar.Set(done)
 		}
 	}
-	res, err := s.Summarize(cmd.Context(), opts)
+	res, err := summaries.Run(cmd.Context(), s, opts)
 	if bar != nil {
 		bar.Finish()
 	}
 	switch {
-	case errors.Is(err, store.ErrBusy):
+	case errors.Is(err, summaries.ErrBusy):
 		return &exitError{code: ExitNothing, err: err}
-	case errors.Is(err, store.ErrNothingToDo):
+	case errors.Is(err, summaries.ErrNothingToDo):
 		// One line (cron logs): the reason and exit code 3.
 		if res.Selected == 0 {
 			return &exitError{code: ExitNothing, err: errors.New("summarize: nothing to do: no series match the selection")}

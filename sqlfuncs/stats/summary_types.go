@@ -39,17 +39,17 @@ type SeriesSummary struct {
 	QualifierCount map[string]int
 	Mean           *float64
 
-	TrendModelJSON string
-	SlopePerYear   *float64
-	SlopeSE        *float64
-	SlopeP         *float64
-	HACSlopeSE     *float64
-	HACLags        *int
-	HACP           *float64
-	NEff           *float64
-	NEffP          *float64
-	R2             *float64
-	PctPerDecade   *float64
+	TrendModel   *TrendModel // the fitted trend model; nil when the fit failed
+	SlopePerYear *float64
+	SlopeSE      *float64
+	SlopeP       *float64
+	HACSlopeSE   *float64
+	HACLags      *int
+	HACP         *float64
+	NEff         *float64
+	NEffP        *float64
+	R2           *float64
+	PctPerDecade *float64
 
 	MKMethod           string
 	MKS, MKVarS        *float64

@@ -1,0 +1,90 @@
+package csvimport
+
+import (
+	"fmt"
+	"io"
+)
+
+// OnDuplicate says what a readings import does with a (series, time) that is
+// already stored or appeared earlier in the same file.
+type OnDuplicate string
+
+const (
+	DupError     OnDuplicate = "error"      // fail the whole import, change nothing
+	DupKeepFirst OnDuplicate = "keep-first" // keep the earlier reading, count the row as duplicate
+	DupReplace   OnDuplicate = "replace"    // overwrite a differing reading; count duplicate (and replaced if it differed)
+)
+
+// ParseOnDuplicate checks an OnDuplicate name; "" means DupError.
+func ParseOnDuplicate(s string) (OnDuplicate, error) {
+	switch OnDuplicate(s) {
+	case "", DupError:
+		return DupError, nil
+	case DupKeepFirst, DupReplace:
+		return OnDuplicate(s), nil
+	}
+	return "", fmt.Errorf("on-duplicate must be error, keep-first or replace, got %q", s)
+}
+
+// Progress is reported while a file is read.
+type Progress struct {
+	Rows       int64 // data records read so far
+	Bytes      int64 // bytes of the file read so far
+	TotalBytes int64 // size of the file, or -1 if unknown
+}
+
+// ReadingsOptions controls ImportReadings.
+type ReadingsOptions struct {
+	StationCol   string // default "station"
+	TimeCol      string // default "time"
+	ValueCol     string // default "value"
+	QualifierCol string // default: "qualifier" if the header has it, else none
+	VariableCol  string // column holding the variable name; excludes Variable
+	Variable     string // fixed variable name for every row; excludes VariableCol
+	Unit         string // unit of the series; "" leaves it unstated
+	TZ           string // IANA zone for zone-less times; "" means UTC
+	DecimalComma bool   // values use a comma as decimal separator
+	Delimiter    byte   // field separator; 0 means ','
+	OnDuplicate  OnDuplicate
+	// Progress, if set, is called now and then while the file is read, and
+	// once at its end, from the importing goroutine.
+	Progress func(Progress)
+	// Stdin is read when the path is StdinPath (nil: os.Stdin).
+	Stdin io.Reader
+}
+
+// StationsOptions controls ImportStations.
+type StationsOptions struct {
+	DecimalComma bool // latitude, longitude and elevation use a decimal comma
+	Delimiter    byte // field separator; 0 means ','
+	Progress     func(Progress)
+	Stdin        io.Reader // read when the path is StdinPath (nil: os.Stdin)
+}
+
+// StdinPath as an import path reads standard input (or the options' Stdin)
+// instead of a file. The batch records its source as StdinName; the file is
+// read once, as any other, so nothing is stored unless all of it was read.
+const (
+	StdinPath = "-"
+	StdinName = "stdin"
+)
+
+// ImportResult is the accounting of one import batch.
+type ImportResult struct {
+	BatchID       int64
+	Kind          string // "stations" or "readings"
+	File          string // the path as given
+	Source        string // the absolute path recorded in import_batches
+	SHA256        string
+	RowsRead      int64
+	RowsStored    int64
+	RowsRejected  int64
+	RowsDuplicate int64
+	RowsReplaced  int64
+	// Readings only.
+	StationsCreated int64 // stations created with their id only
+	SeriesCreated   int64
+	SeriesWritten   int64 // series with rows in series_batches for this batch
+}
+
+// InputError is a problem with the input file that stops the import; the

@@ -1,0 +1,82 @@
+package csvimport
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+)
+
+// parseValue parses a reading value. It returns a reject reason when the
+// text is not a finite decimal number.
+func parseValue(raw string, decimalComma bool) (float64, string) {
+	s := strings.TrimSpace(raw)
+	if s == "" {
+		return 0, "empty value"
+	}
+	switch strings.ToLower(s) {
+	case "na", "n/a":
+		return 0, fmt.Sprintf("value %q is a missing-value marker", s)
+	case "nan", "+nan", "-nan":
+		return 0, fmt.Sprintf("value %q is not a number (NaN)", s)
+	case "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity":
+		return 0, fmt.Sprintf("value %q is infinite", s)
+	}
+	num := s
+	if decimalComma {
+		if strings.IndexByte(s, '.') >= 0 {
+			return 0, fmt.Sprintf("value %q has a point, but decimal comma is set (thousands separators are not accepted)", s)
+		}
+		num = strings.Replace(s, ",", ".", 1)
+	}
+	if !isDecimal(num) {
+		if !decimalComma && strings.Count(s, ",") == 1 && isDecimal(strings.Replace(s, ",", ".", 1)) {
+			return 0, fmt.Sprintf("value %q is not a number (a decimal comma? use the decimal comma option)", s)
+		}
+		return 0, fmt.Sprintf("value %q is not a number", s)
+	}
+	v, err := strconv.ParseFloat(num, 64)
+	if err != nil || math.IsInf(v, 0) {
+		return 0, fmt.Sprintf("value %q is out of range (would be infinite)", s)
+	}
+	return v, ""
+}
+
+// isDecimal accepts [+-]digits[.digits][(e|E)[+-]digits] with at least one
+// mantissa digit, and nothing else.
+func isDecimal(s string) bool {
+	i, n := 0, len(s)
+	if i < n && (s[i] == '+' || s[i] == '-') {
+		i++
+	}
+	digits := 0
+	for i < n && s[i] >= '0' && s[i] <= '9' {
+		i++
+		digits++
+	}
+	if i < n && s[i] == '.' {
+		i++
+		for i < n && s[i] >= '0' && s[i] <= '9' {
+			i++
+			digits++
+		}
+	}
+	if digits == 0 {
+		return false
+	}
+	if i < n && (s[i] == 'e' || s[i] == 'E') {
+		i++
+		if i < n && (s[i] == '+' || s[i] == '-') {
+			i++
+		}
+		ed := 0
+		for i < n && s[i] >= '0' && s[i] <= '9' {
+			i++
+			ed++
+		}
+		if ed == 0 {
+			return false
+		}
+	}
+	return i == n
+}
