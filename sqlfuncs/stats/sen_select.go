@@ -1,0 +1,269 @@
+package stats
+
+// Rank selection over the pairwise slopes for the Theil–Sen estimate (the
+// algorithm is described in sen.go): the working state, the cuts evaluated
+// so far and the rounds that narrow them around the target ranks.
+
+import (
+	"cmp"
+	"math"
+	"math/rand/v2"
+	"slices"
+	"sync"
+)
+
+// slopeRef names the pair (a, b), a < b, of points in one block.
+type slopeRef struct{ a, b int32 }
+
+// cut is a position on the slope axis: below it lie the pairs with slope
+// < v (incl false) or ≤ v (incl true); inf = −1 / +1 mean −∞ / +∞.
+type cut struct {
+	inf   int
+	v     slopeRef
+	incl  bool
+	count int64
+}
+
+type senData struct {
+	t, y   []float64
+	x      []float64 // t − t[0], for floating-point keys
+	blocks []int     // block b is points blocks[b]..blocks[b+1]-1
+	n      int
+	pairs  int64
+	rng    *rand.Rand
+
+	// tuning (fields so that tests can force many rounds)
+	limit  int64 // enumerate when at most this many pairs are left
+	mFirst int   // sample size when drawing from all pairs
+	mNext  int   // sample size when drawing between two cuts
+
+	// scratch
+	sorted    []float64 // a sorted copy of y (or t) for the medians and ties
+	key, mag  []float64
+	tmp, work []int32
+	items     []keyItem
+	perms     map[slopeRef][]int32 // order at (v, <) for evaluated cuts
+	permFree  [][]int32            // buffers of dropped orders, for reuse
+	perm      []int32
+	ivLo      []int32
+	ivHi      []int32
+	ivPos     []int32
+	enumTmp   []int32
+	fen       fenwick
+	cum       []int64
+	spacing   []float64
+	draws     []int64
+	sample    []slopeItem
+	enum      []slopeItem
+	pcg       rand.PCG
+	// evaluated cuts
+	cuts      []cut
+	tieBlocks []tieBlock
+}
+
+type tieBlock struct {
+	v           slopeRef
+	below, upto int64 // ranks below+1..upto have slope v
+}
+
+// senPool keeps the selection's scratch buffers between calls (a summary
+// run computes one Sen slope per series on each worker).
+var senPool = sync.Pool{New: func() any { return new(senData) }}
+
+// grow returns s resized to n elements, reusing its storage when it is
+// large enough (contents are not preserved).
+func grow[T any](s []T, n int) []T { return slices.Grow(s[:0], n)[:n] }
+
+func newSenData(t, y []float64, blocks []int) *senData {
+	n := len(t)
+	d := senPool.Get().(*senData)
+	d.t, d.y, d.blocks, d.n, d.pairs = t, y, blocks, n, 0
+	d.x = grow(d.x, n)
+	for i := range t {
+		d.x[i] = t[i] - t[0]
+	}
+	for b := 0; b+1 < len(blocks); b++ {
+		m := int64(blocks[b+1] - blocks[b])
+		d.pairs += m * (m - 1) / 2
+	}
+	d.pcg.Seed(uint64(n)*0x9e3779b97f4a7c15+1, 12345)
+	if d.rng == nil {
+		d.rng = rand.New(&d.pcg)
+	}
+	d.limit = int64(max(8*n, 8192))
+	d.mFirst = max(8*n, 4096)
+	d.mNext = max(4*n, 4096)
+	d.dropPerms()
+	d.cuts, d.tieBlocks = d.cuts[:0], d.tieBlocks[:0]
+	return d
+}
+
+// release returns d's buffers to the pool; d must not be used afterwards.
+func (d *senData) release() {
+	d.t, d.y, d.blocks = nil, nil, nil
+	d.dropPerms()
+	senPool.Put(d)
+}
+
+// dropPerms empties the order cache, keeping its buffers.
+func (d *senData) dropPerms() {
+	for k, p := range d.perms {
+		d.permFree = append(d.permFree, p)
+		delete(d.perms, k)
+	}
+}
+
+// slopeF is the floating-point estimate of a slope (relative error ≤ 3u).
+func (d *senData) slopeF(r slopeRef) float64 {
+	return (d.y[r.b] - d.y[r.a]) / (d.t[r.b] - d.t[r.a])
+}
+
+// cmpSlopes compares two slopes exactly.
+func (d *senData) cmpSlopes(p, q slopeRef, fp, fq float64) int {
+	thr := 8*epsU*(math.Abs(fp)+math.Abs(fq)) + 1e-300
+	if diff := fp - fq; diff > thr {
+		return 1
+	} else if diff < -thr {
+		return -1
+	}
+	// sign(N_p·D_q − N_q·D_p)
+	return signDiffProd(d.y[p.b], d.y[p.a], d.t[q.b], d.t[q.a], d.y[q.b], d.y[q.a], d.t[p.b], d.t[p.a])
+}
+
+// knownRank reports a pair of rank k when an evaluated cut has it.
+func (d *senData) knownRank(k int64) (slopeRef, bool) {
+	for _, tb := range d.tieBlocks {
+		if tb.below < k && k <= tb.upto {
+			return tb.v, true
+		}
+	}
+	return slopeRef{}, false
+}
+
+// bracket returns the tightest evaluated cuts lo, hi with
+// lo.count < k ≤ hi.count.
+func (d *senData) bracket(k int64) (lo, hi cut) {
+	lo = cut{inf: -1, count: 0}
+	hi = cut{inf: 1, count: d.pairs}
+	for _, c := range d.cuts {
+		if c.count < k && c.count > lo.count {
+			lo = c
+		}
+		if c.count >= k && c.count < hi.count {
+			hi = c
+		}
+	}
+	return
+}
+
+// tryCut evaluates the cut at the slope of v (once) and records it.
+func (d *senData) tryCut(v slopeRef, perm []int32) {
+	for _, tb := range d.tieBlocks {
+		if tb.v == v {
+			return
+		}
+	}
+	less, lessEq := d.evalCut(v, perm)
+	d.remember(v, perm)
+	d.tieBlocks = append(d.tieBlocks, tieBlock{v, less, lessEq})
+	d.cuts = append(d.cuts, cut{v: v, incl: false, count: less}, cut{v: v, incl: true, count: lessEq})
+}
+
+// selectRanks returns, for each k in ks (1 ≤ k ≤ pairs), a pair whose
+// slope is the k-th smallest. Cuts evaluated here are kept for later calls.
+func (d *senData) selectRanks(ks []int64) []slopeRef {
+	out := make([]slopeRef, len(ks))
+	pending := make([]int, len(ks))
+	for i := range pending {
+		pending[i] = i
+	}
+	slices.SortFunc(pending, func(a, b int) int { return cmp.Compare(ks[a], ks[b]) })
+	d.perm = grow(d.perm, d.n)
+	perm := d.perm
+	for len(pending) > 0 {
+		rest := pending[:0]
+		for _, i := range pending {
+			if v, ok := d.knownRank(ks[i]); ok {
+				out[i] = v
+			} else {
+				rest = append(rest, i)
+			}
+		}
+		pending = rest
+		if len(pending) == 0 {
+			break
+		}
+		// The targets sharing the first pending target's bracket.
+		lo, hi := d.bracket(ks[pending[0]])
+		var group, others []int
+		for _, i := range pending {
+			if l, h := d.bracket(ks[i]); l.count == lo.count && h.count == hi.count {
+				group = append(group, i)
+			} else {
+				others = append(others, i)
+			}
+		}
+		T := hi.count - lo.count
+		if T <= d.limit {
+			items := d.enumerateBetween(lo, hi, T)
+			for _, i := range group {
+				out[i] = d.exactSelect(items, int(ks[i]-lo.count-1))
+			}
+			pending = others
+			continue
+		}
+		var it []slopeItem
+		if lo.inf == -1 && hi.inf == 1 {
+			it = d.sampleAll(int(min(int64(d.mFirst), T)))
+		} else {
+			// enough draws that the windows (± 3√m of m) are expected to
+			// leave at most 3/4 of limit pairs: 6T/√m ≤ 3·limit/4
+			r := 8 * float64(T) / float64(d.limit)
+			m := int(min(float64(d.mNext), max(1024, r*r)))
+			it = d.sampleBetween(lo, hi, int(min(int64(m), T)))
+		}
+		m := len(it)
+		// Sample windows around each target (group is in rank order);
+		// overlapping windows share their cuts.
+		delta := 3*math.Sqrt(float64(m)) + 1
+		type span struct{ li, ui int }
+		var spans []span
+		for _, i := range group {
+			idx := float64(ks[i]-lo.count)/float64(T)*float64(m) - 0.5
+			li, ui := int(math.Floor(idx-delta)), int(math.Ceil(idx+delta))
+			if len(spans) > 0 && li <= spans[len(spans)-1].ui {
+				spans[len(spans)-1].ui = max(spans[len(spans)-1].ui, ui)
+			} else {
+				spans = append(spans, span{li, ui})
+			}
+		}
+		// The sample order statistics bounding each window (by
+		// floating-point slope; the chosen pairs are then evaluated
+		// exactly). A window covering the whole sample gets its median.
+		var at []int
+		for _, sp := range spans {
+			n0 := len(at)
+			if sp.li >= 0 && sp.li < m {
+				at = append(at, sp.li)
+			}
+			if sp.ui >= 0 && sp.ui < m {
+				at = append(at, sp.ui)
+			}
+			if len(at) == n0 {
+				at = append(at, m/2)
+			}
+		}
+		slices.Sort(at)
+		at = slices.Compact(at)
+		selectMany(it, at)
+		for _, j := range at {
+			d.tryCut(it[j].r, perm)
+		}
+	}
+	return out
+}
+
+// selectRank returns a pair whose slope is the k-th smallest.
+func (d *senData) selectRank(k int64) slopeRef {
+	return d.selectRanks([]int64{k})[0]
+}
