@@ -16,12 +16,16 @@ package stats
 // Netanyahu 1992, Int. J. Comput. Geom. Appl. 2:1–27): keep two cuts
 // lo < hi with #(slopes ≤ lo) < k ≤ #(slopes ≤ hi); the pairs between them
 // are exactly the inversions between the point orders at lo and at hi, so
-// m of them can be drawn uniformly at random with a Fenwick tree (from all
-// pairs, the first round draws pairs directly); the sample order statistics
-// around the target fraction (± 3√m) give new, narrower cuts. When at most
-// max(8n, 8192) pairs are left they are enumerated (O(n log n + K)) and the
-// target is found by selection on the floating-point slopes followed by an
-// exact sort of the few slopes too close to it to call.
+// m of them can be drawn uniformly at random by a merge sort that picks
+// sorted draws among the inversions it meets (from all pairs, the first
+// round draws pairs directly); the sample order statistics around the
+// target fraction (± 3√m) give new, narrower cuts. When at most
+// max(8n, 8192) pairs are left they are enumerated by an insertion sort
+// (O(n + K)) and the target is found by selection on the floating-point
+// slopes followed by an exact sort of the few slopes too close to it to
+// call. Each cut's order is sorted starting from the order of the nearest
+// cut evaluated before, so later cuts cost little more than a pass over
+// the points.
 //
 // Several ranks are selected together (the median's two middle ranks and
 // the interval's two ranks): one sampling round serves every target whose
@@ -40,6 +44,7 @@ package stats
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"slices"
 
@@ -88,7 +93,8 @@ type SenResult struct {
 // For small n the clamped ranks can reach 1 or N, and the interval then
 // covers less than the nominal confidence: LowerRank/UpperRank show it.
 // MedianT and MedianY are the medians of t and y (mean of the two middle
-// values for even n).
+// values for even n). Times must increase strictly (no ties in time); an
+// error names the first offending position otherwise.
 func SenSlope(t, y []float64, confidence float64) (SenResult, error) {
 	return senSlopeBlocks(t, y, []int{0, len(t)}, confidence, 0, true)
 }
@@ -106,6 +112,13 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64, medi
 	n := len(t)
 	if n != len(y) {
 		return SenResult{}, errors.New("t and y differ in length")
+	}
+	for b := 0; b+1 < len(blocks); b++ {
+		for i := blocks[b] + 1; i < blocks[b+1]; i++ {
+			if !(t[i] > t[i-1]) {
+				return SenResult{}, fmt.Errorf("the Sen slope needs increasing times: t[%d] = %v follows t[%d] = %v", i, t[i], i-1, t[i-1])
+			}
+		}
 	}
 	d := newSenData(t, y, blocks)
 	defer d.release()

@@ -36,13 +36,27 @@ func (d *senData) cmpPts(i, j int32, v slopeRef) int {
 // evalCut orders every block by b(v) (ties by time ascending) into perm and
 // returns the number of pairs with slope < v and ≤ v.
 //
-// The points, in time order, are merge-sorted by their floating-point keys,
-// counting inversions on the way (pairs a < b with key_b < key_a). Keys
-// that differ by more than G = 32u·max|mag| are in the exact order, so only
-// chains of neighbours closer than G can be misordered: they are re-sorted
-// with the exact comparator and the count corrected by the difference of
-// the chain's inversions after and before.
+// It starts from the order of the evaluated cut nearest to v (time order,
+// the cut at −∞, when there is none). Two orders of this kind differ
+// exactly on the pairs whose slopes lie between their cuts, so the count
+// at v is the base count plus (v above the base) or minus (v below) the
+// number of inversions of the base order under the keys at v. The base
+// order, as positions, is merge-sorted by the floating-point keys at v,
+// counting inversions on the way; starting near v keeps the inversions few
+// and the merges' branches predictable. Keys that differ by more than
+// G = 32u·max|mag| are in the exact order, so only chains of neighbours
+// closer than G can be misordered: they are re-sorted with the exact
+// comparator and the count corrected by the difference of the chain's
+// inversions after and before.
 func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
+	fv := d.slopeF(v)
+	base, baseLess, dir := d.identity(), int64(0), int64(1)
+	if o := d.nearestOrder(fv); o != nil {
+		base, baseLess = o.perm, o.less
+		if d.cmpSlopes(v, o.v, fv, o.f) < 0 {
+			dir = -1
+		}
+	}
 	d.setKeys(v)
 	d.work = grow(d.work, d.n)
 	d.tmp = grow(d.tmp, d.n)
@@ -52,14 +66,21 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 		magMax = max(magMax, m)
 	}
 	g := 32*epsU*magMax + 1e-300
+	byPoint := func(a, b int32) int {
+		if c := d.cmpPts(base[a], base[b], v); c != 0 {
+			return c
+		}
+		return int(base[a] - base[b])
+	}
+	var inv int64
 	for b := 0; b+1 < len(d.blocks); b++ {
 		lo, hi := d.blocks[b], d.blocks[b+1]
 		items := d.items[lo:hi]
 		for i := range items {
-			items[i] = keyItem{d.key[lo+i], int32(lo + i)}
+			items[i] = keyItem{d.key[base[lo+i]], int32(lo + i)}
 		}
-		less += mergeCountKeys(items, d.items[d.n+lo:d.n+hi])
-		seg := perm[lo:hi]
+		inv += mergeCountKeys(items, d.items[d.n+lo:d.n+hi])
+		seg := perm[lo:hi] // positions in base, then points
 		for i := range items {
 			seg[i] = items[i].i
 		}
@@ -73,19 +94,14 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 				chain := seg[i:j]
 				w := d.work[:len(chain)]
 				copy(w, chain)
-				less -= countInversions(w, d.tmp)
-				slices.SortFunc(chain, func(a, b int32) int {
-					if c := d.cmpPts(a, b, v); c != 0 {
-						return c
-					}
-					return int(a - b)
-				})
+				inv -= countInversions(w, d.tmp)
+				slices.SortFunc(chain, byPoint)
 				copy(w, chain)
-				less += countInversions(w, d.tmp)
+				inv += countInversions(w, d.tmp)
 				for k := 1; k < len(chain); {
 					// count exact ties
 					l := k
-					for l < len(chain) && d.cmpPts(chain[l-1], chain[l], v) == 0 {
+					for l < len(chain) && d.cmpPts(base[chain[l-1]], base[chain[l]], v) == 0 {
 						l++
 					}
 					if l > k {
@@ -99,9 +115,24 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 			}
 			i = j
 		}
+		for i, p := range seg {
+			seg[i] = base[p]
+		}
 	}
+	less = baseLess + dir*inv
 	lessEq += less
 	return
+}
+
+// identity returns the time order 0..n−1 (the order of the cut at −∞).
+func (d *senData) identity() []int32 {
+	if len(d.ident) != d.n {
+		d.ident = grow(d.ident, d.n)
+		for i := range d.ident {
+			d.ident[i] = int32(i)
+		}
+	}
+	return d.ident
 }
 
 // mergeCountKeys stably sorts a by k (merge sort, tmp as scratch of the same
@@ -176,11 +207,11 @@ func (d *senData) permFor(c cut, perm []int32) {
 		}
 		return
 	}
-	if p, ok := d.perms[c.v]; ok {
-		copy(perm, p)
+	if o := d.findOrder(c.v); o != nil {
+		copy(perm, o.perm)
 	} else {
-		d.evalCut(c.v, perm)
-		d.remember(c.v, perm)
+		less, _ := d.evalCut(c.v, perm)
+		d.remember(c.v, less, perm)
 	}
 	if !c.incl {
 		return
@@ -200,20 +231,50 @@ func (d *senData) permFor(c cut, perm []int32) {
 	}
 }
 
+// order is the point order realising the evaluated cut (v, <).
+type order struct {
+	v    slopeRef
+	f    float64 // slope estimate of v
+	less int64   // pairs with slope < v
+	perm []int32
+}
+
 // remember caches the order realising the cut (v, <), as left by evalCut.
-// At most a few orders are kept (O(n) memory).
-func (d *senData) remember(v slopeRef, perm []int32) {
-	if d.perms == nil {
-		d.perms = map[slopeRef][]int32{}
-	}
-	if len(d.perms) >= 12 {
-		d.dropPerms()
-	}
+// At most maxOrders orders are kept (O(n) memory); the oldest goes first.
+func (d *senData) remember(v slopeRef, less int64, perm []int32) {
 	var buf []int32
-	if k := len(d.permFree); k > 0 {
-		buf, d.permFree = d.permFree[k-1], d.permFree[:k-1]
+	if len(d.orders) >= maxOrders {
+		buf = d.orders[0].perm
+		d.orders = append(d.orders[:0], d.orders[1:]...)
+	} else if k := len(d.orders); k < cap(d.orders) {
+		buf = d.orders[:k+1][k].perm // storage of an order dropped earlier
 	}
 	buf = grow(buf, d.n)
 	copy(buf, perm)
-	d.perms[v] = buf
+	d.orders = append(d.orders, order{v, d.slopeF(v), less, buf})
+}
+
+const maxOrders = 12
+
+// findOrder returns the cached order of the cut (v, <), or nil.
+func (d *senData) findOrder(v slopeRef) *order {
+	for i := range d.orders {
+		if d.orders[i].v == v {
+			return &d.orders[i]
+		}
+	}
+	return nil
+}
+
+// nearestOrder returns the cached order whose slope estimate is nearest to
+// f, or nil when none is cached.
+func (d *senData) nearestOrder(f float64) *order {
+	var best *order
+	dist := math.Inf(1)
+	for i := range d.orders {
+		if e := math.Abs(d.orders[i].f - f); e < dist || best == nil {
+			best, dist = &d.orders[i], e
+		}
+	}
+	return best
 }

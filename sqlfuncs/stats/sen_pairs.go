@@ -4,41 +4,10 @@ package stats
 // them, or those between two cuts) and the enumeration of the pairs between
 // two cuts.
 
-import "slices"
-
-// fenwick is a binary indexed tree of counts over 0..n−1.
-type fenwick []int32
-
-func (f fenwick) add(i int) {
-	for i++; i < len(f); i += i & -i {
-		f[i]++
-	}
-}
-
-// prefix returns the count of values ≤ i.
-func (f fenwick) prefix(i int) int {
-	s := 0
-	for i++; i > 0; i -= i & -i {
-		s += int(f[i])
-	}
-	return s
-}
-
-// kth returns the smallest value v with prefix(v) ≥ k (k ≥ 1).
-func (f fenwick) kth(k int) int {
-	pos := 0
-	step := 1
-	for step*2 < len(f) {
-		step *= 2
-	}
-	for ; step > 0; step /= 2 {
-		if pos+step < len(f) && int(f[pos+step]) < k {
-			pos += step
-			k -= int(f[pos])
-		}
-	}
-	return pos // value index = pos (0-based)
-}
+import (
+	"math"
+	"slices"
+)
 
 // interval builds seq (positions in the hi order, listed in lo order) and
 // the hi permutation; inversions of seq are the pairs between the cuts.
@@ -67,45 +36,100 @@ func pairOf(a, b int32) slopeRef {
 	return slopeRef{a, b}
 }
 
-// sampleBetween draws m pairs uniformly (with replacement) from the pairs
-// between the cuts, with their floating-point slopes.
-func (d *senData) sampleBetween(lo, hi cut, m int) []slopeItem {
-	seq, pHi := d.interval(lo, hi)
-	n := d.n
-	d.fen = grow(d.fen, n+1)
-	f := d.fen
-	clear(f)
-	d.cum = grow(d.cum, n)
-	cum := d.cum // cum[q] = inversions ending at positions ≤ q
-	var total int64
-	for q, v := range seq {
-		c := q - f.prefix(int(v))
-		total += int64(c)
-		cum[q] = total
-		f.add(int(v))
-	}
-	if total == 0 {
+// sampleBetween draws m pairs uniformly (with replacement) from the total
+// pairs between the cuts, with their floating-point slopes.
+//
+// The pairs between the cuts are the inversions of seq; a merge sort meets
+// each of them once, in an order fixed by seq, so m sorted draws from
+// 0..total−1 pick m of them while the sort counts: a run of c inversions
+// (an element taken from the right half before c elements of the left)
+// holds the draws that fall in its c indices.
+func (d *senData) sampleBetween(lo, hi cut, m int, total int64) []slopeItem {
+	if total <= 0 {
 		return nil
 	}
+	seq, pHi := d.interval(lo, hi)
 	draws := d.sortedDraws(m, total)
-	clear(f)
 	out := grow(d.sample, m)[:0]
-	q := 0
-	var prev int64
-	for _, r := range draws {
-		for cum[q] <= r {
-			f.add(int(seq[q]))
-			prev = cum[q]
-			q++
-		}
-		o := int(r - prev) // 0-based among earlier larger values
-		target := f.prefix(int(seq[q])) + o + 1
-		w := f.kth(target)
-		p := pairOf(pHi[w], pHi[seq[q]])
+	emit := func(a, b int32) {
+		p := pairOf(pHi[a], pHi[b])
 		out = append(out, slopeItem{d.slopeF(p), p})
 	}
+	d.enumTmp = grow(d.enumTmp, len(seq))
+	mergeSample(seq, d.enumTmp, draws, emit)
 	d.sample = out
 	return out
+}
+
+// mergeSample sorts a (distinct values; tmp is scratch of the same length)
+// and calls emit(a_i, a_j) for the inversions (i < j, a_i > a_j) whose
+// index in the sort's order of meeting them is in draws (ascending; a
+// repeated index emits its pair again).
+func mergeSample(a, tmp []int32, draws []int64, emit func(x, y int32)) {
+	n := len(a)
+	var tot int64 // inversions met so far
+	di := 0
+	next := int64(math.MaxInt64)
+	if len(draws) > 0 {
+		next = draws[0]
+	}
+	const run = 16
+	for lo := 0; lo < n; lo += run {
+		hi := min(lo+run, n)
+		for i := lo + 1; i < hi; i++ {
+			v := a[i]
+			j := i
+			for j > lo && a[j-1] > v {
+				j--
+			}
+			c := int64(i - j)
+			for next < tot+c {
+				emit(a[j+int(next-tot)], v)
+				if di++; di < len(draws) {
+					next = draws[di]
+				} else {
+					next = math.MaxInt64
+				}
+			}
+			tot += c
+			copy(a[j+1:i+1], a[j:i])
+			a[j] = v
+		}
+	}
+	src, dst := a, tmp[:n]
+	for width := run; width < n; width *= 2 {
+		for lo := 0; lo < n; lo += 2 * width {
+			mid := min(lo+width, n)
+			hi := min(lo+2*width, n)
+			i, j, k := lo, mid, lo
+			for i < mid && j < hi {
+				if src[i] < src[j] {
+					dst[k] = src[i]
+					i++
+				} else {
+					c := int64(mid - i)
+					for next < tot+c {
+						emit(src[i+int(next-tot)], src[j])
+						if di++; di < len(draws) {
+							next = draws[di]
+						} else {
+							next = math.MaxInt64
+						}
+					}
+					tot += c
+					dst[k] = src[j]
+					j++
+				}
+				k++
+			}
+			k += copy(dst[k:], src[i:mid])
+			copy(dst[k:], src[j:hi])
+		}
+		src, dst = dst, src
+	}
+	if n > 0 && &src[0] != &a[0] {
+		copy(a, src)
+	}
 }
 
 // sortedDraws returns m integers drawn uniformly from 0..total−1 with
@@ -150,7 +174,10 @@ func (d *senData) sampleAll(m int) []slopeItem {
 			b, _ = slices.BinarySearch(cum, r+1)
 		}
 		lo, sz := d.blocks[b], d.blocks[b+1]-d.blocks[b]
-		i, j := d.rng.IntN(sz), d.rng.IntN(sz)
+		// two indices from one 64-bit draw (multiply-shift: the bias of
+		// at most sz/2³² per index affects only the running time)
+		r := d.pcg.Uint64()
+		i, j := int((r&0xffffffff)*uint64(sz)>>32), int((r>>32)*uint64(sz)>>32)
 		if i == j {
 			continue
 		}
@@ -162,41 +189,23 @@ func (d *senData) sampleAll(m int) []slopeItem {
 }
 
 // enumerateBetween lists every pair between the cuts, with its
-// floating-point slope.
+// floating-point slope. The pairs are the inversions of seq, met by an
+// insertion sort in O(n + pairs) steps (it runs only when the pairs number
+// at most limit, a small multiple of n).
 func (d *senData) enumerateBetween(lo, hi cut, capHint int64) []slopeItem {
-	seq, pHi := d.interval(lo, hi)
+	a, pHi := d.interval(lo, hi)
 	out := grow(d.enum, int(capHint))[:0]
-	d.enumTmp = grow(d.enumTmp, len(seq))
-	tmp := d.enumTmp
-	var rec func(a, t []int32)
-	rec = func(a, t []int32) {
-		n := len(a)
-		if n < 2 {
-			return
+	for q := 1; q < len(a); q++ {
+		v := a[q]
+		pv := pHi[v]
+		j := q
+		for ; j > 0 && a[j-1] > v; j-- {
+			a[j] = a[j-1]
+			p := pairOf(pHi[a[j]], pv)
+			out = append(out, slopeItem{d.slopeF(p), p})
 		}
-		mid := n / 2
-		rec(a[:mid], t[:mid])
-		rec(a[mid:], t[mid:])
-		i, j, k := 0, mid, 0
-		for i < mid && j < n {
-			if a[i] < a[j] {
-				t[k] = a[i]
-				i++
-			} else {
-				for l := i; l < mid; l++ {
-					p := pairOf(pHi[a[l]], pHi[a[j]])
-					out = append(out, slopeItem{d.slopeF(p), p})
-				}
-				t[k] = a[j]
-				j++
-			}
-			k++
-		}
-		k += copy(t[k:], a[i:mid])
-		copy(t[k:], a[j:])
-		copy(a, t[:n])
+		a[j] = v
 	}
-	rec(seq, tmp)
 	d.enum = out
 	return out
 }

@@ -42,15 +42,13 @@ type senData struct {
 	key, mag  []float64
 	tmp, work []int32
 	items     []keyItem
-	perms     map[slopeRef][]int32 // order at (v, <) for evaluated cuts
-	permFree  [][]int32            // buffers of dropped orders, for reuse
+	orders    []order // orders of evaluated cuts (v, <), oldest first
+	ident     []int32 // 0..n−1
 	perm      []int32
 	ivLo      []int32
 	ivHi      []int32
 	ivPos     []int32
 	enumTmp   []int32
-	fen       fenwick
-	cum       []int64
 	spacing   []float64
 	draws     []int64
 	sample    []slopeItem
@@ -93,7 +91,7 @@ func newSenData(t, y []float64, blocks []int) *senData {
 	d.limit = int64(max(8*n, 8192))
 	d.mFirst = max(8*n, 4096)
 	d.mNext = max(4*n, 4096)
-	d.dropPerms()
+	d.dropOrders()
 	d.cuts, d.tieBlocks = d.cuts[:0], d.tieBlocks[:0]
 	return d
 }
@@ -101,16 +99,13 @@ func newSenData(t, y []float64, blocks []int) *senData {
 // release returns d's buffers to the pool; d must not be used afterwards.
 func (d *senData) release() {
 	d.t, d.y, d.blocks = nil, nil, nil
-	d.dropPerms()
+	d.dropOrders()
 	senPool.Put(d)
 }
 
-// dropPerms empties the order cache, keeping its buffers.
-func (d *senData) dropPerms() {
-	for k, p := range d.perms {
-		d.permFree = append(d.permFree, p)
-		delete(d.perms, k)
-	}
+// dropOrders empties the order cache, keeping its buffers.
+func (d *senData) dropOrders() {
+	d.orders = d.orders[:0]
 }
 
 // slopeF is the floating-point estimate of a slope (relative error ≤ 3u).
@@ -164,7 +159,7 @@ func (d *senData) tryCut(v slopeRef, perm []int32) {
 		}
 	}
 	less, lessEq := d.evalCut(v, perm)
-	d.remember(v, perm)
+	d.remember(v, less, perm)
 	d.tieBlocks = append(d.tieBlocks, tieBlock{v, less, lessEq})
 	d.cuts = append(d.cuts, cut{v: v, incl: false, count: less}, cut{v: v, incl: true, count: lessEq})
 }
@@ -220,7 +215,7 @@ func (d *senData) selectRanks(ks []int64) []slopeRef {
 			// leave at most 3/4 of limit pairs: 6T/√m ≤ 3·limit/4
 			r := 8 * float64(T) / float64(d.limit)
 			m := int(min(float64(d.mNext), max(1024, r*r)))
-			it = d.sampleBetween(lo, hi, int(min(int64(m), T)))
+			it = d.sampleBetween(lo, hi, int(min(int64(m), T)), T)
 		}
 		m := len(it)
 		// Sample windows around each target (group is in rank order);

@@ -2,8 +2,10 @@ package stats
 
 import (
 	"math"
+	"math/big"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"testing"
 )
 
@@ -279,5 +281,116 @@ func TestMKVarSSortedMatchesMannKendall(t *testing.T) {
 				t.Fatalf("n=%d levels=%d: %v, MannKendall %v", n, levels, got, mk.VarS)
 			}
 		}
+	}
+}
+
+// ratSlopes lists every pairwise slope as an exact rational, sorted (the
+// definition, without floating-point arithmetic).
+func ratSlopes(t, y []float64) []*big.Rat {
+	var s []*big.Rat
+	for i := range t {
+		for j := i + 1; j < len(t); j++ {
+			dy := new(big.Rat).Sub(new(big.Rat).SetFloat64(y[j]), new(big.Rat).SetFloat64(y[i]))
+			dt := new(big.Rat).Sub(new(big.Rat).SetFloat64(t[j]), new(big.Rat).SetFloat64(t[i]))
+			s = append(s, dy.Quo(dy, dt))
+		}
+	}
+	slices.SortFunc(s, func(a, b *big.Rat) int { return a.Cmp(b) })
+	return s
+}
+
+// TestSenOrderStatisticsMatchEnumeration checks all four order statistics
+// of SenSlope (the two middle ranks behind the median and the interval's
+// two ranks) against a full enumeration and sort of the pairwise slopes, on
+// random n up to a few thousand: regular and irregular time steps with
+// quantised values, so that values tie and many pairs share a slope. With
+// values on a binary grid and integer times every difference is exact, so
+// the sorted floating-point quotients are the correctly rounded exact
+// slopes in order (rounding is monotone) and the k-th of them is the value
+// SenSlope must return; for decimal values and small n the reference is the
+// sort of exact rationals (math/big). Ties in time are rejected.
+func TestSenOrderStatisticsMatchEnumeration(t *testing.T) {
+	rng := rand.New(rand.NewPCG(41, 43))
+	sizes := []int{2, 3, 4, 6, 9, 25, 100, 257}
+	for range 6 {
+		sizes = append(sizes, 2+rng.IntN(1500))
+	}
+	if !testing.Short() {
+		sizes = append(sizes, 2000+rng.IntN(1500))
+	}
+	for _, n := range sizes {
+		for kind := 0; kind < 4; kind++ {
+			tt := make([]float64, n)
+			yy := make([]float64, n)
+			tc := float64(1.6e9)
+			for i := range tt {
+				if kind%2 == 0 {
+					tc += 3600 // regular steps: many pairs with equal slopes
+				} else {
+					tc += float64(1 + rng.IntN(5000))
+				}
+				tt[i] = tc
+				switch kind / 2 {
+				case 0: // quarter steps with a trend: ties and repeated differences
+					yy[i] = math.Round(rng.NormFloat64()*8+float64(i)*0.01) / 4
+				default: // runs of equal values (a gauge stuck at a level)
+					if i == 0 || rng.IntN(4) == 0 {
+						yy[i] = float64(rng.IntN(6)) * 0.5
+					} else {
+						yy[i] = yy[i-1]
+					}
+				}
+			}
+			conf := []float64{0.8, 0.9, 0.95, 0.99}[rng.IntN(4)]
+			r, err := SenSlope(tt, yy, conf)
+			if err != nil {
+				t.Fatal(err)
+			}
+			fl := bruteFloat(tt, yy)
+			N := int64(len(fl))
+			if r.Pairs != N {
+				t.Fatalf("n=%d kind=%d: %d pairs, enumeration %d", n, kind, r.Pairs, N)
+			}
+			med := fl[(N-1)/2]
+			if N%2 == 0 {
+				med = (fl[N/2-1] + fl[N/2]) / 2
+			}
+			if r.Slope != med || r.Lower != fl[r.LowerRank-1] || r.Upper != fl[r.UpperRank-1] {
+				t.Fatalf("n=%d kind=%d conf=%v: slope %v [%v, %v] (ranks %d, %d), enumeration %v [%v, %v]",
+					n, kind, conf, r.Slope, r.Lower, r.Upper, r.LowerRank, r.UpperRank, med, fl[r.LowerRank-1], fl[r.UpperRank-1])
+			}
+		}
+	}
+	// decimal values (differences not exact in binary): exact rationals
+	for _, n := range []int{2, 5, 40, 150, 300} {
+		tt, yy := randSeries(rng, n, 5)
+		for i := range tt {
+			if i%3 == 0 {
+				tt[i] = 1.6e9 + float64(i)*900 // part regular, part irregular steps
+			} else {
+				tt[i] = 1.6e9 + float64(i)*900 + float64(rng.IntN(899))
+			}
+		}
+		r, err := SenSlope(tt, yy, 0.95)
+		if err != nil {
+			t.Fatal(err)
+		}
+		ex := ratSlopes(tt, yy)
+		N := len(ex)
+		f := func(k int64) float64 { v, _ := ex[k-1].Float64(); return v }
+		med := f(int64(N+1) / 2)
+		if N%2 == 0 {
+			med = (f(int64(N/2)) + f(int64(N/2+1))) / 2
+		}
+		if r.Slope != med || r.Lower != f(r.LowerRank) || r.Upper != f(r.UpperRank) {
+			t.Fatalf("n=%d decimal: slope %v [%v, %v], exact %v [%v, %v]", n, r.Slope, r.Lower, r.Upper, med, f(r.LowerRank), f(r.UpperRank))
+		}
+	}
+	// ties in time: an error naming the position
+	if _, err := SenSlope([]float64{1, 2, 2, 3}, []float64{1, 2, 3, 4}, 0.95); err == nil || !strings.Contains(err.Error(), "t[2]") {
+		t.Fatalf("tied times: err = %v", err)
+	}
+	if _, err := SenSlope([]float64{1, 3, 2}, []float64{1, 2, 3}, 0.95); err == nil {
+		t.Fatal("decreasing times: no error")
 	}
 }
