@@ -16,6 +16,10 @@ package sqlfuncs
 // gives no rows; text that is not a correlogram JSON is an error naming the
 // function. Rows come in increasing lag order.
 //
+// It is a virtual table of the driver's vtab package; it is available on
+// connections opened through OpenDB (tables.go explains why the driver
+// cannot offer it as an eponymous table by itself).
+//
 // Example (demo store):
 //
 //	WITH per_station AS (

@@ -1,74 +1,44 @@
 package sqlfuncs
 
-// Zero-allocation adapter for the SQL:2003 regression aggregates (regr_*,
-// covar_*, corr of regr.go) and, in fastpath_series.go, for the series
-// aggregates.
+// Zero-allocation adapters: the regression aggregates (regr_*, covar_*,
+// corr of regr.go), the series aggregates of (t, y [, options])
+// (fastpath_series.go) and the qualifier counter of summarize
+// (fastpath_qual.go) are served at SQLite's C level through package
+// rawsqlite, so their per-row Step path allocates nothing.
 //
-// Why. The driver's public aggregate API (sqlite.FunctionImpl) hands every
-// row's arguments to Go as []driver.Value; each int64 or float64 argument is
-// boxed into an interface, one Go heap allocation per argument per row.
-// Over millions of rows that costs more than the arithmetic. This file
-// registers the functions directly with SQLite's C-level API
-// (sqlite3_create_window_function), reads arguments with sqlite3_value_*
-// and keeps the running state in sqlite3_aggregate_context memory, so the
-// Step path allocates nothing.
+// A connection hook runs after the driver has registered the public-API
+// implementations on each new connection and re-registers these functions
+// on that connection with rawsqlite callbacks. When rawsqlite refuses
+// (TRENDSQL_FASTPATH=off, other driver or libc versions than the verified
+// ones, a changed connection layout) or a registration fails, the hook
+// leaves the connection alone and every function keeps its public-API
+// implementation: same code, same results, only slower. FastPathStatus says
+// which path is in use and why.
 //
-// How. A connection hook (sqlite.RegisterConnectionHook) runs after the
-// driver has registered the public-API functions on each new connection and
-// re-registers them on that connection with the callbacks below. It needs
-// the connection's sqlite3* handle and libc TLS, which the driver keeps in
-// unexported fields; handleOf checks by reflection that the connection type,
-// its field names, types and order are exactly what this adapter was written
-// against before reading them.
-//
-// Safety net. If anything does not match — a different driver version than
-// FastPathDriverVersion, a changed connection layout, TRENDSQL_FASTPATH=off
-// in the environment, or a failing registration — the hook leaves the
-// connection alone and every function keeps its public-API implementation
-// (same arithmetic, same results, only slower). FastPathStatus says which
-// path is in use and why; TestFastPathActive fails loudly when a driver
-// upgrade disables the adapter, so the upgrade cannot go unnoticed. After
-// upgrading modernc.org/sqlite: re-read conn.go (fields db, tls) and the
-// aggregate trampolines in sqlite.go, then update FastPathDriverVersion.
-//
-// Semantics are those of regr.go: the state is regr.go's comoments, updated
-// by its update method in the same steps as comoments.add/remove, and the
-// value is computed by the public function's own result func (taken from the
-// aggregate its MakeAggregate returns), so nothing is duplicated. Rows with a
-// NULL argument are ignored; numeric TEXT is accepted and non-numeric text
-// or a non-finite value is an error naming the function and argument (the
-// public argValue decides those cases). TestFastPathMatchesPublic and
-// TestFastRegrMatchesPublic check results bit for bit against the public
-// path; if regr.go changes how add/remove drive the state, they fail until
-// this file follows.
+// The adapters share the public implementations' state types and code:
+// the regression state is regr.go's comoments updated by addPair and
+// removePair and read by the public result func; a series group is the
+// public seriesAgg; the qualifier state is qualcount.go's qualCounts. Only
+// rows whose conversion cannot fail are handled here; every other row is
+// boxed and handed to the public Step, so checks and error messages are the
+// public ones. The internal tests drive the public aggregates directly and
+// compare values and errors with the adapters bit for bit.
 
 import (
 	"database/sql/driver"
-	"errors"
 	"fmt"
 	"math"
-	"os"
-	"reflect"
-	"runtime/debug"
 	"sort"
-	"strings"
 	"sync"
-	"unsafe"
 
-	"modernc.org/libc"
 	"modernc.org/sqlite"
-	sqlite3 "modernc.org/sqlite/lib"
+
+	"trendsql/sqlfuncs/rawsqlite"
 )
 
-// FastPathDriverVersion is the modernc.org/sqlite version the adapter was
-// checked against. When the binary's build information names another
-// version, the adapter is disabled (public API fallback); test binaries carry
-// no dependency versions, so TestFastPathDriverPinned compares this constant
-// with go.mod instead.
-const FastPathDriverVersion = "v1.62.0"
-
-// FastPathEnv disables the adapter when set to "off".
-const FastPathEnv = "TRENDSQL_FASTPATH"
+// FastPathEnv disables the adapters (and the store's C-level batch insert)
+// when set to "off".
+const FastPathEnv = rawsqlite.EnvVar
 
 var fastpath struct {
 	sync.Mutex
@@ -76,34 +46,8 @@ var fastpath struct {
 	reason        string
 }
 
-// fastRegrFunc is one regression aggregate served by the adapter.
-type fastRegrFunc struct {
-	name   string
-	zName  uintptr // name as a C string, kept for the process
-	result func(c *comoments) driver.Value
-}
-
-// fastRegr lists them; index+1 is the pApp of the registration.
-var fastRegr struct {
-	sync.Mutex
-	done bool
-	list []fastRegrFunc
-}
-
-// FastRegrFunctions lists the regression aggregates the adapter serves
-// (empty until the first connection has been opened).
-func FastRegrFunctions() []string {
-	fastRegr.Lock()
-	defer fastRegr.Unlock()
-	out := make([]string, 0, len(fastRegr.list))
-	for _, f := range fastRegr.list {
-		out = append(out, f.name)
-	}
-	return out
-}
-
 // FastPathStatus reports whether the connections opened so far use the
-// zero-allocation adapter (false as soon as one could not), and why. Before
+// zero-allocation adapters (false as soon as one could not), and why. Before
 // any connection has been opened it reports inactive with the reason "no
 // connection opened yet".
 func FastPathStatus() (active bool, reason string) {
@@ -119,7 +63,7 @@ func init() {
 	sqlite.RegisterConnectionHook(fastpathHook)
 }
 
-// fastpathHook installs the adapter on one new connection; it never fails
+// fastpathHook installs the adapters on one new connection; it never fails
 // the connection.
 func fastpathHook(c sqlite.ExecQuerierContext, _ string) error {
 	err := installFastPath(c)
@@ -131,265 +75,160 @@ func fastpathHook(c sqlite.ExecQuerierContext, _ string) error {
 		fastpath.reason = "the regression and series aggregates use the public driver API: " + err.Error()
 	} else if !fastpath.active {
 		fastpath.active = true
-		fastpath.reason = fmt.Sprintf("%d regression and %d series aggregates use the C-level adapter (sqlfuncs/fastpath.go, fastpath_series.go)", len(fastRegr.list), len(fastSeriesFactories.list))
+		fns := fastFunctions()
+		fastpath.reason = fmt.Sprintf("%d regression and %d series aggregates use the C-level adapter (sqlfuncs/rawsqlite)", len(fns.regr), len(fns.series))
 	}
 	return nil
 }
 
-type connHandle struct {
-	db  uintptr
-	tls *libc.TLS
+// fastFunctionSet is what the adapters serve, derived once from the
+// registry.
+type fastFunctionSet struct {
+	regr, series []*rawsqlite.Function
+	qualifiers   *rawsqlite.Function
 }
 
-// handleOf returns the sqlite3* handle and TLS of a driver connection after
-// checking the layout this adapter depends on.
-func handleOf(c any) (connHandle, error) {
-	if v := os.Getenv(FastPathEnv); strings.EqualFold(v, "off") {
-		return connHandle{}, errors.New(FastPathEnv + "=off")
+// fastFunctions lists the served functions in name order. It is called
+// only from connection hooks, which run after Register has fixed the
+// registry.
+var fastFunctions = sync.OnceValue(func() fastFunctionSet {
+	registryMu.Lock()
+	defer registryMu.Unlock()
+	names := make([]string, 0, len(definitions))
+	for name := range definitions {
+		names = append(names, name)
 	}
-	if got := driverVersion(); got != "" && got != FastPathDriverVersion {
-		return connHandle{}, fmt.Errorf("modernc.org/sqlite is %s; the adapter was checked against %s", got, FastPathDriverVersion)
-	}
-	v := reflect.ValueOf(c)
-	if v.Kind() != reflect.Pointer || v.IsNil() || v.Elem().Kind() != reflect.Struct {
-		return connHandle{}, fmt.Errorf("driver connection is %T, not a pointer to a struct", c)
-	}
-	t := v.Elem().Type()
-	if t.PkgPath() != "modernc.org/sqlite" || t.Name() != "conn" || t.NumField() < 2 {
-		return connHandle{}, fmt.Errorf("driver connection is %T, expected *sqlite.conn", c)
-	}
-	f0, f1 := t.Field(0), t.Field(1)
-	if f0.Name != "db" || f0.Type != reflect.TypeOf(uintptr(0)) || f0.Offset != 0 ||
-		f1.Name != "tls" || f1.Type != reflect.TypeOf((*libc.TLS)(nil)) || f1.Offset != unsafe.Offsetof(connHandle{}.tls) {
-		return connHandle{}, fmt.Errorf("driver connection layout changed (first fields %s %s, %s %s)", f0.Name, f0.Type, f1.Name, f1.Type)
-	}
-	h := *(*connHandle)(v.UnsafePointer())
-	if h.db == 0 || h.tls == nil {
-		return connHandle{}, errors.New("driver connection has no open handle")
-	}
-	return h, nil
-}
-
-// driverVersion returns the driver's module version from the build
-// information, or "" when the binary does not record it (test binaries).
-func driverVersion() string {
-	bi, ok := debug.ReadBuildInfo()
-	if !ok {
-		return ""
-	}
-	for _, d := range bi.Deps {
-		if d.Path == "modernc.org/sqlite" {
-			if d.Replace != nil {
-				return d.Version + " replaced by " + d.Replace.Path + " " + d.Replace.Version
+	sort.Strings(names)
+	var set fastFunctionSet
+	for _, name := range names {
+		d := definitions[name]
+		if d.impl == nil || d.impl.MakeAggregate == nil {
+			continue
+		}
+		agg, err := d.impl.MakeAggregate(sqlite.FunctionContext{})
+		if err != nil {
+			continue
+		}
+		switch a := agg.(type) {
+		case *streamAgg:
+			if rf, ok := a.st.(*regrFunc); ok && rf.result != nil && d.impl.NArgs == 2 {
+				set.regr = append(set.regr, regrFunction(name, rf.result))
 			}
-			return d.Version
+		case *seriesAgg:
+			if a.spec.values == 1 && a.spec.minOptions >= 0 && a.spec.maxOptions <= 4 {
+				set.series = append(set.series, seriesFunction(name, d.impl.MakeAggregate, 2+a.spec.minOptions, 2+a.spec.maxOptions))
+			}
 		}
 	}
-	return ""
-}
+	set.qualifiers = qualifierFunction()
+	return set
+})
 
-func installFastPath(c any) error {
-	h, err := handleOf(c)
+func installFastPath(dc any) error {
+	conn, err := rawsqlite.ConnOf(dc)
 	if err != nil {
 		return err
 	}
-	fastRegr.Lock()
-	if !fastRegr.done {
-		fastRegr.done = true
-		mu.Lock()
-		names := make([]string, 0, len(definitions))
-		for name := range definitions {
-			names = append(names, name)
-		}
-		sort.Strings(names)
-		for _, name := range names {
-			d := definitions[name]
-			if d.impl == nil || d.impl.MakeAggregate == nil || d.impl.NArgs != 2 {
-				continue
-			}
-			agg, err := d.impl.MakeAggregate(sqlite.FunctionContext{})
-			sa, ok := agg.(*streamAgg)
-			if err != nil || !ok {
-				continue
-			}
-			rf, ok := sa.st.(*regrFunc)
-			if !ok || rf.result == nil {
-				continue
-			}
-			z, err := libc.CString(name)
-			if err != nil {
-				mu.Unlock()
-				fastRegr.Unlock()
+	fns := fastFunctions()
+	for _, list := range [][]*rawsqlite.Function{fns.regr, fns.series, {fns.qualifiers}} {
+		for _, f := range list {
+			if err := conn.CreateFunction(f); err != nil {
 				return err
 			}
-			fastRegr.list = append(fastRegr.list, fastRegrFunc{name: name, zName: z, result: rf.result})
-		}
-		mu.Unlock()
-	}
-	list := fastRegr.list
-	fastRegr.Unlock()
-	for i, f := range list {
-		rc := sqlite3.Xsqlite3_create_window_function(h.tls, h.db, f.zName, 2,
-			sqlite3.SQLITE_UTF8|sqlite3.SQLITE_DETERMINISTIC, uintptr(i+1),
-			cFunc(fastRegrStep), cFunc(fastRegrFinal), cFunc(fastRegrValue), cFunc(fastRegrInverse), 0)
-		if rc != sqlite3.SQLITE_OK {
-			return fmt.Errorf("sqlite3_create_window_function(%s) returned %d", f.name, rc)
 		}
 	}
-	if err := installFastSeries(h); err != nil {
-		return err
+	return nil
+}
+
+// functionNames returns the SQL names of fns.
+func functionNames(fns []*rawsqlite.Function) []string {
+	out := make([]string, len(fns))
+	for k, f := range fns {
+		out[k] = f.Name
 	}
-	return installFastQualifiers(h)
+	return out
 }
 
-// fastRegrOf returns the function a callback serves.
-func fastRegrOf(tls *libc.TLS, ctx uintptr) fastRegrFunc {
-	i := int(sqlite3.Xsqlite3_user_data(tls, ctx)) - 1
-	fastRegr.Lock()
-	defer fastRegr.Unlock()
-	if i < 0 || i >= len(fastRegr.list) {
-		return fastRegrFunc{name: "regression aggregate", result: func(*comoments) driver.Value { return nil }}
+// finiteNumber reads an INTEGER or a finite REAL value; ok is false for
+// anything else, null reports SQL NULL.
+func finiteNumber(v rawsqlite.Value) (x float64, null, ok bool) {
+	switch v.Type() {
+	case rawsqlite.Integer:
+		return float64(v.Int64()), false, true
+	case rawsqlite.Float:
+		x = v.Float64()
+		return x, false, !math.IsNaN(x) && !math.IsInf(x, 0)
+	case rawsqlite.Null:
+		return 0, true, false
 	}
-	return fastRegr.list[i]
+	return 0, false, false
 }
 
-// cFunc turns a top-level Go function into the function-pointer form the
-// transpiled SQLite calls (a pointer to the function value, which for a
-// top-level function lives in read-only data and never moves).
-func cFunc[T any](f T) uintptr {
-	return *(*uintptr)(unsafe.Pointer(&struct{ f T }{f}))
-}
+// regrGroups holds the co-moments of the open groups of the regression
+// aggregates.
+var regrGroups rawsqlite.Slots[comoments]
 
-// The running state is regr.go's comoments itself, placed in
-// sqlite3_aggregate_context memory (zeroed by SQLite on first use). Its only
-// pointer field, the function name, is never set here and stays the empty
-// string (a nil pointer), so that memory holds no Go pointer the collector
-// would need to see. Step, inverse and the result call regr.go's update and
-// finish, so the arithmetic (double-double shifted sums) is shared, not
-// copied.
-type fastMoments = comoments
-
-// at converts an address from SQLite into a Go pointer without a
-// uintptr-to-pointer conversion expression (go vet's unsafeptr check).
-func at[T any](p uintptr) *T {
-	return *(**T)(unsafe.Pointer(&p))
-}
-
-func fastState(tls *libc.TLS, ctx uintptr, alloc bool) *fastMoments {
-	n := int32(0)
-	if alloc {
-		n = int32(unsafe.Sizeof(fastMoments{}))
-	}
-	p := sqlite3.Xsqlite3_aggregate_context(tls, ctx, n)
-	if p == 0 {
-		return nil
-	}
-	return at[fastMoments](p)
-}
-
-func fastError(tls *libc.TLS, ctx uintptr, err error) {
-	msg, cerr := libc.CString(err.Error())
-	if cerr != nil {
-		sqlite3.Xsqlite3_result_error_nomem(tls, ctx)
-		return
-	}
-	sqlite3.Xsqlite3_result_error(tls, ctx, msg, -1) // SQLite copies the text
-	libc.Xfree(tls, msg)
-}
-
-// fastArg reads argument i as regr.go's argValue would; anything but a
-// finite INTEGER or REAL, or NULL, goes to argValue itself.
-func fastArg(tls *libc.TLS, ctx uintptr, argv uintptr, i int, arg string) (float64, bool, error) {
-	v := at[[2]uintptr](argv)[i]
-	switch sqlite3.Xsqlite3_value_type(tls, v) {
-	case sqlite3.SQLITE_NULL:
-		return 0, false, nil
-	case sqlite3.SQLITE_INTEGER:
-		return float64(sqlite3.Xsqlite3_value_int64(tls, v)), true, nil
-	case sqlite3.SQLITE_FLOAT:
-		x := sqlite3.Xsqlite3_value_double(tls, v)
-		if !math.IsNaN(x) && !math.IsInf(x, 0) {
+// regrFunction serves one regression aggregate: rows go to comoments'
+// addPair and removePair, the value comes from the public result func.
+func regrFunction(name string, result func(c *comoments) driver.Value) *rawsqlite.Function {
+	newState := func() (*comoments, error) { return &comoments{fn: name}, nil }
+	// argument reads one argument as regr.go's argValue would; anything
+	// but NULL or a finite number goes to argValue itself.
+	argument := func(v rawsqlite.Value, arg string) (float64, bool, error) {
+		x, null, ok := finiteNumber(v)
+		switch {
+		case ok:
 			return x, true, nil
+		case null:
+			return 0, false, nil
+		}
+		return argValue(name, arg, v.Boxed())
+	}
+	row := func(c rawsqlite.Context, args rawsqlite.Args, remove bool) {
+		y, oky, err := argument(args.At(0), "y")
+		if err != nil {
+			c.Error(err)
+			return
+		}
+		x, okx, err := argument(args.At(1), "x")
+		if err != nil {
+			c.Error(err)
+			return
+		}
+		m, err := regrGroups.Get(c, true, newState)
+		if err != nil {
+			c.Error(err)
+			return
+		}
+		switch {
+		case !oky || !okx:
+		case remove:
+			m.removePair(y, x)
+		default:
+			m.addPair(y, x)
 		}
 	}
-	return argValue(fastRegrOf(tls, ctx).name, arg, fastBoxed(tls, v))
-}
-
-func fastPair(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) (y, x float64, ok bool, err error) {
-	if argc != 2 {
-		name := fastRegrOf(tls, ctx).name
-		return 0, 0, false, fmt.Errorf("%s: wrong number of arguments (%d); usage: %s(y, x)", name, argc, name)
+	value := func(c rawsqlite.Context, final bool) {
+		if final {
+			defer regrGroups.Release(c)
+		}
+		m, err := regrGroups.Get(c, false, nil)
+		if err != nil {
+			c.Error(err)
+			return
+		}
+		if m == nil {
+			m = &comoments{fn: name} // no row was ever stepped: the empty set
+		}
+		m.finish()
+		c.Result(result(m))
 	}
-	y, oky, err := fastArg(tls, ctx, argv, 0, "y")
-	if err != nil {
-		return 0, 0, false, err
-	}
-	x, okx, err := fastArg(tls, ctx, argv, 1, "x")
-	if err != nil {
-		return 0, 0, false, err
-	}
-	return y, x, oky && okx, nil
-}
-
-func fastRecover(tls *libc.TLS, ctx uintptr) {
-	if r := recover(); r != nil {
-		fastError(tls, ctx, fmt.Errorf("%s: internal error: %v", fastRegrOf(tls, ctx).name, r))
-	}
-}
-
-func fastRegrStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
-	fastRegrRow(tls, ctx, argc, argv, false)
-}
-
-func fastRegrInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
-	fastRegrRow(tls, ctx, argc, argv, true)
-}
-
-// fastRegrRow adds one row to the group's co-moments (remove: takes the
-// oldest row of a window frame out), with regr.go's update and without the
-// argument boxing.
-func fastRegrRow(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr, remove bool) {
-	defer fastRecover(tls, ctx)
-	y, x, ok, err := fastPair(tls, ctx, argc, argv)
-	if err != nil {
-		fastError(tls, ctx, err)
-		return
-	}
-	c := fastState(tls, ctx, true)
-	if c == nil {
-		sqlite3.Xsqlite3_result_error_nomem(tls, ctx)
-		return
-	}
-	switch {
-	case !ok:
-	case remove:
-		c.removePair(y, x)
-	default:
-		c.addPair(y, x)
+	return &rawsqlite.Function{
+		Name:    name,
+		MinArgs: 2, MaxArgs: 2,
+		Step:    func(c rawsqlite.Context, args rawsqlite.Args) { row(c, args, false) },
+		Inverse: func(c rawsqlite.Context, args rawsqlite.Args) { row(c, args, true) },
+		Value:   func(c rawsqlite.Context) { value(c, false) },
+		Final:   func(c rawsqlite.Context) { value(c, true) },
 	}
 }
-
-// fastRegrResult computes the value with the public function's result func
-// (regrFunc.value: finish, then result).
-func fastRegrResult(tls *libc.TLS, ctx uintptr) {
-	defer fastRecover(tls, ctx)
-	f := fastRegrOf(tls, ctx)
-	c := fastState(tls, ctx, false)
-	if c == nil {
-		c = &comoments{} // no row was ever stepped: the empty set
-	}
-	c.finish()
-	switch v := f.result(c).(type) {
-	case nil:
-		sqlite3.Xsqlite3_result_null(tls, ctx)
-	case float64:
-		sqlite3.Xsqlite3_result_double(tls, ctx, v)
-	case int64:
-		sqlite3.Xsqlite3_result_int64(tls, ctx, v)
-	default:
-		fastError(tls, ctx, fmt.Errorf("%s: internal error: result of type %T", f.name, v))
-	}
-}
-
-func fastRegrValue(tls *libc.TLS, ctx uintptr) { fastRegrResult(tls, ctx) }
-func fastRegrFinal(tls *libc.TLS, ctx uintptr) { fastRegrResult(tls, ctx) }

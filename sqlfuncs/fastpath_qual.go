@@ -1,111 +1,66 @@
 package sqlfuncs
 
 // Zero-allocation Step path for trendsql_qualifier_counts (qualcount.go), on
-// the connection hook of fastpath.go with its version pin, checks and
-// fallback. Most readings carry no qualifier, and the rest repeat a few
-// codes, so Step reads the TEXT in place and compares it with the group's
-// known qualifiers; only a qualifier new to the group is copied. The state
-// is qualcount.go's qualCounts, kept in liveQuals; sqlite3_aggregate_context
-// holds its index (an integer, no Go pointer). Values that are not TEXT or
-// NULL, and window removal, go through qualCounts' public methods.
+// the connection hook of fastpath.go. Most readings carry no qualifier, and
+// the rest repeat a few codes, so Step reads the TEXT in place and compares
+// it with the group's known qualifiers; only a qualifier new to the group is
+// copied. The state is qualcount.go's qualCounts. Values that are not TEXT
+// or NULL go through qualCounts' public conversion.
 
-import (
-	"fmt"
-	"sync"
-	"unsafe"
+import "trendsql/sqlfuncs/rawsqlite"
 
-	"modernc.org/libc"
-	sqlite3 "modernc.org/sqlite/lib"
-)
-
-// liveQuals keeps the groups' states alive.
-var liveQuals liveTable[qualCounts]
-
-var fastQualName struct {
-	sync.Once
-	z   uintptr
-	err error
-}
-
-func installFastQualifiers(h connHandle) error {
-	fastQualName.Do(func() { fastQualName.z, fastQualName.err = libc.CString(QualifierCountsFunction) })
-	if fastQualName.err != nil {
-		return fastQualName.err
-	}
-	rc := sqlite3.Xsqlite3_create_window_function(h.tls, h.db, fastQualName.z, 1,
-		sqlite3.SQLITE_UTF8|sqlite3.SQLITE_DETERMINISTIC, 0,
-		cFunc(fastQualStep), cFunc(fastQualFinal), cFunc(fastQualValue), cFunc(fastQualInverse), 0)
-	if rc != sqlite3.SQLITE_OK {
-		return fmt.Errorf("sqlite3_create_window_function(%s) returned %d", QualifierCountsFunction, rc)
-	}
-	return nil
-}
+// qualifierGroups holds the qualCounts of the open groups.
+var qualifierGroups rawsqlite.Slots[qualCounts]
 
 func newQualCounts() (*qualCounts, error) { return &qualCounts{}, nil }
 
-func fastQualRecover(tls *libc.TLS, ctx uintptr) {
-	if r := recover(); r != nil {
-		fastError(tls, ctx, fmt.Errorf("%s: internal error: %v", QualifierCountsFunction, r))
+// qualifierFunction serves trendsql_qualifier_counts(q).
+func qualifierFunction() *rawsqlite.Function {
+	row := func(c rawsqlite.Context, args rawsqlite.Args, delta int64) {
+		v := args.At(0)
+		typ := v.Type()
+		if typ == rawsqlite.Null {
+			return
+		}
+		q, err := qualifierGroups.Get(c, true, newQualCounts)
+		if err != nil {
+			c.Error(err)
+			return
+		}
+		if typ != rawsqlite.Text {
+			q.addValue(v.Boxed(), delta)
+			return
+		}
+		if b := v.Text(); len(b) > 0 {
+			q.addBytes(b, delta)
+		}
+	}
+	value := func(c rawsqlite.Context, final bool) {
+		if final {
+			defer qualifierGroups.Release(c)
+		}
+		q, err := qualifierGroups.Get(c, false, nil)
+		if err != nil {
+			c.Error(err)
+			return
+		}
+		if q == nil {
+			c.Result(nil)
+			return
+		}
+		v, err := q.value()
+		if err != nil {
+			c.Error(err)
+			return
+		}
+		c.Result(v)
+	}
+	return &rawsqlite.Function{
+		Name:    QualifierCountsFunction,
+		MinArgs: 1, MaxArgs: 1,
+		Step:    func(c rawsqlite.Context, args rawsqlite.Args) { row(c, args, 1) },
+		Inverse: func(c rawsqlite.Context, args rawsqlite.Args) { row(c, args, -1) },
+		Value:   func(c rawsqlite.Context) { value(c, false) },
+		Final:   func(c rawsqlite.Context) { value(c, true) },
 	}
 }
-
-func fastQualRow(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr, delta int64) {
-	defer fastQualRecover(tls, ctx)
-	if argc != 1 {
-		fastError(tls, ctx, fmt.Errorf("%s: wrong number of arguments (%d); usage: %s(q)", QualifierCountsFunction, argc, QualifierCountsFunction))
-		return
-	}
-	v := at[[1]uintptr](argv)[0]
-	typ := sqlite3.Xsqlite3_value_type(tls, v)
-	if typ == sqlite3.SQLITE_NULL {
-		return
-	}
-	q, _, err := liveQuals.state(tls, ctx, true, newQualCounts)
-	if err != nil {
-		fastError(tls, ctx, err)
-		return
-	}
-	if typ != sqlite3.SQLITE_TEXT {
-		q.addValue(fastBoxed(tls, v), delta)
-		return
-	}
-	p := sqlite3.Xsqlite3_value_text(tls, v)
-	n := int(sqlite3.Xsqlite3_value_bytes(tls, v))
-	if n == 0 || p == 0 {
-		return
-	}
-	q.addBytes(unsafe.Slice(at[byte](p), n), delta)
-}
-
-func fastQualStep(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
-	fastQualRow(tls, ctx, argc, argv, 1)
-}
-
-func fastQualInverse(tls *libc.TLS, ctx uintptr, argc int32, argv uintptr) {
-	fastQualRow(tls, ctx, argc, argv, -1)
-}
-
-func fastQualResult(tls *libc.TLS, ctx uintptr, final bool) {
-	defer fastQualRecover(tls, ctx)
-	q, slot, err := liveQuals.state(tls, ctx, false, newQualCounts)
-	if final {
-		defer liveQuals.release(slot)
-	}
-	if err != nil {
-		fastError(tls, ctx, err)
-		return
-	}
-	if q == nil {
-		sqlite3.Xsqlite3_result_null(tls, ctx)
-		return
-	}
-	v, err := q.value()
-	if err != nil {
-		fastError(tls, ctx, err)
-		return
-	}
-	fastResult(tls, ctx, QualifierCountsFunction, v)
-}
-
-func fastQualValue(tls *libc.TLS, ctx uintptr) { fastQualResult(tls, ctx, false) }
-func fastQualFinal(tls *libc.TLS, ctx uintptr) { fastQualResult(tls, ctx, true) }

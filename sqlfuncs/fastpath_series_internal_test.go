@@ -1,6 +1,6 @@
 package sqlfuncs
 
-// The trend_slope adapter (fastpath_series.go) against the public-API
+// The series and regression adapters (fastpath_series.go, fastpath.go) against the public-API
 // implementation it replaces on each connection: the public aggregate is
 // driven directly here (MakeAggregate, Step with the driver's boxed values,
 // WindowValue), the adapter through SQL. Results and error texts must be
@@ -50,9 +50,9 @@ func public(t *testing.T, rows [][2]driver.Value) (driver.Value, error) {
 // publicAgg runs the public-API aggregate name over the rows' arguments.
 func publicAgg(t *testing.T, name string, rows [][]driver.Value) (driver.Value, error) {
 	t.Helper()
-	mu.Lock()
+	registryMu.Lock()
 	d := definitions[name]
-	mu.Unlock()
+	registryMu.Unlock()
 	agg, err := d.impl.MakeAggregate(sqlite.FunctionContext{})
 	if err != nil {
 		t.Fatal(err)
@@ -77,7 +77,7 @@ func TestFastSeriesActive(t *testing.T) {
 	if active, why := FastPathStatus(); !active {
 		t.Fatalf("THE C-LEVEL ADAPTER IS OFF: %s", why)
 	}
-	served := strings.Join(FastSeriesFunctions(), " ")
+	served := strings.Join(functionNames(fastFunctions().series), " ")
 	for _, name := range []string{"trend_slope", "trend_fit", "sample_acf", "correlogram", "ljung_box", "mann_kendall", "sen_slope"} {
 		if !strings.Contains(" "+served+" ", " "+name+" ") {
 			t.Errorf("%s is not served by the adapter (served: %s)", name, served)
@@ -239,7 +239,7 @@ func TestFastSeriesMatchesPublic(t *testing.T) {
 }
 
 // liveAggregates counts the adapter's groups still holding a slot.
-func liveAggregates() int { return liveSeries.live() }
+func liveAggregates() int { return seriesGroups.Live() }
 
 func TestFastSeriesErrorsMatchPublic(t *testing.T) {
 	db := fastSeriesDB(t)
@@ -347,7 +347,7 @@ func TestFastRegrMatchesPublic(t *testing.T) {
 	if strings.EqualFold(os.Getenv(FastPathEnv), "off") {
 		t.Skip(FastPathEnv + "=off")
 	}
-	names := FastRegrFunctions()
+	names := functionNames(fastFunctions().regr)
 	if len(names) < 12 {
 		t.Fatalf("adapter serves %d regression aggregates: %v", len(names), names)
 	}
@@ -375,9 +375,9 @@ func TestFastRegrMatchesPublic(t *testing.T) {
 		// The public aggregate driven the way SQLite drives a sliding
 		// frame: for each row, xStep for the entering row, xInverse for the
 		// leaving one, then xValue.
-		mu.Lock()
+		registryMu.Lock()
 		impl := definitions[name].impl
-		mu.Unlock()
+		registryMu.Unlock()
 		pub, _ := impl.MakeAggregate(sqlite.FunctionContext{})
 		i := 0
 		for w.Next() {

@@ -45,19 +45,19 @@ type definition struct {
 }
 
 var (
-	mu          sync.Mutex
-	definitions = map[string]definition{}
-	tables      = map[string]tableDef{}
-	registered  bool
-	registerErr error
-	once        sync.Once
+	registryMu   sync.Mutex
+	definitions  = map[string]definition{}
+	tables       = map[string]tableDef{}
+	registered   bool
+	registerErr  error
+	registerOnce sync.Once
 )
 
 // define records a function for registration. It panics on a duplicate name:
 // that is a programming error caught by any test run.
 func define(doc Doc, impl *sqlite.FunctionImpl) {
-	mu.Lock()
-	defer mu.Unlock()
+	registryMu.Lock()
+	defer registryMu.Unlock()
 	if registered {
 		panic("sqlfuncs: define after Register: " + doc.Name)
 	}
@@ -74,9 +74,9 @@ func define(doc Doc, impl *sqlite.FunctionImpl) {
 // to call many times; only the first call does work. Connections opened
 // before the first call do not have the functions.
 func Register() error {
-	once.Do(func() {
-		mu.Lock()
-		defer mu.Unlock()
+	registerOnce.Do(func() {
+		registryMu.Lock()
+		defer registryMu.Unlock()
 		registered = true
 		for name, d := range definitions {
 			if err := sqlite.RegisterFunction(name, d.impl); err != nil {
@@ -94,8 +94,8 @@ func Register() error {
 // List returns the documentation of every user-facing function, sorted by
 // name (Internal ones are left out).
 func List() []Doc {
-	mu.Lock()
-	defer mu.Unlock()
+	registryMu.Lock()
+	defer registryMu.Unlock()
 	out := make([]Doc, 0, len(definitions)+len(tables))
 	for _, d := range definitions {
 		if d.doc.Kind == Internal {

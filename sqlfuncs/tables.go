@@ -2,14 +2,18 @@ package sqlfuncs
 
 // Table-valued functions.
 //
-// modernc.org/sqlite registers virtual-table modules but does not make them
-// eponymous (its xCreate and xConnect differ), so a module cannot be called
-// as a table-valued function directly. All the plumbing for that lives here:
+// The modules are the driver's own virtual-table support
+// (modernc.org/sqlite/vtab: Module, Table, Cursor, RegisterModule). What
+// that support cannot do in v1.62.0 is make a module eponymous: SQLite
+// offers a module as a table-valued function only when its xCreate is
+// absent or the same function as its xConnect, and the driver always
+// installs two different trampolines (vtabCreateTrampoline,
+// vtabConnectTrampoline in its vtab.go), with no option to change that. So
 // each table-valued function is registered as a module named
 // "<name>_module", and every connection opened through OpenDB gets
 // "temp.<name>" created USING that module. Its declared schema has the
-// function arguments as HIDDEN columns, so `FROM t, name(t.col)` works as in
-// SQLite's own table-valued functions.
+// function arguments as HIDDEN columns, so `FROM t, name(t.col)` works as
+// with SQLite's own table-valued functions.
 //
 // The temp tables cannot be created from a driver connection hook: the
 // driver runs hooks before it installs the modules on a new connection, so
@@ -17,7 +21,10 @@ package sqlfuncs
 // wraps the driver in a driver.Connector that creates them right after the
 // driver has opened (and fully set up) each connection. Connections opened
 // with plain sql.Open("sqlite", ...) have every scalar and aggregate
-// function but not the table-valued ones.
+// function but not the table-valued ones. (Patching the driver's module
+// structure through rawsqlite could make it eponymous, but the public-API
+// fallback would still need this connector, so there would be two
+// mechanisms instead of one.)
 
 import (
 	"context"
@@ -45,8 +52,8 @@ type tableDef struct {
 
 // defineTable records a table-valued function for registration.
 func defineTable(t tableDef) {
-	mu.Lock()
-	defer mu.Unlock()
+	registryMu.Lock()
+	defer registryMu.Unlock()
 	if registered {
 		panic("sqlfuncs: defineTable after Register: " + t.doc.Name)
 	}
@@ -70,8 +77,8 @@ func registerTables() error {
 
 // tableNames returns the names of the table-valued functions, sorted.
 func tableNames() []string {
-	mu.Lock()
-	defer mu.Unlock()
+	registryMu.Lock()
+	defer registryMu.Unlock()
 	names := make([]string, 0, len(tables))
 	for name := range tables {
 		names = append(names, name)

@@ -47,14 +47,6 @@ func insertObs(tb testing.TB, db *sql.DB, g int, t []any, y []any) {
 	}
 }
 
-func floatsToAny(v []float64) []any {
-	out := make([]any, len(v))
-	for i, x := range v {
-		out[i] = x
-	}
-	return out
-}
-
 // The reference file's layout is described once, in trendref.
 type sqlRefCase = trendref.Trend
 

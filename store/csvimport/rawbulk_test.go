@@ -24,7 +24,7 @@ import (
 
 	sqlite3 "modernc.org/sqlite/lib"
 
-	"trendsql/sqlfuncs"
+	"trendsql/sqlfuncs/rawsqlite"
 	"trendsql/store"
 	"trendsql/store/storetest"
 )
@@ -32,7 +32,7 @@ import (
 // rawOff reports whether the environment disables the C-level paths; the
 // writer must then fall back to database/sql.
 func rawOff() bool {
-	return strings.EqualFold(os.Getenv(sqlfuncs.FastPathEnv), "off")
+	return strings.EqualFold(os.Getenv(rawsqlite.EnvVar), "off")
 }
 
 // rawSetup opens a store with three series and returns their ids.
@@ -90,14 +90,11 @@ func rawStmtCount(t *testing.T, conn *sql.Conn) int {
 	t.Helper()
 	n := -1
 	if err := conn.Raw(func(dc any) error {
-		db, tls, err := sqlfuncs.RawConn(dc)
+		handle, err := rawsqlite.ConnOf(dc)
 		if err != nil {
 			return nil
 		}
-		n = 0
-		for p := sqlite3.Xsqlite3_next_stmt(tls, db, 0); p != 0; p = sqlite3.Xsqlite3_next_stmt(tls, db, p) {
-			n++
-		}
+		n = handle.OpenStatements()
 		return nil
 	}); err != nil {
 		t.Fatal(err)
@@ -258,7 +255,7 @@ func TestRawWriterMatchesDatabaseSQL(t *testing.T) {
 				t.Fatalf("errors: C-level %v, database/sql %v", a.err, b.err)
 			}
 			if a.usedRaw == rawOff() {
-				t.Fatalf("C-level writer in use: %v, with %s=%q", a.usedRaw, sqlfuncs.FastPathEnv, os.Getenv(sqlfuncs.FastPathEnv))
+				t.Fatalf("C-level writer in use: %v, with %s=%q", a.usedRaw, rawsqlite.EnvVar, os.Getenv(rawsqlite.EnvVar))
 			}
 			if a.usedRaw {
 				if got := rawInsertStats.batches.Load() - batches; got != 3 {
@@ -336,7 +333,7 @@ func TestRawWriterDuplicateError(t *testing.T) {
 
 func TestRawWriterRefusesWithoutTransaction(t *testing.T) {
 	if rawOff() {
-		t.Skip(sqlfuncs.FastPathEnv + "=off: no C-level writer")
+		t.Skip(rawsqlite.EnvVar + "=off: no C-level writer")
 	}
 	ctx := context.Background()
 	s, ids := rawSetup(t)
@@ -475,7 +472,7 @@ func TestRawImportMatchesDatabaseSQL(t *testing.T) {
 				}
 			}
 			if got := rawInsertStats.batches.Load() - batches; rawOff() && got != 0 || !rawOff() && got < 3 {
-				t.Errorf("%d batches went through the C API (%s=%q)", got, sqlfuncs.FastPathEnv, os.Getenv(sqlfuncs.FastPathEnv))
+				t.Errorf("%d batches went through the C API (%s=%q)", got, rawsqlite.EnvVar, os.Getenv(rawsqlite.EnvVar))
 			}
 			if a, b := rawImportState(t, sRaw), rawImportState(t, sSQL); a != b {
 				t.Errorf("stores differ after the imports")
