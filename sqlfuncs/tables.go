@@ -243,7 +243,7 @@ type tfCursor struct {
 func (c *tfCursor) Filter(idxNum int, idxStr string, vals []vtab.Value) (err error) {
 	defer recoverInto(c.def.doc.Name, &err)
 	if idxNum != (1<<c.def.nargs)-1 {
-		return fmt.Errorf("%s: every argument must be given, as in %s", c.def.doc.Name, c.def.doc.Signature)
+		return tableArgsMissing(c.def)
 	}
 	c.args = make([]driver.Value, len(vals))
 	for i, v := range vals {

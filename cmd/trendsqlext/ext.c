@@ -1,0 +1,527 @@
+//go:build cgo && trendsqlext
+
+/* The SQLite side of the trendsql loadable extension: the entry point, the
+ * per-row aggregate callbacks that buffer rows in C, and the eponymous
+ * virtual table behind the table-valued functions. The functions
+ * themselves run in Go (ext.go), called once per value an aggregate
+ * returns, once per scalar call and once per table scan. */
+
+#include "ext.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+SQLITE_EXTENSION_INIT1
+
+/* ---- entry point ---- */
+
+#ifdef _WIN32
+__declspec(dllexport)
+#endif
+int sqlite3_trendsql_init(sqlite3 *db, char **pzErrMsg, const sqlite3_api_routines *pApi) {
+  SQLITE_EXTENSION_INIT2(pApi);
+  if (sqlite3_libversion_number() < EXT_MIN_SQLITE) {
+    if (pzErrMsg) {
+      *pzErrMsg = sqlite3_mprintf(
+          "trendsql: this SQLite is %s; the extension needs 3.25.0 or later (window functions)",
+          sqlite3_libversion());
+    }
+    return SQLITE_ERROR;
+  }
+  return trendsqlGoRegister(db, pzErrMsg);
+}
+
+const char *ext_db_errmsg(sqlite3 *db) { return sqlite3_errmsg(db); }
+
+void ext_set_errmsg_owned(char **pz, char *msg) {
+  if (pz) *pz = msg ? sqlite3_mprintf("%s", msg) : 0;
+  free(msg);
+}
+
+/* ---- registration tables (allocated once, never freed: the library stays
+ * loaded for the life of the process) ---- */
+
+ext_func *ext_funcs_new(int n) { return (ext_func *)calloc((size_t)(n > 0 ? n : 1), sizeof(ext_func)); }
+
+void ext_func_set(ext_func *f, int i, int index, int numbers, int first_boxed) {
+  f[i].index = index;
+  f[i].numbers = numbers;
+  f[i].first_boxed = first_boxed;
+}
+
+ext_table *ext_table_new(int index, int ncols, int nargs, const char *schema) {
+  ext_table *t = (ext_table *)calloc(1, sizeof(ext_table));
+  if (t) {
+    t->index = index;
+    t->ncols = ncols;
+    t->nargs = nargs;
+    t->schema = schema;
+  }
+  return t;
+}
+
+/* ---- argument and result helpers for Go ---- */
+
+int ext_arg_type(sqlite3_value **argv, int i) { return sqlite3_value_type(argv[i]); }
+sqlite3_int64 ext_arg_int64(sqlite3_value **argv, int i) { return sqlite3_value_int64(argv[i]); }
+double ext_arg_double(sqlite3_value **argv, int i) { return sqlite3_value_double(argv[i]); }
+
+const char *ext_arg_text(sqlite3_value **argv, int i, int *len) {
+  const char *p = (const char *)sqlite3_value_text(argv[i]);
+  *len = sqlite3_value_bytes(argv[i]);
+  return p;
+}
+
+const void *ext_arg_blob(sqlite3_value **argv, int i, int *len) {
+  const void *p = sqlite3_value_blob(argv[i]);
+  *len = sqlite3_value_bytes(argv[i]);
+  return p;
+}
+
+void ext_result_null(sqlite3_context *ctx) { sqlite3_result_null(ctx); }
+void ext_result_int64(sqlite3_context *ctx, sqlite3_int64 v) { sqlite3_result_int64(ctx, v); }
+void ext_result_double(sqlite3_context *ctx, double v) { sqlite3_result_double(ctx, v); }
+
+void ext_result_text_owned(sqlite3_context *ctx, char *p, int n) {
+  if (!p) {
+    sqlite3_result_error_nomem(ctx);
+    return;
+  }
+  sqlite3_result_text(ctx, p, n, free);
+}
+
+void ext_result_blob_owned(sqlite3_context *ctx, void *p, int n) {
+  if (n == 0) {
+    free(p);
+    sqlite3_result_zeroblob(ctx, 0);
+    return;
+  }
+  if (!p) {
+    sqlite3_result_error_nomem(ctx);
+    return;
+  }
+  sqlite3_result_blob(ctx, p, n, free);
+}
+
+void ext_result_error_owned(sqlite3_context *ctx, char *msg) {
+  if (!msg) {
+    sqlite3_result_error_nomem(ctx);
+    return;
+  }
+  sqlite3_result_error(ctx, msg, -1);
+  free(msg);
+}
+
+/* ---- scalars ---- */
+
+static void ext_scalar(sqlite3_context *ctx, int argc, sqlite3_value **argv) {
+  ext_func *f = (ext_func *)sqlite3_user_data(ctx);
+  trendsqlGoScalar(ctx, f->index, argc, argv);
+}
+
+int ext_register_scalar(sqlite3 *db, const char *name, int nargs, ext_func *f, int i) {
+  return sqlite3_create_function_v2(db, name, nargs, SQLITE_UTF8 | SQLITE_DETERMINISTIC, &f[i], ext_scalar, 0, 0, 0);
+}
+
+/* ---- aggregates: the row log ---- */
+
+#define EXT_BLOCK (1u << 20)
+
+static unsigned char *log_reserve(ext_agg *a, size_t n) {
+  ext_blk *b = a->tail;
+  if (!b || b->len + n > b->cap) {
+    size_t cap = n > EXT_BLOCK ? n : EXT_BLOCK;
+    ext_blk *nb = (ext_blk *)sqlite3_malloc64(sizeof(ext_blk) + cap);
+    if (!nb) return 0;
+    nb->next = 0;
+    nb->len = 0;
+    nb->cap = cap;
+    nb->data = (unsigned char *)(nb + 1);
+    if (b) {
+      b->next = nb;
+    } else {
+      a->head = nb;
+    }
+    a->tail = nb;
+    b = nb;
+  }
+  unsigned char *p = b->data + b->len;
+  b->len += n;
+  return p;
+}
+
+void *ext_log_first(ext_agg *a, int *len) {
+  if (!a || !a->head) return 0;
+  *len = (int)a->head->len;
+  return a->head->data;
+}
+
+void ext_log_drop_first(ext_agg *a) {
+  ext_blk *b = a->head;
+  if (!b) return;
+  a->head = b->next;
+  if (!a->head) a->tail = 0;
+  sqlite3_free(b);
+}
+
+static void log_clear(ext_agg *a) {
+  while (a->head) ext_log_drop_first(a);
+}
+
+static size_t value_size(sqlite3_value *v) {
+  switch (sqlite3_value_type(v)) {
+    case SQLITE_INTEGER:
+    case SQLITE_FLOAT:
+      return 1 + 8;
+    case SQLITE_TEXT:
+      (void)sqlite3_value_text(v);
+      return 1 + 4 + (size_t)sqlite3_value_bytes(v);
+    case SQLITE_BLOB:
+      (void)sqlite3_value_blob(v);
+      return 1 + 4 + (size_t)sqlite3_value_bytes(v);
+    default:
+      return 1;
+  }
+}
+
+static unsigned char *put_value(unsigned char *p, sqlite3_value *v) {
+  int t = sqlite3_value_type(v);
+  *p++ = (unsigned char)t;
+  switch (t) {
+    case SQLITE_INTEGER: {
+      sqlite3_int64 x = sqlite3_value_int64(v);
+      memcpy(p, &x, 8);
+      return p + 8;
+    }
+    case SQLITE_FLOAT: {
+      double x = sqlite3_value_double(v);
+      memcpy(p, &x, 8);
+      return p + 8;
+    }
+    case SQLITE_TEXT:
+    case SQLITE_BLOB: {
+      const void *d = t == SQLITE_TEXT ? (const void *)sqlite3_value_text(v) : sqlite3_value_blob(v);
+      uint32_t n = (uint32_t)sqlite3_value_bytes(v);
+      memcpy(p, &n, 4);
+      if (n) memcpy(p + 4, d, n);
+      return p + 4 + n;
+    }
+    default:
+      return p;
+  }
+}
+
+/* same_value says whether two values are equal in SQL type and value. */
+static int same_value(sqlite3_value *a, sqlite3_value *b) {
+  int t = sqlite3_value_type(a);
+  if (t != sqlite3_value_type(b)) return 0;
+  switch (t) {
+    case SQLITE_INTEGER:
+      return sqlite3_value_int64(a) == sqlite3_value_int64(b);
+    case SQLITE_FLOAT:
+      return sqlite3_value_double(a) == sqlite3_value_double(b);
+    case SQLITE_TEXT:
+    case SQLITE_BLOB: {
+      const void *pa = t == SQLITE_TEXT ? (const void *)sqlite3_value_text(a) : sqlite3_value_blob(a);
+      const void *pb = t == SQLITE_TEXT ? (const void *)sqlite3_value_text(b) : sqlite3_value_blob(b);
+      int na = sqlite3_value_bytes(a), nb = sqlite3_value_bytes(b);
+      return na == nb && (na == 0 || memcmp(pa, pb, (size_t)na) == 0);
+    }
+    default:
+      return 1;
+  }
+}
+
+static void agg_row(sqlite3_context *ctx, int argc, sqlite3_value **argv, int inverse) {
+  ext_func *f = (ext_func *)sqlite3_user_data(ctx);
+  ext_agg *a = (ext_agg *)sqlite3_aggregate_context(ctx, sizeof(ext_agg));
+  if (!a) {
+    sqlite3_result_error_nomem(ctx);
+    return;
+  }
+  int k = f->numbers;
+  /* A row of plain numbers: the leading k arguments are finite INTEGER or
+   * REAL values or NULL, and (when the first row is logged as values) the
+   * rest equal that first row's. */
+  if (k > 0 && argc >= k && (!f->first_boxed || (a->started && argc == a->argc0))) {
+    double v[8];
+    int ok = k <= 8, null = 0;
+    for (int i = 0; ok && i < k; i++) {
+      switch (sqlite3_value_type(argv[i])) {
+        case SQLITE_INTEGER:
+          v[i] = (double)sqlite3_value_int64(argv[i]);
+          break;
+        case SQLITE_FLOAT:
+          v[i] = sqlite3_value_double(argv[i]);
+          ok = isfinite(v[i]);
+          break;
+        case SQLITE_NULL:
+          null = 1;
+          break;
+        default:
+          ok = 0;
+      }
+    }
+    if (ok && f->first_boxed) {
+      for (int j = k; ok && j < argc; j++) ok = same_value(argv[j], a->opts[j - k]);
+    }
+    if (ok && null && (f->first_boxed || k == argc)) {
+      /* Every aggregate that takes numbers skips a row with a NULL
+       * value once its time and other values are valid. A NULL time is
+       * an error: leave that row to Go. */
+      if (!f->first_boxed || sqlite3_value_type(argv[0]) != SQLITE_NULL) return;
+      ok = 0;
+    }
+    if (ok) {
+      unsigned char *p = log_reserve(a, 1 + 8 * (size_t)k);
+      if (!p) {
+        sqlite3_result_error_nomem(ctx);
+        return;
+      }
+      *p++ = inverse ? EXT_INVERSE_NUMBERS : EXT_STEP_NUMBERS;
+      memcpy(p, v, 8 * (size_t)k);
+      return;
+    }
+  }
+  if (f->first_boxed && !a->started && !inverse) {
+    a->started = 1;
+    a->argc0 = argc;
+    if (argc > k && k > 0) {
+      a->opts = (sqlite3_value **)sqlite3_malloc64(sizeof(sqlite3_value *) * (size_t)(argc - k));
+      if (!a->opts) {
+        sqlite3_result_error_nomem(ctx);
+        return;
+      }
+      a->nopts = argc - k;
+      for (int j = 0; j < a->nopts; j++) {
+        a->opts[j] = sqlite3_value_dup(argv[k + j]);
+        if (!a->opts[j]) {
+          a->nopts = j;
+          a->argc0 = -1; /* no row of plain numbers in this group */
+          break;
+        }
+      }
+    }
+  }
+  size_t n = 1 + 4;
+  for (int i = 0; i < argc; i++) n += value_size(argv[i]);
+  unsigned char *p = log_reserve(a, n);
+  if (!p) {
+    sqlite3_result_error_nomem(ctx);
+    return;
+  }
+  *p++ = inverse ? EXT_INVERSE_VALUES : EXT_STEP_VALUES;
+  uint32_t c = (uint32_t)argc;
+  memcpy(p, &c, 4);
+  p += 4;
+  for (int i = 0; i < argc; i++) p = put_value(p, argv[i]);
+}
+
+static void agg_step(sqlite3_context *ctx, int argc, sqlite3_value **argv) { agg_row(ctx, argc, argv, 0); }
+static void agg_inverse(sqlite3_context *ctx, int argc, sqlite3_value **argv) { agg_row(ctx, argc, argv, 1); }
+
+static void agg_result(sqlite3_context *ctx, int final) {
+  ext_func *f = (ext_func *)sqlite3_user_data(ctx);
+  ext_agg *a = (ext_agg *)sqlite3_aggregate_context(ctx, 0);
+  trendsqlGoAggResult(ctx, f->index, a, final);
+  if (!a) return;
+  log_clear(a);
+  if (final) {
+    if (a->group) trendsqlGoAggRelease(a->group);
+    a->group = 0;
+    for (int j = 0; j < a->nopts; j++) sqlite3_value_free(a->opts[j]);
+    sqlite3_free(a->opts);
+    a->opts = 0;
+    a->nopts = 0;
+  }
+}
+
+static void agg_value(sqlite3_context *ctx) { agg_result(ctx, 0); }
+static void agg_final(sqlite3_context *ctx) { agg_result(ctx, 1); }
+
+int ext_register_aggregate(sqlite3 *db, const char *name, int nargs, ext_func *f, int i) {
+  return sqlite3_create_window_function(db, name, nargs, SQLITE_UTF8 | SQLITE_DETERMINISTIC, &f[i], agg_step,
+                                        agg_final, agg_value, agg_inverse, 0);
+}
+
+/* ---- table-valued functions: an eponymous-only virtual table whose
+ * arguments are HIDDEN columns constrained with "=" ---- */
+
+typedef struct tv_vtab {
+  sqlite3_vtab base;
+  ext_table *t;
+} tv_vtab;
+
+typedef struct tv_cursor {
+  sqlite3_vtab_cursor base;
+  uintptr_t rows; /* Go handle of the rows, 0 = none */
+  int nrows, i;
+  sqlite3_value **args; /* copies of the argument values */
+  int nargs;
+} tv_cursor;
+
+static int tv_connect(sqlite3 *db, void *aux, int argc, const char *const *argv, sqlite3_vtab **pp, char **err) {
+  ext_table *t = (ext_table *)aux;
+  (void)argc;
+  (void)argv;
+  int rc = sqlite3_declare_vtab(db, t->schema);
+  if (rc != SQLITE_OK) {
+    *err = sqlite3_mprintf("%s", sqlite3_errmsg(db));
+    return rc;
+  }
+  tv_vtab *v = (tv_vtab *)sqlite3_malloc(sizeof(tv_vtab));
+  if (!v) return SQLITE_NOMEM;
+  memset(v, 0, sizeof *v);
+  v->t = t;
+  *pp = &v->base;
+  return SQLITE_OK;
+}
+
+static int tv_disconnect(sqlite3_vtab *vt) {
+  sqlite3_free(vt);
+  return SQLITE_OK;
+}
+
+/* Every argument column needs a usable "=" constraint; a plan without one
+ * is made very expensive so that SQLite picks one that binds them, and
+ * xFilter reports the missing arguments if none exists. */
+static int tv_best_index(sqlite3_vtab *vt, sqlite3_index_info *info) {
+  ext_table *t = ((tv_vtab *)vt)->t;
+  int have[32];
+  int nargs = t->nargs < 32 ? t->nargs : 32;
+  for (int a = 0; a < nargs; a++) have[a] = -1;
+  for (int i = 0; i < info->nConstraint; i++) {
+    const struct sqlite3_index_constraint *c = &info->aConstraint[i];
+    int arg = c->iColumn - t->ncols;
+    if (arg < 0 || arg >= nargs || c->op != SQLITE_INDEX_CONSTRAINT_EQ || !c->usable) continue;
+    have[arg] = i;
+  }
+  int mask = 0;
+  for (int a = 0; a < nargs; a++) {
+    if (have[a] >= 0) mask |= 1 << a;
+  }
+  info->idxNum = mask;
+  if (mask != (1 << nargs) - 1) {
+    info->estimatedCost = 1e30;
+    return SQLITE_OK;
+  }
+  for (int a = 0; a < nargs; a++) {
+    info->aConstraintUsage[have[a]].argvIndex = a + 1;
+    info->aConstraintUsage[have[a]].omit = 1;
+  }
+  info->estimatedCost = 10;
+  info->estimatedRows = 50;
+  return SQLITE_OK;
+}
+
+static int tv_open(sqlite3_vtab *vt, sqlite3_vtab_cursor **pp) {
+  tv_cursor *c = (tv_cursor *)sqlite3_malloc(sizeof(tv_cursor));
+  (void)vt;
+  if (!c) return SQLITE_NOMEM;
+  memset(c, 0, sizeof *c);
+  *pp = &c->base;
+  return SQLITE_OK;
+}
+
+static void tv_reset(tv_cursor *c) {
+  if (c->rows) trendsqlGoTableRelease(c->rows);
+  c->rows = 0;
+  c->nrows = 0;
+  c->i = 0;
+  for (int j = 0; j < c->nargs; j++) sqlite3_value_free(c->args[j]);
+  sqlite3_free(c->args);
+  c->args = 0;
+  c->nargs = 0;
+}
+
+static int tv_close(sqlite3_vtab_cursor *cur) {
+  tv_reset((tv_cursor *)cur);
+  sqlite3_free(cur);
+  return SQLITE_OK;
+}
+
+static int popcount(int m) {
+  int n = 0;
+  for (; m; m &= m - 1) n++;
+  return n;
+}
+
+static int tv_filter(sqlite3_vtab_cursor *cur, int idxNum, const char *idxStr, int argc, sqlite3_value **argv) {
+  tv_cursor *c = (tv_cursor *)cur;
+  ext_table *t = ((tv_vtab *)cur->pVtab)->t;
+  (void)idxStr;
+  tv_reset(c);
+  int given = popcount(idxNum);
+  if (argc > 0) {
+    c->args = (sqlite3_value **)sqlite3_malloc64(sizeof(sqlite3_value *) * (size_t)argc);
+    if (!c->args) return SQLITE_NOMEM;
+    for (int j = 0; j < argc; j++) {
+      c->args[j] = sqlite3_value_dup(argv[j]);
+      if (!c->args[j]) {
+        c->nargs = j;
+        return SQLITE_NOMEM;
+      }
+    }
+    c->nargs = argc;
+  }
+  char *err = trendsqlGoTableFilter(t->index, given, argc, argv, &c->rows, &c->nrows);
+  if (err) {
+    sqlite3_free(cur->pVtab->zErrMsg);
+    cur->pVtab->zErrMsg = sqlite3_mprintf("%s", err);
+    free(err);
+    return SQLITE_ERROR;
+  }
+  return SQLITE_OK;
+}
+
+static int tv_next(sqlite3_vtab_cursor *cur) {
+  ((tv_cursor *)cur)->i++;
+  return SQLITE_OK;
+}
+
+static int tv_eof(sqlite3_vtab_cursor *cur) {
+  tv_cursor *c = (tv_cursor *)cur;
+  return c->i >= c->nrows;
+}
+
+static int tv_column(sqlite3_vtab_cursor *cur, sqlite3_context *ctx, int col) {
+  tv_cursor *c = (tv_cursor *)cur;
+  ext_table *t = ((tv_vtab *)cur->pVtab)->t;
+  if (col >= t->ncols) {
+    int j = col - t->ncols;
+    if (j < c->nargs) {
+      sqlite3_result_value(ctx, c->args[j]);
+    } else {
+      sqlite3_result_null(ctx);
+    }
+    return SQLITE_OK;
+  }
+  trendsqlGoTableColumn(ctx, c->rows, c->i, col);
+  return SQLITE_OK;
+}
+
+static int tv_rowid(sqlite3_vtab_cursor *cur, sqlite3_int64 *rowid) {
+  *rowid = ((tv_cursor *)cur)->i + 1;
+  return SQLITE_OK;
+}
+
+static sqlite3_module tv_module = {
+    0,             /* iVersion */
+    0,             /* xCreate: none, so the table is eponymous-only */
+    tv_connect,    /* xConnect */
+    tv_best_index, /* xBestIndex */
+    tv_disconnect, /* xDisconnect */
+    tv_disconnect, /* xDestroy */
+    tv_open,       /* xOpen */
+    tv_close,      /* xClose */
+    tv_filter,     /* xFilter */
+    tv_next,       /* xNext */
+    tv_eof,        /* xEof */
+    tv_column,     /* xColumn */
+    tv_rowid,      /* xRowid */
+};
+
+int ext_register_table(sqlite3 *db, const char *name, ext_table *t) {
+  return sqlite3_create_module_v2(db, name, &tv_module, t, 0);
+}
