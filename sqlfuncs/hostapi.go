@@ -9,7 +9,8 @@ package sqlfuncs
 // binary's driver runs — the same argument checks, conversions, sorting,
 // tie and NULL rules, option parsing, JSON and error messages — because it
 // is that code: scalars call the registered scalar, aggregates drive the
-// same seriesAgg or running state the driver's callbacks drive, and the
+// same aggregate object (made by the same constructor) the driver's
+// callbacks drive, and the
 // table-valued functions call the same row producer.
 //
 // Aggregates. A host may buffer a group's rows and hand them over only when
@@ -92,9 +93,8 @@ func HostFunctions() ([]HostFunction, error) {
 				if _, ok := a.st.(*regrFunc); ok {
 					f.Numbers = 2
 				}
-			default:
-				return nil, fmt.Errorf("%s: aggregate of unknown type %T", d.doc.Name, agg)
 			}
+			agg.Final(nil)
 		default:
 			return nil, fmt.Errorf("%s: neither scalar nor aggregate", d.doc.Name)
 		}
@@ -143,9 +143,9 @@ func tableArgsMissing(t tableDef) error {
 // from one thread at a time.
 type HostGroup struct {
 	name   string
-	series *seriesAgg
-	stream *streamAgg
-	regr   *regrFunc // the stream's state when it is a regression aggregate
+	agg    sqlite.AggregateFunction
+	series *seriesAgg // agg, when it is a series aggregate
+	regr   *regrFunc  // agg's state, when it is a regression aggregate
 	boxed  []driver.Value
 }
 
@@ -159,34 +159,27 @@ func (f *HostFunction) NewGroup() (g *HostGroup, err error) {
 	if err != nil {
 		return nil, err
 	}
-	g = &HostGroup{name: f.Doc.Name}
+	g = &HostGroup{name: f.Doc.Name, agg: agg}
 	switch a := agg.(type) {
 	case *seriesAgg:
 		g.series = a
 	case *streamAgg:
-		g.stream = a
 		g.regr, _ = a.st.(*regrFunc)
-	default:
-		return nil, fmt.Errorf("%s: internal error: aggregate of type %T", f.Doc.Name, agg)
 	}
 	return g, nil
 }
 
 // Step adds one row, as the driver's xStep does.
-func (g *HostGroup) Step(args []driver.Value) error {
-	if g.series != nil {
-		return g.series.Step(nil, args)
-	}
-	return g.stream.Step(nil, args)
+func (g *HostGroup) Step(args []driver.Value) (err error) {
+	defer recoverInto(g.name, &err)
+	return g.agg.Step(nil, args)
 }
 
 // Inverse removes the oldest row of a window frame, as the driver's
 // xInverse does; args are that row's arguments.
-func (g *HostGroup) Inverse(args []driver.Value) error {
-	if g.series != nil {
-		return g.series.WindowInverse(nil, args)
-	}
-	return g.stream.WindowInverse(nil, args)
+func (g *HostGroup) Inverse(args []driver.Value) (err error) {
+	defer recoverInto(g.name, &err)
+	return g.agg.WindowInverse(nil, args)
 }
 
 // StepNumbers adds a row whose first Numbers arguments are the finite
@@ -247,16 +240,14 @@ func (g *HostGroup) InverseNumbers(v []float64) (err error) {
 
 // Value returns the aggregate's value over the rows added and not removed:
 // nil (SQL NULL), int64, float64, string or []byte.
-func (g *HostGroup) Value() (driver.Value, error) {
-	if g.series != nil {
-		return g.series.WindowValue(nil)
-	}
-	return g.stream.WindowValue(nil)
+func (g *HostGroup) Value() (v driver.Value, err error) {
+	defer recoverInto(g.name, &err)
+	return g.agg.WindowValue(nil)
 }
 
-// Close releases the group's buffers; the group must not be used again.
+// Close ends the group as the driver's xFinal does (releasing its buffers);
+// the group must not be used again.
 func (g *HostGroup) Close() {
-	if g.series != nil {
-		g.series.recycle()
-	}
+	defer func() { _ = recover() }()
+	g.agg.Final(nil)
 }

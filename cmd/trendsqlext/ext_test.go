@@ -489,6 +489,12 @@ var misuse = []string{
 	 FROM v WINDOW w AS (ORDER BY rowid ROWS BETWEEN 2 PRECEDING AND CURRENT ROW)`,
 	`WITH v(t, y) AS (VALUES (1, 1.0), (2, 2.0), (3, 'x'), (4, 4.0))
 	 SELECT trend_slope(t, y) OVER (ORDER BY t ROWS BETWEEN 1 PRECEDING AND 1 PRECEDING) FROM v`,
+	// censored values: marks, NULL marks, a bad mark, a window
+	`WITH v(t, y, m) AS (VALUES (1, 1.0, '<'), (2, 2.0, NULL), (3, 1.0, '<'), (4, 3.0, ''), (5, 4.0, 0))
+	 SELECT censored_mann_kendall(t, y, m), censored_sen_slope(t, y, m) FROM v`,
+	`WITH v(t, y, m) AS (VALUES (1, 1.0, '<'), (2, 2.0, '?')) SELECT censored_mann_kendall(t, y, m) FROM v`,
+	`WITH v(t, y, m) AS (VALUES (1, 1.0, '<'), (2, 2.0, NULL), (3, NULL, '<'), (4, 3.0, '>'), (5, 4.0, -1))
+	 SELECT t, censored_mann_kendall(t, y, m) OVER (ORDER BY t ROWS BETWEEN 2 PRECEDING AND CURRENT ROW) FROM v`,
 	// table-valued function
 	`SELECT * FROM correlogram_rows`,
 	`SELECT * FROM correlogram_rows('x')`,
