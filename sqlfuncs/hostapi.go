@@ -71,8 +71,8 @@ type HostFunction struct {
 // HostFunctions returns every function the binary registers (including the
 // Internal ones its own commands use), sorted by name.
 func HostFunctions() ([]HostFunction, error) {
-	mu.Lock()
-	defer mu.Unlock()
+	registryMu.Lock()
+	defer registryMu.Unlock()
 	out := make([]HostFunction, 0, len(definitions)+len(tables))
 	for _, d := range definitions {
 		f := HostFunction{Doc: d.doc, NArgs: int(d.impl.NArgs), impl: d.impl}
