@@ -3,7 +3,6 @@ package store
 import (
 	"context"
 	"database/sql"
-	"fmt"
 )
 
 // Querier is what catalog queries run on: a *sql.DB, *sql.Conn or *sql.Tx.
@@ -33,10 +32,7 @@ WHERE name = ? COLLATE NOCASE AND (? = '' OR schema = ? COLLATE NOCASE)`, table,
 		return nil, err
 	}
 	if n == 0 {
-		if schema != "" {
-			return nil, fmt.Errorf("no table or view named %q in schema %q", table, schema)
-		}
-		return nil, fmt.Errorf("no table or view named %q", table)
+		return nil, &tableError{table: table, schema: schema}
 	}
 	if schema == "" {
 		return q.QueryContext(ctx, columnsSQL+"(?) ORDER BY cid", table)

@@ -7,7 +7,6 @@ package store
 import (
 	"context"
 	"database/sql"
-	"errors"
 	"fmt"
 	"net/url"
 	"os"
@@ -19,7 +18,8 @@ import (
 	"trendsql/sqlfuncs"
 )
 
-// DefaultPath is the store used when neither --db nor TRENDSQL_DB is given.
+// DefaultPath is the store used when no path is given and TRENDSQL_DB is
+// unset.
 const DefaultPath = "readings.db"
 
 // EnvDB names the environment variable that selects the store.
@@ -28,14 +28,11 @@ const EnvDB = "TRENDSQL_DB"
 // BusyTimeout is how long a connection waits for another writer.
 const BusyTimeout = 10 * time.Second
 
-// ErrNoStore is returned when a read-only open finds no store file.
-var ErrNoStore = errors.New("no store at this path (create one with `trendsql init` or `trendsql demo`)")
-
-// ResolvePath picks the store path: the flag value, else $TRENDSQL_DB, else
+// ResolvePath picks the store path: the given one, else $TRENDSQL_DB, else
 // ./readings.db.
-func ResolvePath(flag string) string {
-	if flag != "" {
-		return flag
+func ResolvePath(given string) string {
+	if given != "" {
+		return given
 	}
 	if env := os.Getenv(EnvDB); env != "" {
 		return env
@@ -107,7 +104,7 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 		}
 		if cur < latest {
 			db.Close()
-			return nil, fmt.Errorf("open %s: store schema is version %d, this trendsql needs %d: run `trendsql init --db %s` to migrate", path, cur, latest, path)
+			return nil, &SchemaError{Path: path, Current: cur, Latest: latest}
 		}
 	}
 	return s, nil

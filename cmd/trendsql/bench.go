@@ -95,12 +95,13 @@ func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
 		dir, tmp = d, true
 	}
 	opts := benchmark.Options{
-		Data:        benchmark.Data{Series: o.stations, PerSeries: o.readings, Seed: o.seed},
-		Dir:         dir,
-		Reps:        o.reps,
-		ItemTimeout: o.timeout,
-		Direct:      o.direct,
-		Summarize:   benchAnalyzer,
+		Data:         benchmark.Data{Series: o.stations, PerSeries: o.readings, Seed: o.seed},
+		Dir:          dir,
+		Reps:         o.reps,
+		ItemTimeout:  o.timeout,
+		Direct:       o.direct,
+		Summarize:    benchAnalyzer,
+		OnInsertPath: importGC,
 	}
 	if !o.quiet {
 		opts.Log = e.errw

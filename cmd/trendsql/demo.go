@@ -42,7 +42,7 @@ store is never replaced.`,
 			began := time.Now()
 			sum, err := demodata.Create(cmd.Context(), path, demodata.Options{Seed: seed}, force)
 			if err != nil {
-				return err
+				return wordDemoError(err)
 			}
 			fmt.Fprintf(e.errw, "demo store %s: %d stations (%s), %d series, %d readings, built in %.1fs\n",
 				path, sum.Stations, byType(sum.StationsByType), sum.Series, sum.Readings, time.Since(began).Seconds())

@@ -48,7 +48,8 @@ type env struct {
 func (e *env) dbPath() string { return store.ResolvePath(e.dbFlag) }
 
 func (e *env) open(ctx context.Context, readOnly bool) (*store.Store, error) {
-	return store.Open(ctx, e.dbPath(), store.Options{ReadOnly: readOnly})
+	s, err := store.Open(ctx, e.dbPath(), store.Options{ReadOnly: readOnly})
+	return s, wordOpenError(err)
 }
 
 // Main runs the CLI and returns the process exit code.

@@ -149,6 +149,7 @@ func runSummarize(cmd *cobra.Command, e *env, o summarizeOptions) error {
 	if bar != nil {
 		bar.Finish()
 	}
+	err = wordSummarizeError(err)
 	switch {
 	case errors.Is(err, summaries.ErrBusy):
 		return &exitError{code: ExitNothing, err: err}

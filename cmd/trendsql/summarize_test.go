@@ -168,6 +168,35 @@ func waitRunning(t *testing.T, db *sql.DB, r *bgRun, after int64) int64 {
 	}
 }
 
+// waitLockOpen polls until the process of r holds the store's summarize
+// lock file open (a link in /proc/PID/fd), which it opens only after its
+// interrupt handler is installed and just before it tries the lock. It
+// fails if the process ends first, and skips where /proc is missing.
+func waitLockOpen(t *testing.T, r *bgRun, db string) {
+	t.Helper()
+	real, err := filepath.EvalSymlinks(db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	lock := real + ".summarize-lock"
+	fdDir := fmt.Sprintf("/proc/%d/fd", r.cmd.Process.Pid)
+	if _, err := os.Stat("/proc/self/fd"); err != nil {
+		t.Skip("no /proc: cannot tell when the process reaches the lock")
+	}
+	for {
+		fds, _ := os.ReadDir(fdDir)
+		for _, fd := range fds {
+			if target, err := os.Readlink(filepath.Join(fdDir, fd.Name())); err == nil && target == lock {
+				return
+			}
+		}
+		if r.ended() {
+			t.Fatalf("summarize ended (%v) before it opened the lock file:\n%s", r.err, r.stderr.String())
+		}
+		time.Sleep(5 * time.Millisecond)
+	}
+}
+
 func exitCode(err error) int {
 	if ee, ok := err.(*exec.ExitError); ok {
 		return ee.ExitCode()
@@ -505,7 +534,7 @@ func TestSummarizeLock(t *testing.T) {
 	// Ctrl-C while waiting ends the waiting process, before the first run
 	// has finished, without a run row.
 	d := startSummarize(t, db, "--period", "1y", "--wait", "--quiet")
-	time.Sleep(100 * time.Millisecond) // let it reach the lock (a signal before that ends it too)
+	waitLockOpen(t, d, db) // its interrupt handler is installed once it reaches the lock
 	if err := d.cmd.Process.Signal(os.Interrupt); err != nil {
 		t.Fatal(err)
 	}

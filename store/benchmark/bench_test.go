@@ -140,7 +140,7 @@ func TestBenchImportAndDirectLoadAgree(t *testing.T) {
 		}
 		return b.String()
 	}
-	a := dump(func(s *store.Store) (int64, error) { return ImportCSV(ctx, s, csv) }, "import.db")
+	a := dump(func(s *store.Store) (int64, error) { return ImportCSV(ctx, s, csv, nil) }, "import.db")
 	b := dump(func(s *store.Store) (int64, error) { return LoadCSV(ctx, s, csv) }, "direct.db")
 	if a != b {
 		t.Fatal("importer and direct loader stored different readings")

@@ -19,10 +19,11 @@ const ImportMethod = "csvimport.ImportReadings (the `trendsql import` path: head
 const DirectMethod = "the bench's own minimal CSV reader + ReadingWriter (500-row multi-VALUES inserts, one transaction; no validation or reject accounting)"
 
 // ImportCSV imports the CSV file written by WriteCSV the way
-// `trendsql import` does, then checkpoints the WAL so the rows are in the
-// main database file. It returns the rows stored.
-func ImportCSV(ctx context.Context, s *store.Store, csvPath string) (int64, error) {
-	res, err := csvimport.ImportReadings(ctx, s, csvPath, csvimport.ReadingsOptions{Variable: Variable, Unit: "m"})
+// `trendsql import` does (onInsertPath as in csvimport.ReadingsOptions; nil
+// for none), then checkpoints the WAL so the rows are in the main database
+// file. It returns the rows stored.
+func ImportCSV(ctx context.Context, s *store.Store, csvPath string, onInsertPath func(cLevel bool) func()) (int64, error) {
+	res, err := csvimport.ImportReadings(ctx, s, csvPath, csvimport.ReadingsOptions{Variable: Variable, Unit: "m", OnInsertPath: onInsertPath})
 	if err != nil {
 		return 0, err
 	}

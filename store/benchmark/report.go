@@ -17,6 +17,10 @@ type Options struct {
 	Direct bool
 	// Summarize, when set, measures a full summary run with this analyzer.
 	Summarize func(t, y []float64, o stats.SummaryOptions) stats.SeriesSummary
+	// OnInsertPath is passed to the measured import (see
+	// csvimport.ReadingsOptions), so the command can tune the process as
+	// `trendsql import` does.
+	OnInsertPath func(cLevel bool) (restore func())
 	// Log receives progress lines (nil: none).
 	Log io.Writer
 }

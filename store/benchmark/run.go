@@ -92,7 +92,7 @@ func Run(ctx context.Context, o Options) (*Report, error) {
 		if err != nil {
 			return err
 		}
-		n, err := ImportCSV(ctx, st, rep.CSV)
+		n, err := ImportCSV(ctx, st, rep.CSV, o.OnInsertPath)
 		if err == nil && n != rep.Rows {
 			err = fmt.Errorf("bench: stored %d rows, generated %d", n, rep.Rows)
 		}

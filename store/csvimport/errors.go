@@ -5,11 +5,42 @@ import (
 	"fmt"
 )
 
+// Errors of the import. An import that stops on a problem of its input file
+// returns an *InputError whose Err, when set, is one of these (errors.Is
+// finds it); the command line adds the wording that names its flags.
+var (
+	// ErrDuplicate: a reading was already stored or appeared earlier in
+	// the file, and the duplicate rule is DupError.
+	ErrDuplicate = errors.New("duplicate reading")
+	// ErrMissingColumn: a column the import needs is not in the header
+	// (InputError.Column names it, MissingColumn says which role).
+	ErrMissingColumn = errors.New("column missing from the header")
+	// ErrNoVariable: a readings file has no variable column and no fixed
+	// variable was given.
+	ErrNoVariable = errors.New("no variable")
+	// ErrOnDuplicate: an unknown duplicate rule (see ParseOnDuplicate).
+	ErrOnDuplicate = errors.New("duplicate rule must be error, keep-first or replace")
+)
+
+// InputError is a problem with the input file that stops the import. Its
 // message names the file and, where there is one, the line.
 type InputError struct {
-	File string
-	Line int // 0 when the problem is not tied to a line
-	Msg  string
+	File   string
+	Line   int    // 0 when the problem is not tied to a line
+	Column string // the header column concerned, "" for none
+	Msg    string
+	// Err is the sentinel the error matches (nil for none).
+	Err error
+	// MissingColumn, with ErrMissingColumn, names what the missing column
+	// was looked up for ("station", "time", "value", "qualifier" or
+	// "variable"); DefaultName says the import looked for the default
+	// name because the caller named no column.
+	MissingColumn string
+	DefaultName   bool
+	// Separator is set when the header read as one column whose name
+	// contains this character, which is then likely the file's field
+	// separator.
+	Separator string
 }
 
 func (e *InputError) Error() string {
@@ -19,11 +50,4 @@ func (e *InputError) Error() string {
 	return fmt.Sprintf("%s: %s", e.File, e.Msg)
 }
 
-// ErrDuplicate is wrapped by the error of an import that found a duplicate
-// under OnDuplicate "error".
-var ErrDuplicate = errors.New("duplicate reading")
-
-// dupError is an InputError that also matches ErrDuplicate.
-type dupError struct{ InputError }
-
-func (e *dupError) Unwrap() error { return ErrDuplicate }
+func (e *InputError) Unwrap() error { return e.Err }

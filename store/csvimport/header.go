@@ -45,21 +45,31 @@ func (h *csvHeader) find(name string) (int, error) {
 	return i, nil
 }
 
+// list quotes the header's column names for a message; a header read as
+// one column that contains a likely separator gets a note saying so.
 func (h *csvHeader) list() string {
 	q := make([]string, len(h.names))
 	for i, n := range h.names {
 		q[i] = strconv.Quote(n)
 	}
 	s := strings.Join(q, ", ")
+	if d := h.separator(); d != "" {
+		s += fmt.Sprintf(" — one column only: are the fields separated by %q?", d)
+	}
+	return s
+}
+
+// separator returns the likely field separator of a header that read as
+// one column containing ";", a tab, "," or "|" (in that order), else "".
+func (h *csvHeader) separator() string {
 	if len(h.names) == 1 {
 		for _, d := range []string{";", "\t", ",", "|"} {
 			if strings.Contains(h.names[0], d) {
-				s += fmt.Sprintf(" — one column only: are the fields separated by %q? (--delimiter)", d)
-				break
+				return d
 			}
 		}
 	}
-	return s
+	return ""
 }
 
 // readHeader reads the header record.

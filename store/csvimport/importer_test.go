@@ -399,7 +399,7 @@ func TestImportDuplicatesWithinFile(t *testing.T) {
 		if !errors.Is(err, ErrDuplicate) {
 			t.Fatalf("err = %v, want a duplicate error", err)
 		}
-		var ie *dupError
+		var ie *InputError
 		if !errors.As(err, &ie) || ie.Line != 6 {
 			t.Errorf("error %v: want line 6", err)
 		}
@@ -629,9 +629,9 @@ func TestImportInputErrorsChangeNothing(t *testing.T) {
 		want []string
 	}{
 		{write("nostation.csv", "site,time,value\nA,2021-01-01,1\n"), ReadingsOptions{Variable: "x"},
-			[]string{"nostation.csv line 1", `no column "station"`, `"site"`, "--station-col"}},
+			[]string{"nostation.csv line 1", `no column "station"`, `"site"`}},
 		{write("semicolon.csv", "station;time;value\nA;2021-01-01;1\n"), ReadingsOptions{Variable: "x"},
-			[]string{"semicolon.csv line 1", `separated by ";"? (--delimiter)`}},
+			[]string{"semicolon.csv line 1", `separated by ";"?`}},
 		{write("blankfirst.csv", "\n\nsite,time,value\n"), ReadingsOptions{Variable: "x"},
 			[]string{"blankfirst.csv line 3", `no column "station"`}},
 		{write("badcol.csv", "station,time,value\nA,2021-01-01,1\n"), ReadingsOptions{Variable: "x", ValueCol: "reading"},
@@ -647,6 +647,18 @@ func TestImportInputErrorsChangeNothing(t *testing.T) {
 		{filepath.Join(dir, "missing.csv"), ReadingsOptions{Variable: "x"}, []string{"missing.csv"}},
 		{dir, ReadingsOptions{Variable: "x"}, []string{"is a directory"}},
 	}
+	// The typed errors the command line words (it adds the flag names,
+	// checked in cmd/trendsql/import_test.go).
+	typed := map[string]struct {
+		is   error
+		miss string // InputError.MissingColumn, looked up by its default name
+		sep  string // InputError.Separator
+	}{
+		"nostation.csv": {ErrMissingColumn, "station", ""},
+		"semicolon.csv": {ErrMissingColumn, "station", ";"},
+		"novar.csv":     {ErrNoVariable, "", ""},
+		"ok3.csv":       {ErrOnDuplicate, "", ""},
+	}
 	for _, c := range cases {
 		_, err := ImportReadings(ctx, s, c.file, c.opt)
 		if err == nil {
@@ -659,6 +671,19 @@ func TestImportInputErrorsChangeNothing(t *testing.T) {
 		for _, sub := range c.want {
 			if !strings.Contains(err.Error(), sub) {
 				t.Errorf("%s: error %q does not contain %q", filepath.Base(c.file), err, sub)
+			}
+		}
+		ty, ok := typed[filepath.Base(c.file)]
+		if !ok {
+			continue
+		}
+		if !errors.Is(err, ty.is) {
+			t.Errorf("%s: error %q does not match %v", filepath.Base(c.file), err, ty.is)
+		}
+		if ty.miss != "" {
+			var ie *InputError
+			if !errors.As(err, &ie) || ie.MissingColumn != ty.miss || !ie.DefaultName || ie.Separator != ty.sep {
+				t.Errorf("%s: error %#v, want missing column %q by its default name, separator %q", filepath.Base(c.file), ie, ty.miss, ty.sep)
 			}
 		}
 	}

@@ -23,7 +23,7 @@ func ParseOnDuplicate(s string) (OnDuplicate, error) {
 	case DupKeepFirst, DupReplace:
 		return OnDuplicate(s), nil
 	}
-	return "", fmt.Errorf("on-duplicate must be error, keep-first or replace, got %q", s)
+	return "", fmt.Errorf("%w, got %q", ErrOnDuplicate, s)
 }
 
 // Progress is reported while a file is read.
@@ -51,6 +51,12 @@ type ReadingsOptions struct {
 	Progress func(Progress)
 	// Stdin is read when the path is StdinPath (nil: os.Stdin).
 	Stdin io.Reader
+	// OnInsertPath, if set, is called once before the first row is read,
+	// with whether full batches are written through SQLite's C API (true)
+	// or through database/sql (false); a returned function runs when the
+	// import ends. It lets the caller tune process-wide settings (such as
+	// the garbage collector's target) for the path in use.
+	OnInsertPath func(cLevel bool) (restore func())
 }
 
 // StationsOptions controls ImportStations.
@@ -86,5 +92,3 @@ type ImportResult struct {
 	SeriesCreated   int64
 	SeriesWritten   int64 // series with rows in series_batches for this batch
 }
-
-// InputError is a problem with the input file that stops the import; the

@@ -4,7 +4,6 @@ import (
 	"context"
 	"database/sql"
 	"fmt"
-	"runtime/debug"
 	"time"
 
 	"trendsql/store"
@@ -112,37 +111,35 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 	if err != nil {
 		return nil, err
 	}
-	col := func(flag, name, def string, required bool) (int, string, error) {
+	col := func(name, def string, required bool) (int, string, error) {
 		given := name != ""
 		if !given {
 			name = def
 		}
 		i, err := h.find(name)
 		if err != nil {
-			return -1, name, &InputError{File: in.name, Line: h.line, Msg: err.Error()}
+			return -1, name, &InputError{File: in.name, Line: h.line, Column: name, Msg: err.Error()}
 		}
 		if i < 0 && (required || given) {
-			hint := ""
-			if !given {
-				hint = fmt.Sprintf("; name the column with %s", flag)
-			}
-			return -1, name, &InputError{File: in.name, Line: h.line, Msg: fmt.Sprintf("no column %q in the header (columns: %s)%s", name, h.list(), hint)}
+			return -1, name, &InputError{File: in.name, Line: h.line, Column: name,
+				Msg: fmt.Sprintf("no column %q in the header (columns: %s)", name, h.list()),
+				Err: ErrMissingColumn, MissingColumn: def, DefaultName: !given, Separator: h.separator()}
 		}
 		return i, name, nil
 	}
-	iStation, stationCol, err := col("--station-col", opt.StationCol, "station", true)
+	iStation, stationCol, err := col(opt.StationCol, "station", true)
 	if err != nil {
 		return nil, err
 	}
-	iTime, timeCol, err := col("--time-col", opt.TimeCol, "time", true)
+	iTime, timeCol, err := col(opt.TimeCol, "time", true)
 	if err != nil {
 		return nil, err
 	}
-	iValue, valueCol, err := col("--value-col", opt.ValueCol, "value", true)
+	iValue, valueCol, err := col(opt.ValueCol, "value", true)
 	if err != nil {
 		return nil, err
 	}
-	iQual, qualCol, err := col("--qualifier-col", opt.QualifierCol, "qualifier", false)
+	iQual, qualCol, err := col(opt.QualifierCol, "qualifier", false)
 	if err != nil {
 		return nil, err
 	}
@@ -151,12 +148,13 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 	}
 	iVar, varCol := -1, ""
 	if opt.Variable == "" {
-		iVar, varCol, err = col("--variable-col", opt.VariableCol, "variable", false)
+		iVar, varCol, err = col(opt.VariableCol, "variable", false)
 		if err != nil {
 			return nil, err
 		}
 		if iVar < 0 {
-			return nil, &InputError{File: in.name, Line: h.line, Msg: fmt.Sprintf("no variable: the header has no \"variable\" column (columns: %s); give a fixed variable name (--variable) or the column that holds it (--variable-col)", h.list())}
+			return nil, &InputError{File: in.name, Line: h.line, Column: "variable", Err: ErrNoVariable, Separator: h.separator(),
+				Msg: fmt.Sprintf("no variable: the header has no \"variable\" column (columns: %s)", h.list())}
 		}
 	}
 
@@ -197,13 +195,10 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 	if err := im.prepare(ctx, conn); err != nil {
 		return nil, err
 	}
-	if im.w.raw == nil {
-		// The database/sql insert path boxes the values of every row;
-		// collecting that short-lived garbage less often is worth about a
-		// tenth of the import time (measured on 2M rows). The C-level path
-		// makes no such garbage, and there the setting only raised the
-		// peak memory (35 against 23 MB). The process setting is restored.
-		defer debug.SetGCPercent(debug.SetGCPercent(400))
+	if opt.OnInsertPath != nil {
+		if restore := opt.OnInsertPath(im.w.raw != nil); restore != nil {
+			defer restore()
+		}
 	}
 
 	// One goroutine reads and parses the file while this one does the

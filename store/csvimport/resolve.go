@@ -135,9 +135,9 @@ func (im *readingsImporter) resolve(ctx context.Context) error {
 		dup, write := false, true
 		if p.dupLine != 0 {
 			if mode == DupError {
-				return &dupError{InputError{File: im.in.name, Line: p.line, Msg: fmt.Sprintf(
+				return &InputError{File: im.in.name, Line: p.line, Err: ErrDuplicate, Msg: fmt.Sprintf(
 					"duplicate reading: station %q variable %q at %s also appears on line %d; nothing was imported",
-					ss.station, ss.variable, timefmt.FormatUTC(p.t), p.dupLine)}}
+					ss.station, ss.variable, timefmt.FormatUTC(p.t), p.dupLine)}
 			}
 			dup = true
 		} else if p.probe {
@@ -147,9 +147,9 @@ func (im *readingsImporter) resolve(ctx context.Context) error {
 					if sv.v == p.v {
 						same = "the same value"
 					}
-					return &dupError{InputError{File: im.in.name, Line: p.line, Msg: fmt.Sprintf(
+					return &InputError{File: im.in.name, Line: p.line, Err: ErrDuplicate, Msg: fmt.Sprintf(
 						"duplicate reading: station %q variable %q at %s is already stored (with %s: %s); nothing was imported",
-						ss.station, ss.variable, timefmt.FormatUTC(p.t), same, strconv.FormatFloat(sv.v, 'g', -1, 64))}}
+						ss.station, ss.variable, timefmt.FormatUTC(p.t), same, strconv.FormatFloat(sv.v, 'g', -1, 64))}
 				}
 				dup = true
 			}

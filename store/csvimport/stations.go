@@ -64,7 +64,9 @@ func importStations(ctx context.Context, s *store.Store, in *importInput, opt St
 	if err != nil {
 		return nil, err
 	}
-	hdrErr := func(msg string) error { return &InputError{File: in.name, Line: h.line, Msg: msg} }
+	hdrErr := func(msg string) error {
+		return &InputError{File: in.name, Line: h.line, Msg: msg, Separator: h.separator()}
+	}
 	iID, idCol := -1, ""
 	for _, name := range []string{"id", "station_id", "station"} {
 		i, err := h.find(name)

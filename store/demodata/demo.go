@@ -60,8 +60,15 @@ type Summary struct {
 	ReplacedDemo bool
 }
 
-// ErrStoreNotEmpty is returned by Create when the target already holds data.
-var ErrStoreNotEmpty = errors.New("store already holds data")
+// Errors of Create.
+var (
+	// ErrStoreNotEmpty: the target store already holds data (and force
+	// was not given).
+	ErrStoreNotEmpty = errors.New("store already holds data")
+	// ErrNotAStore: the target file exists and is not a trendsql store; it
+	// is never replaced.
+	ErrNotAStore = errors.New("not a trendsql store")
+)
 
 // Build writes the demo scenario into s (which should be empty) in one
 // transaction, recording a stations batch and a readings batch with source
@@ -170,7 +177,7 @@ func Create(ctx context.Context, path string, opt Options, force bool) (Summary,
 		// holds nothing a user made: rebuilding it is safe, so running the
 		// README's first command twice works.
 		if demoOnly, _ := storeIsUntouchedDemo(ctx, path); !demoOnly {
-			return Summary{}, fmt.Errorf("demo: %s: %w; refusing to overwrite it (use --force to replace it, or choose another --db)", path, ErrStoreNotEmpty)
+			return Summary{}, fmt.Errorf("demo: %s: %w; refusing to overwrite it", path, ErrStoreNotEmpty)
 		}
 		replacedDemo = true
 	}
@@ -266,7 +273,7 @@ func storeIsEmpty(ctx context.Context, path string) (bool, error) {
 	}
 	defer db.Close()
 	notStore := func(why string) error {
-		return fmt.Errorf("demo: %s exists and is not a trendsql store (%s); refusing to replace it, choose another --db", path, why)
+		return fmt.Errorf("demo: %s exists and is %w (%s); refusing to replace it", path, ErrNotAStore, why)
 	}
 	var tables, hasStations int
 	err = db.QueryRowContext(ctx, `SELECT count(*), count(*) FILTER (WHERE name = 'stations') FROM sqlite_schema WHERE type = 'table'`).Scan(&tables, &hasStations)

@@ -239,8 +239,8 @@ func TestCreateDemoNeverDestroysData(t *testing.T) {
 		t.Fatal(err)
 	}
 	s.Close()
-	if _, err := Create(ctx, path, opt, false); !errors.Is(err, ErrStoreNotEmpty) || !strings.Contains(err.Error(), "--force") {
-		t.Fatalf("Create over a store with data: err = %v, want ErrStoreNotEmpty mentioning --force", err)
+	if _, err := Create(ctx, path, opt, false); !errors.Is(err, ErrStoreNotEmpty) || !strings.Contains(err.Error(), path) {
+		t.Fatalf("Create over a store with data: err = %v, want ErrStoreNotEmpty naming the path", err)
 	}
 	s, err = store.Open(ctx, path, store.Options{ReadOnly: true})
 	if err != nil {
@@ -291,7 +291,7 @@ func TestCreateDemoNeverDestroysData(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, force := range []bool{false, true} {
-		if _, err := Create(ctx, other, opt, force); err == nil || !strings.Contains(err.Error(), "not a trendsql store") {
+		if _, err := Create(ctx, other, opt, force); !errors.Is(err, ErrNotAStore) || !strings.Contains(err.Error(), "not a trendsql store") {
 			t.Errorf("Create over a text file (force=%v): err = %v", force, err)
 		}
 	}

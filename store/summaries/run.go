@@ -62,7 +62,7 @@ type Result struct {
 	Elapsed      time.Duration
 }
 
-// runParameters is what makes two runs comparable for --changed-only; it is
+// runParameters is what makes two runs comparable for ChangedOnly; it is
 // stored as the run's parameters JSON.
 type runParameters struct {
 	Stations   []string `json:"stations,omitempty"`
@@ -128,7 +128,7 @@ func Run(ctx context.Context, s *store.Store, o Options) (*Result, error) {
 		return nil, fmt.Errorf("summarize: %w", err)
 	}
 	todo := selected
-	var keptP []float64 // stored mk_p of the series --changed-only skips
+	var keptP []float64 // stored mk_p of the series ChangedOnly skips
 	if o.ChangedOnly {
 		todo, keptP, err = changedSince(ctx, s, selected, string(pjson))
 		if err != nil {

@@ -966,8 +966,9 @@ func TestSummarizeRunBookkeeping(t *testing.T) {
 	_ = db.QueryRow(`SELECT count(*) FROM latest_series_summaries`).Scan(&before)
 	of := o
 	of.Where = "no_such_column = 1"
-	if _, err := Run(ctx, fx.s, of); err == nil || !strings.Contains(err.Error(), "--where") {
-		t.Errorf("bad --where: %v, want an error naming --where", err)
+	var selErr *SelectError
+	if _, err := Run(ctx, fx.s, of); !errors.As(err, &selErr) || !strings.Contains(err.Error(), "no_such_column") {
+		t.Errorf("bad Where: %v, want a SelectError naming the column", err)
 	}
 	// The condition cannot write, even smuggled in as a second statement.
 	for _, where := range []string{

@@ -30,7 +30,7 @@ func selectSeries(ctx context.Context, s *store.Store, o Options) ([]seriesRef, 
 		q += ` AND (` + o.Where + `)`
 	}
 	q += ` ORDER BY s.id`
-	// The --where text is the user's SQL and is pasted into the query. The
+	// The Where text is the user's SQL and is pasted into the query. The
 	// driver runs every statement of a multi-statement text, so a condition
 	// such as "1=1) ORDER BY s.id; DELETE FROM ..." could write: run the
 	// selection on a connection that refuses writes (PRAGMA query_only).
@@ -45,7 +45,7 @@ func selectSeries(ctx context.Context, s *store.Store, o Options) ([]seriesRef, 
 	defer conn.ExecContext(context.Background(), `PRAGMA query_only = 0`)
 	rows, err := conn.QueryContext(ctx, q, args...)
 	if err != nil {
-		return nil, fmt.Errorf("summarize: select series (check --where): %w", err)
+		return nil, &SelectError{Err: err}
 	}
 	defer rows.Close()
 	var out []seriesRef

@@ -1,0 +1,43 @@
+package store
+
+import (
+	"errors"
+	"fmt"
+)
+
+// Errors of the store core. Callers test them with errors.Is; the command
+// line adds the wording that names its commands and flags.
+var (
+	// ErrNoStore: a read-only open found no store file.
+	ErrNoStore = errors.New("no store at this path")
+	// ErrSchemaOutdated: the store's schema is older than this build
+	// needs; a writable open migrates it (see SchemaError).
+	ErrSchemaOutdated = errors.New("store schema is outdated")
+	// ErrNoTable: a catalog query names a table or view that is not there.
+	ErrNoTable = errors.New("no such table or view")
+)
+
+// SchemaError is returned by a read-only Open of a store whose schema
+// version is older than the latest migration. It matches ErrSchemaOutdated.
+type SchemaError struct {
+	Path            string
+	Current, Latest int
+}
+
+func (e *SchemaError) Error() string {
+	return fmt.Sprintf("open %s: store schema is version %d, this trendsql needs %d", e.Path, e.Current, e.Latest)
+}
+
+func (e *SchemaError) Unwrap() error { return ErrSchemaOutdated }
+
+// tableError names the missing table (and schema) and matches ErrNoTable.
+type tableError struct{ table, schema string }
+
+func (e *tableError) Error() string {
+	if e.schema != "" {
+		return fmt.Sprintf("no table or view named %q in schema %q", e.table, e.schema)
+	}
+	return fmt.Sprintf("no table or view named %q", e.table)
+}
+
+func (e *tableError) Unwrap() error { return ErrNoTable }
