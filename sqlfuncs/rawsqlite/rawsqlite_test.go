@@ -52,7 +52,7 @@ func TestConnOfRejectsOtherTypes(t *testing.T) {
 		db  uintptr
 		tls *int
 	}
-	for _, v := range []any{nil, 42, &conn{db: 1}, &struct{}{}} {
+	for _, v := range []any{nil, 42, &conn{db: 1, tls: new(int)}, &struct{}{}} {
 		if _, err := ConnOf(v); err == nil {
 			t.Errorf("ConnOf(%T) accepted a value that is not the driver's connection", v)
 		}
