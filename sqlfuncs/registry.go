@@ -9,6 +9,9 @@
 //
 // The numerical work lives in the subpackage stats, which has no SQL imports;
 // the files here only convert arguments, buffer rows and render results.
+// The aggregates whose rows are many are also served at SQLite's C level
+// through the subpackage rawsqlite (fastpath*.go), with the driver's public
+// API as the fallback.
 package sqlfuncs
 
 import (
