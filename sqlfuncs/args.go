@@ -97,6 +97,9 @@ func argValue(fn, arg string, v driver.Value) (val float64, ok bool, err error) 
 	case string:
 		f, perr := strconv.ParseFloat(strings.TrimSpace(x), 64)
 		if perr != nil {
+			if _, _, cens := parseCensoredText(x); cens {
+				return 0, false, &censoredValueError{fn: fn, arg: arg, text: strings.TrimSpace(x)}
+			}
 			return 0, false, fmt.Errorf("%s: argument %s: %s is not a number", fn, arg, describe(v))
 		}
 		if math.IsNaN(f) || math.IsInf(f, 0) {

@@ -8,7 +8,8 @@ package sqlfuncs
 //	censored_sen_slope(t, y, mark)                               aggregate/window → TEXT (JSON) or NULL
 //
 // Arguments. t and y as for mann_kendall (args.go); for a censored value y
-// is the limit. mark: the censoring mark of the row — TEXT '<' (the true
+// is the limit, or the value as reported, TEXT '<5' or '>2000' (the form
+// readings_view shows), which carries its own mark. mark: the censoring mark of the row — TEXT '<' (the true
 // value is below y, a reporting limit), '>' (above y, a measuring limit),
 // '' or NULL (uncensored); INTEGER −1, 1 and 0 mean the same. Any other mark
 // is an error naming the function and the value. period and seasons as for
@@ -19,7 +20,8 @@ package sqlfuncs
 //	                        (default none)
 //
 // NULL, short input, order. Rows with NULL y are skipped (missing); a NULL
-// mark is uncensored; a NULL t is an error. Rows may come in any order; two
+// mark is uncensored unless y is a reported censored value; a mark that
+// disagrees with a reported value is an error; a NULL t is an error. Rows may come in any order; two
 // rows with the same t are an error naming the time. Fewer than 2 rows →
 // NULL. The options, period and seasons must be the same on every row of a
 // group. Also window functions with any frame.
@@ -137,6 +139,19 @@ func (a *censoredAgg) row(args []driver.Value) (t, y float64, c stats.Censoring,
 	}
 	if t, err = argTime(fn, "t", args[0]); err != nil {
 		return
+	}
+	if text, isText := args[1].(string); isText {
+		if v, m, cens := parseCensoredText(text); cens {
+			// A reported value such as '<5' carries its own mark; a mark
+			// argument, if given, must agree.
+			if c, err = argMark(fn, args[2]); err != nil {
+				return
+			}
+			if args[2] != nil && c != m {
+				return 0, 0, 0, false, fmt.Errorf("%s: value %q and mark %s disagree", fn, text, describe(args[2]))
+			}
+			return t, v, m, true, nil
+		}
 	}
 	if y, ok, err = argValue(fn, "y", args[1]); err != nil {
 		return

@@ -203,3 +203,69 @@ func TestCensoredSQLMarksOptionsErrors(t *testing.T) {
 		}
 	}
 }
+
+// TestCensoredValuesRefused: functions without censoring support never read
+// a reported censored value ('<5') as a number; series aggregates name the
+// count and the alternatives, and the censored functions read the mark from
+// the text.
+func TestCensoredValuesRefused(t *testing.T) {
+	db := openKendallStore(t)
+	day := 86400.0
+	var tt []float64
+	var ys []any
+	for i := 0; i < 12; i++ {
+		tt = append(tt, 1.6e9+float64(i)*day)
+		switch i % 4 {
+		case 0:
+			ys = append(ys, "<2")
+		case 1:
+			ys = append(ys, "< 0.5")
+		default:
+			ys = append(ys, float64(i))
+		}
+	}
+	insertK(t, db, "lab", tt, nil, ys)
+	for _, fn := range []string{"trend_fit(t, y)", "trend_slope(t, y)", "sample_acf(t, y, 1)", "correlogram(t, y, 2)", "ljung_box(t, y, 2)", "mann_kendall(t, y)", "sen_slope(t, y)", "pettitt(t, y)"} {
+		name := fn[:strings.Index(fn, "(")]
+		var v any
+		err := db.QueryRow(`SELECT ` + fn + ` FROM kobs WHERE g = 'lab'`).Scan(&v)
+		if err == nil || !strings.Contains(err.Error(), name+": 6 of 12 values are censored (e.g. \"<2\")") || !strings.Contains(err.Error(), "censored_mann_kendall, censored_seasonal_kendall or censored_sen_slope") {
+			t.Errorf("%s: %v, %v", fn, v, err)
+		}
+	}
+	// As a window function: the first frame holding a censored row is an error.
+	var w any
+	if err := db.QueryRow(`SELECT trend_slope(t, y) OVER (ORDER BY t ROWS BETWEEN 1 PRECEDING AND CURRENT ROW) FROM kobs WHERE g = 'lab'`).Scan(&w); err == nil || !strings.Contains(err.Error(), "trend_slope: 1 of 1 values are censored") {
+		t.Errorf("window: %v %v", w, err)
+	}
+	// Row-wise functions fail on the row.
+	var v any
+	if err := db.QueryRow(`SELECT regr_slope(y, t) FROM kobs WHERE g = 'lab'`).Scan(&v); err == nil || !strings.Contains(err.Error(), `"<2" is a censored value`) {
+		t.Errorf("regr_slope: %v %v", v, err)
+	}
+	// An explicit substitute is the caller's choice and works.
+	if err := db.QueryRow(`SELECT trend_slope(t, CASE WHEN y LIKE '<%' THEN 0 ELSE y END) FROM kobs WHERE g = 'lab'`).Scan(&v); err != nil || v == nil {
+		t.Errorf("explicit substitute: %v %v", v, err)
+	}
+	// The censored functions read '<2' and '< 0.5' as marked limits.
+	got := jsonMap(t, queryVal(t, db, `SELECT censored_mann_kendall(t, y, NULL) FROM kobs WHERE g = 'lab'`))
+	yy := make([]float64, 12)
+	cc := make([]stats.Censoring, 12)
+	for i := range yy {
+		switch i % 4 {
+		case 0:
+			yy[i], cc[i] = 2, stats.BelowLimit
+		case 1:
+			yy[i], cc[i] = 0.5, stats.BelowLimit
+		default:
+			yy[i] = float64(i)
+		}
+	}
+	want, _ := stats.CensoredMannKendall(yy, cc)
+	if num(t, got, "s") != float64(want.S) || num(t, got, "var_s") != want.VarS || num(t, got, "limits") != 2 || num(t, got, "censored") != 6 {
+		t.Errorf("censored_mann_kendall on reported values: %v, want S %d var %v", got, want.S, want.VarS)
+	}
+	if err := db.QueryRow(`SELECT censored_mann_kendall(t, y, '>') FROM kobs WHERE g = 'lab'`).Scan(&v); err == nil || !strings.Contains(err.Error(), `value "<2" and mark ">" disagree`) {
+		t.Errorf("disagreeing mark: %v %v", v, err)
+	}
+}

@@ -22,6 +22,7 @@ package sqlfuncs
 
 import (
 	"database/sql/driver"
+	"errors"
 	"fmt"
 	"slices"
 	"sort"
@@ -74,8 +75,12 @@ type seriesAgg struct {
 	opts    []driver.Value
 	stepped bool
 	sorted  bool // rows head.. are in strictly increasing t order so far
-	scratch Rows
-	perm    []int
+	// censored counts rows whose value was a reported censored value
+	// ('<5'); they are not buffered and make the value an error.
+	censored        int
+	censoredExample string
+	scratch         Rows
+	perm            []int
 }
 
 func (a *seriesAgg) name() string { return a.spec.doc.Name }
@@ -123,6 +128,14 @@ func (a *seriesAgg) row(args []driver.Value) (t, x, y float64, ok bool, err erro
 func (a *seriesAgg) Step(ctx *sqlite.FunctionContext, args []driver.Value) (err error) {
 	defer recoverInto(a.name(), &err)
 	t, x, y, ok, err := a.row(args)
+	var cens *censoredValueError
+	if errors.As(err, &cens) {
+		a.censored++
+		if a.censoredExample == "" {
+			a.censoredExample = cens.text
+		}
+		ok, err = false, nil
+	}
 	if err != nil {
 		return err
 	}
@@ -186,6 +199,11 @@ func sameValue(a, b driver.Value) bool {
 func (a *seriesAgg) WindowInverse(ctx *sqlite.FunctionContext, args []driver.Value) (err error) {
 	defer recoverInto(a.name(), &err)
 	_, _, _, ok, err := a.row(args)
+	var cens *censoredValueError
+	if errors.As(err, &cens) {
+		a.censored--
+		return nil
+	}
 	if err != nil || !ok {
 		return err
 	}
@@ -259,6 +277,9 @@ func (a *seriesAgg) WindowValue(ctx *sqlite.FunctionContext) (v driver.Value, er
 	defer recoverInto(a.name(), &err)
 	if !a.stepped {
 		return nil, nil
+	}
+	if a.censored > 0 {
+		return nil, censoredRowsError(a.name(), a.censored, a.censored+len(a.t)-a.head, a.censoredExample)
 	}
 	r, err := a.frame()
 	if err != nil {
