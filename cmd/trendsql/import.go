@@ -14,6 +14,7 @@ import (
 	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/cobra"
 
+	"trendsql/sqlfuncs/timefmt"
 	"trendsql/store"
 	"trendsql/store/csvimport"
 )
@@ -30,6 +31,9 @@ type importFlags struct {
 	stationCol, timeCol, valueCol, qualifierCol string
 	variable, variableCol, unit                 string
 	tz, onDuplicate                             string
+	censorCol                                   string
+	rejectCensored                              bool
+	missingValues                               []string
 }
 
 func newImportCmd(e *env) *cobra.Command {
@@ -110,21 +114,36 @@ series (station, variable) are created with --unit. A unit different from a
 series' stored unit rejects that series' rows.
 
 Times: ISO 8601 with or without an offset, YYYY-MM-DD, YYYY-MM-DD HH:MM[:SS]
-or unix seconds. Zone-less times are local times in --tz (an IANA zone such as
-Europe/Berlin; default UTC); a local time skipped or repeated by a
-daylight-saving change is rejected (give an offset to say which is meant).
+or unix seconds. Zone-less times are local times in --tz: an IANA zone such
+as Europe/Berlin (default UTC), where a local time skipped or repeated by a
+daylight-saving change is rejected (give an offset to say which is meant), or
+a fixed offset (+01:00, -05:00, UTC+1 = one hour ahead of UTC) for loggers
+that keep standard time all year.
 
-Values must be decimal numbers; empty, NA, NaN, infinite and other text are
-rejected row by row with the reason. A (station, variable, time) already
-stored or repeated in the file is a duplicate: --on-duplicate error (default)
-stops the import and changes nothing; keep-first keeps the earlier reading;
-replace overwrites it where the value or qualifier differs (an identical row
-changes nothing and is counted as duplicate only).
+Values must be decimal numbers; empty, NaN, infinite and other text are
+rejected row by row with the reason. A value written <5, < 5 or <0.05 (0,05
+with --decimal-comma) is below the reporting limit 5 and is stored as 5 with
+the censoring mark '<'; >2000 is stored with the mark '>'. --censor-col names
+a column of remarks ('<', '>' or empty) that mark the value beside them.
+--reject-censored rejects censored values instead. --missing-values lists
+cell texts that mean "no reading" (exact match, e.g. -999,NA): such rows are
+rejected with the reason "declared missing-value marker" and counted apart.
+
+A (station, variable, time) already stored or repeated in the file is a
+duplicate: --on-duplicate error (default) stops the import and changes
+nothing; keep-first keeps the earlier reading; replace overwrites it where
+the value, mark or qualifier differs (an identical row changes nothing and is
+counted as duplicate only). Every dropped or overwritten reading is recorded
+in import_duplicates with both values. A file whose SHA-256 equals that of an
+earlier batch is refused under --on-duplicate error, naming that batch, and
+imported with a warning otherwise.
 
 FILE "-" reads standard input; the batch records its source as "stdin".`,
 		Example: `  trendsql import readings --variable stage --unit m gauges.csv
   trendsql import readings --variable-col param --tz Europe/Berlin --delimiter ';' --decimal-comma export.csv
   trendsql import readings --variable level --on-duplicate keep-first logger-2024.csv
+  trendsql import readings --variable level --tz +01:00 --missing-values -999,-9999 logger-2024.csv
+  trendsql import readings --variable total_phosphorus --unit ug/L --censor-col remark lab-export.csv
   gunzip -c archive-2019.csv.gz | trendsql import readings --variable stage -`,
 		Args: exactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
@@ -137,6 +156,9 @@ FILE "-" reads standard input; the batch records its source as "stdin".`,
 				opt.Stdin = e.in
 				opt.OnInsertPath = importGC
 				res, err := csvimport.ImportReadings(cmd.Context(), s, args[0], opt)
+				if errors.Is(err, csvimport.ErrAlreadyImported) {
+					return "", fmt.Errorf("%w (--on-duplicate keep-first or replace imports it anyway)", err)
+				}
 				if err != nil {
 					return "", wordImportError(err)
 				}
@@ -153,7 +175,10 @@ FILE "-" reads standard input; the batch records its source as "stdin".`,
 	fl.StringVar(&f.variable, "variable", "", "variable name for every row of the file, e.g. stage")
 	fl.StringVar(&f.variableCol, "variable-col", "", `column with the variable name (default "variable" if present and --variable is not given)`)
 	fl.StringVar(&f.unit, "unit", "", "unit of the readings, e.g. m or mg/L")
-	fl.StringVar(&f.tz, "tz", "UTC", "IANA time zone of zone-less times, e.g. Europe/Berlin")
+	fl.StringVar(&f.tz, "tz", "UTC", "zone of zone-less times: an IANA name (Europe/Berlin) or a fixed offset (+01:00, -05:00, UTC+1)")
+	fl.StringVar(&f.censorCol, "censor-col", "", `column with censoring remarks: '<', '>' or empty`)
+	fl.BoolVar(&f.rejectCensored, "reject-censored", false, "reject censored values (<5, >2000) instead of storing them with their mark")
+	fl.StringSliceVar(&f.missingValues, "missing-values", nil, "comma-separated cell texts meaning no reading, matched exactly (e.g. -999,NA)")
 	fl.StringVar(&f.onDuplicate, "on-duplicate", string(csvimport.DupError), "what a repeated (station, variable, time) does: error, keep-first or replace")
 	return c
 }
@@ -177,13 +202,14 @@ func (f *importFlags) readingsOptions() (csvimport.ReadingsOptions, error) {
 	if f.variable != "" && f.variableCol != "" {
 		return opt, usageErr("import readings: give --variable or --variable-col, not both")
 	}
-	if _, err := time.LoadLocation(f.tz); err != nil || f.tz == "" || strings.EqualFold(f.tz, "local") {
-		return opt, usageErr("import readings: --tz %q is not an IANA time zone name (such as UTC, Europe/Berlin, America/New_York)", f.tz)
+	if _, err := timefmt.ParseZone(f.tz); err != nil {
+		return opt, usageErr("import readings: --tz %q is neither an IANA time zone name (such as UTC, Europe/Berlin, America/New_York) nor a fixed offset (such as +01:00, -05:00, UTC+1)", f.tz)
 	}
 	return csvimport.ReadingsOptions{
 		StationCol: f.stationCol, TimeCol: f.timeCol, ValueCol: f.valueCol, QualifierCol: f.qualifierCol,
 		Variable: f.variable, VariableCol: f.variableCol, Unit: f.unit, TZ: f.tz,
 		DecimalComma: f.decimalComma, Delimiter: delim, OnDuplicate: dup,
+		CensorCol: f.censorCol, NoCensored: f.rejectCensored, MissingValues: f.missingValues,
 	}, nil
 }
 
@@ -276,12 +302,30 @@ func importRejectNote(r *csvimport.ImportResult) string {
 	return fmt.Sprintf("%d rejected (reasons in import_rejects, batch_id %d)", r.RowsRejected, r.BatchID)
 }
 
+// importReadingsRejectNote splits the rejected rows of a readings batch
+// into declared missing values and other rejects.
+func importReadingsRejectNote(r *csvimport.ImportResult) string {
+	if r.RowsMissing == 0 {
+		return importRejectNote(r)
+	}
+	other := r.RowsRejected - r.RowsMissing
+	s := fmt.Sprintf("%d declared missing, %d rejected", r.RowsMissing, other)
+	return s + fmt.Sprintf(" (listed in import_rejects, batch_id %d)", r.BatchID)
+}
+
 // readingsSummary is the one-line account of a readings import.
 func importReadingsSummary(r *csvimport.ImportResult) string {
-	s := fmt.Sprintf("%s → batch %d: %s read, %d stored, %s, %s",
-		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, importRejectNote(r), importCount(r.RowsDuplicate, "duplicate", "duplicates"))
+	stored := fmt.Sprintf("%d stored", r.RowsStored)
+	if r.RowsCensored > 0 {
+		stored = fmt.Sprintf("%d stored (%d of them censored)", r.RowsStored, r.RowsCensored)
+	}
+	s := fmt.Sprintf("%s → batch %d: %s read, %s, %s, %s",
+		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), stored, importReadingsRejectNote(r), importCount(r.RowsDuplicate, "duplicate", "duplicates"))
 	if r.RowsReplaced > 0 {
 		s += fmt.Sprintf(" (%d replaced)", r.RowsReplaced)
+	}
+	if r.DuplicatesRecorded > 0 {
+		s += fmt.Sprintf(" (%d recorded with both values in import_duplicates)", r.DuplicatesRecorded)
 	}
 	var created []string
 	if r.StationsCreated > 0 {
@@ -292,6 +336,9 @@ func importReadingsSummary(r *csvimport.ImportResult) string {
 	}
 	if len(created) > 0 {
 		s += "; created " + strings.Join(created, " and ")
+	}
+	if r.SameFileBatch != 0 {
+		s += fmt.Sprintf("\nwarning: the same file (SHA-256 %s) was already imported as batch %d", r.SHA256, r.SameFileBatch)
 	}
 	return s
 }

@@ -53,10 +53,25 @@ func TestImportCmdStationsAndReadings(t *testing.T) {
 		t.Errorf("summary is not one line: %q", errs)
 	}
 
-	// The same file again fails with a one-line message naming file, line
-	// and time, exit code 1, and changes nothing.
+	// The same file again fails before reading, naming the earlier batch.
 	_, errs, code = importRunMain(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
 		"--tz", "Europe/Berlin", importFixture("readings_rejects.csv"))
+	if code != ExitFailed || !strings.Contains(errs, "already imported as batch 2; nothing was imported (--on-duplicate keep-first or replace") || strings.Count(errs, "\n") != 1 {
+		t.Errorf("same file again: exit %d, %q", code, errs)
+	}
+	// The same rows in another file (one more line end) fail with a
+	// one-line message naming file, line and time, exit code 1, and change
+	// nothing.
+	raw, err := os.ReadFile(importFixture("readings_rejects.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	copyPath := filepath.Join(t.TempDir(), "readings_rejects.csv")
+	if err := os.WriteFile(copyPath, append(raw, '\n'), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, errs, code = importRunMain(t, "--db", db, "import", "readings", "--variable", "level", "--unit", "m",
+		"--tz", "Europe/Berlin", copyPath)
 	if code != ExitFailed {
 		t.Errorf("duplicate import: exit %d, want %d", code, ExitFailed)
 	}

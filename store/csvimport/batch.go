@@ -158,8 +158,10 @@ func (b *importBatch) finish(ctx context.Context) error {
 	b.res.SHA256 = hex.EncodeToString(b.in.h.Sum(nil))
 	r := &b.res
 	if _, err := b.tx.ExecContext(ctx, `UPDATE import_batches SET source_sha256 = ?, finished_at = ?,
-		rows_read = ?, rows_stored = ?, rows_rejected = ?, rows_duplicate = ?, rows_replaced = ? WHERE id = ?`,
-		r.SHA256, store.NowISO(), r.RowsRead, r.RowsStored, r.RowsRejected, r.RowsDuplicate, r.RowsReplaced, r.BatchID); err != nil {
+		rows_read = ?, rows_stored = ?, rows_rejected = ?, rows_duplicate = ?, rows_replaced = ?,
+		rows_censored = ?, rows_missing = ? WHERE id = ?`,
+		r.SHA256, store.NowISO(), r.RowsRead, r.RowsStored, r.RowsRejected, r.RowsDuplicate, r.RowsReplaced,
+		r.RowsCensored, r.RowsMissing, r.BatchID); err != nil {
 		return fmt.Errorf("import %s: record counts: %w", b.in.name, err)
 	}
 	if err := b.tx.Commit(); err != nil {

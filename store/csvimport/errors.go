@@ -51,3 +51,23 @@ func (e *InputError) Error() string {
 }
 
 func (e *InputError) Unwrap() error { return e.Err }
+
+// ErrAlreadyImported is wrapped by the error of a readings import, under
+// OnDuplicate "error", of a file whose SHA-256 equals that of an earlier
+// finished batch. Nothing is written.
+var ErrAlreadyImported = errors.New("file already imported")
+
+// AlreadyImportedError names the file and the earlier batch.
+type AlreadyImportedError struct {
+	File   string
+	SHA256 string
+	Batch  int64 // the earliest batch with the same SHA-256
+}
+
+func (e *AlreadyImportedError) Error() string {
+	return fmt.Sprintf("%s: the same file (SHA-256 %s) was already imported as batch %d; nothing was imported", e.File, e.SHA256, e.Batch)
+}
+
+// Unwrap matches ErrAlreadyImported and ErrDuplicate (every reading of the
+// file is a duplicate).
+func (e *AlreadyImportedError) Unwrap() []error { return []error{ErrAlreadyImported, ErrDuplicate} }

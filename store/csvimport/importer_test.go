@@ -923,6 +923,16 @@ func TestImportSparseOverlap(t *testing.T) {
 	if n := impCount(t, s, `SELECT count(*) FROM readings_view WHERE value < 0`); n != 1 {
 		t.Errorf("%d negative values stored, want 1 (the new half-hour reading)", n)
 	}
+	// The same file again: refused before reading, naming the batch.
+	_, err = ImportReadings(ctx, s, p, ReadingsOptions{Variable: "stage"})
+	if !errors.Is(err, ErrAlreadyImported) || !strings.Contains(err.Error(), fmt.Sprintf("already imported as batch %d", res.BatchID)) {
+		t.Errorf("err = %v, want the same file as batch %d", err, res.BatchID)
+	}
+	// The same rows in a different file (a trailing blank line): the
+	// duplicate reading on line 2 is found.
+	if err := os.WriteFile(p, []byte(text+"\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
 	_, err = ImportReadings(ctx, s, p, ReadingsOptions{Variable: "stage"})
 	if !errors.Is(err, ErrDuplicate) || !strings.Contains(err.Error(), "sparse.csv line 2") {
 		t.Errorf("err = %v, want a duplicate on line 2", err)

@@ -42,10 +42,20 @@ type ReadingsOptions struct {
 	VariableCol  string // column holding the variable name; excludes Variable
 	Variable     string // fixed variable name for every row; excludes VariableCol
 	Unit         string // unit of the series; "" leaves it unstated
-	TZ           string // IANA zone for zone-less times; "" means UTC
-	DecimalComma bool   // values use a comma as decimal separator
-	Delimiter    byte   // field separator; 0 means ','
-	OnDuplicate  OnDuplicate
+	TZ           string // zone of zone-less times (timefmt.ParseZone: a name or a fixed offset); "" means UTC
+	// CensorCol names a column of censoring remarks ('<', '>' or empty)
+	// that mark the value of the same row; "" for none.
+	CensorCol string
+	// NoCensored rejects censored values ('<5', '>5', or a remark) instead
+	// of storing them with their mark.
+	NoCensored bool
+	// MissingValues are raw value-cell texts that mean "no reading"
+	// (matched exactly, e.g. "-999", "NA"); such rows are rejected with the
+	// reason "declared missing-value marker" and counted in RowsMissing.
+	MissingValues []string
+	DecimalComma  bool // values use a comma as decimal separator
+	Delimiter     byte // field separator; 0 means ','
+	OnDuplicate   OnDuplicate
 	// Progress, if set, is called now and then while the file is read, and
 	// once at its end, from the importing goroutine.
 	Progress func(Progress)
@@ -88,6 +98,16 @@ type ImportResult struct {
 	RowsDuplicate int64
 	RowsReplaced  int64
 	// Readings only.
+	RowsCensored int64 // of RowsStored: stored with a censoring mark
+	RowsMissing  int64 // of RowsRejected: value cell was a declared missing-value marker
+	// DuplicatesRecorded counts the rows of import_duplicates this batch
+	// wrote: every duplicate under keep-first, the replaced ones under
+	// replace.
+	DuplicatesRecorded int64
+	// SameFileBatch is the earliest finished readings batch of a file with
+	// the same SHA-256 (0: none); the import went ahead because duplicates
+	// are kept or replaced.
+	SameFileBatch   int64
 	StationsCreated int64 // stations created with their id only
 	SeriesCreated   int64
 	SeriesWritten   int64 // series with rows in series_batches for this batch

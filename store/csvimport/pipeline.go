@@ -9,7 +9,7 @@ import (
 
 // rowCols are the header indexes of the columns a readings import uses
 // (-1: absent).
-type rowCols struct{ station, variable, time, value, qualifier int }
+type rowCols struct{ station, variable, time, value, qualifier, censor int }
 
 // parsedRow is one record after parsing: either a reject reason or the
 // row's station, variable, time, value and qualifier.
@@ -20,7 +20,9 @@ type parsedRow struct {
 	station, variable string
 	t                 int64
 	v                 float64
+	c                 int8 // censoring mark: 0, −1 ('<'), 1 ('>')
 	q                 *string
+	missing           bool // rejected as a declared missing-value marker
 }
 
 type parsedChunk struct {
@@ -100,6 +102,10 @@ func (im *readingsImporter) parse(r *csvRecord, h *csvHeader, c rowCols) parsedR
 		return p
 	}
 	f := r.fields
+	if _, ok := im.missing[f[c.value]]; ok {
+		p.reason, p.missing = reasonMissing, true
+		return p
+	}
 	if p.station = strings.TrimSpace(f[c.station]); p.station == "" {
 		p.reason = "missing station"
 		return p
@@ -120,7 +126,11 @@ func (im *readingsImporter) parse(r *csvRecord, h *csvHeader, c rowCols) parsedR
 		p.reason = "bad time: " + err.Error()
 		return p
 	}
-	if p.v, p.reason = parseValue(f[c.value], im.opt.DecimalComma); p.reason != "" {
+	remark := ""
+	if c.censor >= 0 {
+		remark = f[c.censor]
+	}
+	if p.v, p.c, p.reason = parseReported(f[c.value], remark, im.opt.DecimalComma, !im.opt.NoCensored); p.reason != "" {
 		return p
 	}
 	if c.qualifier >= 0 && f[c.qualifier] != "" {

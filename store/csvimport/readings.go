@@ -3,9 +3,11 @@ package csvimport
 import (
 	"context"
 	"database/sql"
+	"encoding/hex"
 	"fmt"
 	"time"
 
+	"trendsql/sqlfuncs/timefmt"
 	"trendsql/store"
 )
 
@@ -32,9 +34,11 @@ type pendingRow struct {
 	t       int64
 	v       float64
 	q       *string
+	c       int8 // censoring mark
 	line    int
 	dupLine int  // earlier line of this file with the same series and time
 	probe   bool // may collide with a stored reading
+	written bool // resolve queued this row for writing
 }
 
 type storedKey struct {
@@ -45,6 +49,7 @@ type storedKey struct {
 type storedVal struct {
 	v float64
 	q sql.NullString
+	c sql.NullString // censoring mark
 }
 
 // pendingRows is how many rows are checked against stored readings at once.
@@ -62,23 +67,30 @@ type readingsImporter struct {
 	probes  map[*seriesState][]int64
 	found   map[storedKey]storedVal
 	free    chan *parsedChunk
+	missing map[string]struct{} // declared missing-value markers
+	marks   map[storedKey]int8  // censoring of readings this batch writes
+	dups    []any               // queued import_duplicates arguments
+	ndups   int
 
 	stFindSeries, stFindStation, stAddStation, stAddSeries, stRange, stSetUnit, stProbeRange *sql.Stmt
 }
 
 // readingsOptionsRecord is the options JSON of a readings batch.
 type readingsOptionsRecord struct {
-	StationCol   string `json:"station_col"`
-	TimeCol      string `json:"time_col"`
-	ValueCol     string `json:"value_col"`
-	QualifierCol string `json:"qualifier_col"`
-	VariableCol  string `json:"variable_col,omitempty"`
-	Variable     string `json:"variable,omitempty"`
-	Unit         string `json:"unit,omitempty"`
-	TZ           string `json:"tz"`
-	DecimalComma bool   `json:"decimal_comma"`
-	Delimiter    string `json:"delimiter"`
-	OnDuplicate  string `json:"on_duplicate"`
+	StationCol    string   `json:"station_col"`
+	TimeCol       string   `json:"time_col"`
+	ValueCol      string   `json:"value_col"`
+	QualifierCol  string   `json:"qualifier_col"`
+	VariableCol   string   `json:"variable_col,omitempty"`
+	Variable      string   `json:"variable,omitempty"`
+	Unit          string   `json:"unit,omitempty"`
+	TZ            string   `json:"tz"`
+	DecimalComma  bool     `json:"decimal_comma"`
+	Delimiter     string   `json:"delimiter"`
+	OnDuplicate   string   `json:"on_duplicate"`
+	CensorCol     string   `json:"censor_col,omitempty"`
+	Censored      bool     `json:"censored"`
+	MissingValues []string `json:"missing_values,omitempty"`
 }
 
 // ImportReadings imports a readings file (see the package documentation for
@@ -93,8 +105,22 @@ func ImportReadings(ctx context.Context, s *store.Store, path string, opt Readin
 	}
 	loc := time.UTC
 	if opt.TZ != "" {
-		if loc, err = time.LoadLocation(opt.TZ); err != nil {
-			return nil, fmt.Errorf("import %s: time zone %q: %w", path, opt.TZ, err)
+		if loc, err = timefmt.ParseZone(opt.TZ); err != nil {
+			return nil, fmt.Errorf("import %s: %w", path, err)
+		}
+	}
+	// The same file imported before: found before anything is read or
+	// written when the file can be hashed first (stdin is checked at its
+	// end, before the commit).
+	var sameFile int64
+	if path != StdinPath {
+		if sum, err := fileSHA256(path); err == nil {
+			if sameFile, err = earlierBatch(ctx, s.DB, sum); err != nil {
+				return nil, fmt.Errorf("import %s: look up earlier batches: %w", path, err)
+			}
+			if sameFile != 0 && opt.OnDuplicate == DupError {
+				return nil, &AlreadyImportedError{File: path, SHA256: sum, Batch: sameFile}
+			}
 		}
 	}
 	in, err := openInput(path, opt.Stdin)
@@ -102,7 +128,11 @@ func ImportReadings(ctx context.Context, s *store.Store, path string, opt Readin
 		return nil, fmt.Errorf("import: %w", err)
 	}
 	defer in.f.Close()
-	return importReadings(ctx, s, in, opt, loc)
+	res, err := importReadings(ctx, s, in, opt, loc)
+	if res != nil && res.SameFileBatch == 0 {
+		res.SameFileBatch = sameFile
+	}
+	return res, err
 }
 
 func importReadings(ctx context.Context, s *store.Store, in *importInput, opt ReadingsOptions, loc *time.Location) (*ImportResult, error) {
@@ -146,6 +176,12 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 	if iQual < 0 {
 		qualCol = ""
 	}
+	iCensor := -1
+	if opt.CensorCol != "" {
+		if iCensor, _, err = col(opt.CensorCol, "censor", true); err != nil {
+			return nil, err
+		}
+	}
 	iVar, varCol := -1, ""
 	if opt.Variable == "" {
 		iVar, varCol, err = col(opt.VariableCol, "variable", false)
@@ -160,7 +196,8 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 
 	rec := readingsOptionsRecord{StationCol: stationCol, TimeCol: timeCol, ValueCol: valueCol, QualifierCol: qualCol,
 		VariableCol: varCol, Variable: opt.Variable, Unit: opt.Unit, TZ: loc.String(), DecimalComma: opt.DecimalComma,
-		Delimiter: string(rune(delimOf(opt.Delimiter))), OnDuplicate: string(opt.OnDuplicate)}
+		Delimiter: string(rune(delimOf(opt.Delimiter))), OnDuplicate: string(opt.OnDuplicate),
+		CensorCol: opt.CensorCol, Censored: !opt.NoCensored, MissingValues: opt.MissingValues}
 	// The whole import runs on one connection of the pool, so that the bulk
 	// insert can use SQLite's C API on the connection that owns the
 	// transaction (rawbulk.go). Deferred calls run in reverse: statements
@@ -190,7 +227,8 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 	defer b.tx.Rollback()
 
 	im := &readingsImporter{importBatch: b, opt: opt, loc: loc, byKey: map[seriesKey]*seriesState{},
-		probes: map[*seriesState][]int64{}, found: map[storedKey]storedVal{}}
+		probes: map[*seriesState][]int64{}, found: map[storedKey]storedVal{},
+		missing: missingSet(opt.MissingValues), marks: map[storedKey]int8{}}
 	defer im.closeStmts()
 	if err := im.prepare(ctx, conn); err != nil {
 		return nil, err
@@ -203,7 +241,7 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 
 	// One goroutine reads and parses the file while this one does the
 	// database work; parsed rows pass in chunks, in file order.
-	cols := rowCols{station: iStation, variable: iVar, time: iTime, value: iValue, qualifier: iQual}
+	cols := rowCols{station: iStation, variable: iVar, time: iTime, value: iValue, qualifier: iQual, censor: iCensor}
 	chunks, stop := im.parseAsync(cr, h, cols)
 	defer stop()
 	for {
@@ -231,6 +269,9 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 				}
 			}
 			if p.reason != "" {
+				if p.missing {
+					b.res.RowsMissing++
+				}
 				if err := b.reject(ctx, p.line, p.raw, p.reason); err != nil {
 					return nil, err
 				}
@@ -250,6 +291,23 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 	}
 	if opt.OnDuplicate != DupReplace && affected != b.res.RowsStored {
 		return nil, fmt.Errorf("import %s: internal error: %d readings inserted, %d expected", in.name, affected, b.res.RowsStored)
+	}
+	if err := im.applyMarks(ctx); err != nil {
+		return nil, err
+	}
+	if err := im.flushDuplicates(ctx); err != nil {
+		return nil, err
+	}
+	if in.name == StdinName {
+		sum := hex.EncodeToString(in.h.Sum(nil))
+		id, err := earlierBatch(ctx, b.tx, sum)
+		if err != nil {
+			return nil, fmt.Errorf("import %s: look up earlier batches: %w", in.name, err)
+		}
+		if id != 0 && opt.OnDuplicate == DupError {
+			return nil, &AlreadyImportedError{File: in.name, SHA256: sum, Batch: id}
+		}
+		b.res.SameFileBatch = id
 	}
 	if err := im.checkBatchSeries(ctx); err != nil {
 		return nil, err
@@ -291,7 +349,7 @@ func (im *readingsImporter) prepare(ctx context.Context, conn *sql.Conn) error {
 		// Two sub-queries, so each is a single index probe.
 		{&im.stRange, `SELECT (SELECT min(t) FROM readings WHERE series_id = ?1), (SELECT max(t) FROM readings WHERE series_id = ?1)`},
 		{&im.stSetUnit, `UPDATE series SET unit = ? WHERE id = ?`},
-		{&im.stProbeRange, `SELECT t, value, qualifier FROM readings WHERE series_id = ? AND t BETWEEN ? AND ? ORDER BY t LIMIT ?`},
+		{&im.stProbeRange, `SELECT t, value, qualifier, censored FROM readings WHERE series_id = ? AND t BETWEEN ? AND ? ORDER BY t LIMIT ?`},
 	} {
 		st, err := im.tx.PrepareContext(ctx, p.q)
 		if err != nil {

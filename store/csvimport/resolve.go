@@ -22,7 +22,7 @@ func (im *readingsImporter) accept(ctx context.Context, p *parsedRow) error {
 		p.reason = ss.reject
 		return nil
 	}
-	pr := pendingRow{ser: ss, t: p.t, v: p.v, q: p.q, line: p.line}
+	pr := pendingRow{ser: ss, t: p.t, v: p.v, q: p.q, c: p.c, line: p.line}
 	pr.dupLine = ss.seen.add(p.t, p.line)
 	if pr.dupLine == 0 && ss.hasStored && p.t >= ss.smin && p.t <= ss.smax {
 		pr.probe = true
@@ -107,9 +107,10 @@ func (im *readingsImporter) resolve(ctx context.Context) error {
 		return nil
 	}
 	first := im.pending[0].line
-	if mode == DupReplace {
-		// A repeat of a row from an earlier chunk is compared with what the
-		// store now holds for it, so the queued rows must be written first.
+	if mode != DupError {
+		// A repeat of a row from an earlier chunk is compared with (and
+		// recorded against) what the store now holds for it, so the queued
+		// rows must be written first.
 		needSync := false
 		for i := range im.pending {
 			if p := &im.pending[i]; p.dupLine != 0 && p.dupLine < first {
@@ -156,18 +157,30 @@ func (im *readingsImporter) resolve(ctx context.Context) error {
 		}
 		if dup {
 			im.res.RowsDuplicate++
+			prevV, prevC := im.previous(i)
 			switch {
 			case mode == DupKeepFirst:
 				write = false
+				if err := im.recordDuplicate(ctx, p, prevV, prevC, p.v, p.c); err != nil {
+					return err
+				}
 			case im.unchanged(i):
 				write = false // replace with the very same reading: nothing to do
 			default:
 				im.res.RowsReplaced++
+				if err := im.recordDuplicate(ctx, p, p.v, p.c, prevV, prevC); err != nil {
+					return err
+				}
 			}
 		} else {
 			im.res.RowsStored++
+			if p.c != 0 {
+				im.res.RowsCensored++
+			}
 		}
 		if write {
+			p.written = true
+			im.noteMark(ss.id, p.t, p.c)
 			ss.written++
 			if err := im.w.Add(ctx, Reading{SeriesID: ss.id, T: p.t, Value: p.v, Qualifier: p.q}); err != nil {
 				return fmt.Errorf("import %s near line %d: %w", im.in.name, p.line, err)
@@ -176,7 +189,23 @@ func (im *readingsImporter) resolve(ctx context.Context) error {
 	}
 	im.pending = im.pending[:0]
 	clear(im.found)
-	return nil
+	return im.flushDuplicates(ctx)
+}
+
+// previous returns the reading that duplicate row i meets: the latest
+// earlier row of this chunk with the same series and time that was
+// written, else what the store holds.
+func (im *readingsImporter) previous(i int) (float64, int8) {
+	p := &im.pending[i]
+	if p.dupLine != 0 {
+		for j := i - 1; j >= 0; j-- {
+			if q := &im.pending[j]; q.ser == p.ser && q.t == p.t && q.written {
+				return q.v, q.c
+			}
+		}
+	}
+	sv := im.found[storedKey{p.ser.id, p.t}]
+	return sv.v, markFromDB(sv.c)
 }
 
 // unchanged reports whether duplicate row i carries the same value and
@@ -187,7 +216,7 @@ func (im *readingsImporter) unchanged(i int) bool {
 	if p.dupLine != 0 {
 		for j := i - 1; j >= 0; j-- {
 			if q := &im.pending[j]; q.ser == p.ser && q.t == p.t {
-				return q.v == p.v && sameQualifier(q.q, p.q)
+				return q.v == p.v && q.c == p.c && sameQualifier(q.q, p.q)
 			}
 		}
 	}
@@ -199,7 +228,7 @@ func (im *readingsImporter) unchanged(i int) bool {
 	if sv.q.Valid {
 		q = &sv.q.String
 	}
-	return sv.v == p.v && sameQualifier(q, p.q)
+	return sv.v == p.v && markFromDB(sv.c) == p.c && sameQualifier(q, p.q)
 }
 
 func sameQualifier(a, b *string) bool {
@@ -235,7 +264,7 @@ func (im *readingsImporter) lookupStored(ctx context.Context, sid int64, ts []in
 		for _, t := range ts[:k] {
 			args = append(args, t)
 		}
-		q := "SELECT t, value, qualifier FROM readings WHERE series_id = ? AND t IN (" +
+		q := "SELECT t, value, qualifier, censored FROM readings WHERE series_id = ? AND t IN (" +
 			strings.TrimSuffix(strings.Repeat("?,", k), ",") + ")"
 		rows, err := im.tx.QueryContext(ctx, q, args...)
 		if err != nil {
@@ -255,7 +284,7 @@ func (im *readingsImporter) scanStored(sid int64, rows *sql.Rows) (int, error) {
 	for rows.Next() {
 		var t int64
 		var sv storedVal
-		if err := rows.Scan(&t, &sv.v, &sv.q); err != nil {
+		if err := rows.Scan(&t, &sv.v, &sv.q, &sv.c); err != nil {
 			return n, fmt.Errorf("import %s: look up stored readings: %w", im.in.name, err)
 		}
 		im.found[storedKey{sid, t}] = sv
