@@ -32,8 +32,8 @@ type InputError struct {
 	// Err is the sentinel the error matches (nil for none).
 	Err error
 	// MissingColumn, with ErrMissingColumn, names what the missing column
-	// was looked up for ("station", "time", "value", "qualifier" or
-	// "variable"); DefaultName says the import looked for the default
+	// was looked up for ("station", "time", "value", "qualifier",
+	// "variable" or "censor"); DefaultName says the import looked for the default
 	// name because the caller named no column.
 	MissingColumn string
 	DefaultName   bool
