@@ -1,7 +1,10 @@
 // Package store owns a trendsql store: opening it with the right pragmas,
-// its schema (applied from package migrations) and every SQL statement the
-// tool itself issues. Commands in cmd/ call this package and never build
-// SQL of their own.
+// its schema (applied from package migrations), the catalog queries and
+// the typed errors of the store core. The SQL the tool itself issues lives
+// here and in the packages below: csvimport (CSV import of stations and
+// readings), summaries (summary runs), demodata (the demo store) and
+// benchmark (the bench harness); storetest holds the helpers tests share.
+// Commands in cmd/ call these packages and never build SQL of their own.
 package store
 
 import (

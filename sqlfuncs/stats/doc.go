@@ -1,6 +1,9 @@
 // Package stats is trendsql's numerical core: plain Go functions over slices
-// with no SQL imports. The SQL bindings in package sqlfuncs convert
-// arguments and call into here.
+// with no SQL imports (it uses package timefmt for the year length and
+// durations). It holds every statistic, including the per-series summary
+// that summary runs store (summary.go) and the Benjamini–Hochberg
+// adjustment across a run's series (fdr.go). The SQL bindings in package
+// sqlfuncs convert arguments and call into here.
 //
 // Conventions used throughout (one notation for the whole repository):
 //

@@ -28,13 +28,14 @@ import (
 	"fmt"
 	"math"
 
+	"trendsql/sqlfuncs/timefmt"
+
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
-// SecondsPerYear is 365.25 d in seconds, the year of every "per year"
-// figure (the same constant as timefmt.SecondsPerYear; stats has no
-// dependency on the SQL-side packages).
-const SecondsPerYear = 365.25 * 86400
+// SecondsPerYear is the year of every "per year" figure: 365.25 d in
+// seconds, as defined by timefmt.
+const SecondsPerYear = timefmt.SecondsPerYear
 
 // MaxTrendDegree and MaxHarmonics bound the spec.
 const (

@@ -24,6 +24,8 @@ import (
 	"math/rand/v2"
 	"os"
 	"strconv"
+
+	"trendsql/sqlfuncs/timefmt"
 )
 
 // Start is the time of the first generated reading: 2015-01-01T00:00:00Z.
@@ -45,7 +47,7 @@ func (d Data) Rows() int64 { return int64(d.Series) * int64(d.PerSeries) }
 // each calls fn for every reading, series by series in time order.
 func (d Data) each(fn func(series int, t int64, v float64, qual bool) error) error {
 	const hour = 3600
-	const year = 365.25 * 86400
+	const year = timefmt.SecondsPerYear
 	for s := 1; s <= d.Series; s++ {
 		r := rand.New(rand.NewPCG(d.Seed, uint64(s)))
 		level := 20 + 80*r.Float64()
@@ -134,5 +136,5 @@ func WriteCSV(path string, d Data) (int64, error) {
 // spansTwoYears says whether every generated record spans two years (the
 // generator's gaps take up to three days).
 func (d Data) spansTwoYears() bool {
-	return float64(d.PerSeries)*3600 >= 2*365.25*86400+4*86400
+	return float64(d.PerSeries)*3600 >= 2*timefmt.SecondsPerYear+4*86400
 }

@@ -5,6 +5,7 @@ import (
 	"time"
 
 	"trendsql/sqlfuncs/stats"
+	"trendsql/sqlfuncs/timefmt"
 )
 
 // Options configures Run.
@@ -102,6 +103,6 @@ func SummaryModel() stats.SummaryOptions {
 // per year), correlogram to lag 48 and Ljung–Box at 24.
 func SeasonalSummaryModel() stats.SummaryOptions {
 	m := SummaryModel()
-	m.PeriodS, m.Harmonics, m.Seasons = 365.25*86400, 2, 12
+	m.PeriodS, m.Harmonics, m.Seasons = timefmt.SecondsPerYear, 2, 12
 	return m
 }
