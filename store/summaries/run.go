@@ -43,8 +43,8 @@ type Options struct {
 	ToolVersion string
 	// Progress, if set, is called after each series is computed.
 	Progress func(done, total int)
-	// Analyze computes one series' figures (injected so the numerical core
-	// stays free of SQL). Required.
+	// Analyze computes one series' figures: stats.SummarizeSeries, or a
+	// stand-in in tests. Required.
 	Analyze func(t, y []float64, opts stats.SummaryOptions) stats.SeriesSummary
 }
 
