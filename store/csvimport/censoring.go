@@ -143,7 +143,7 @@ func (im *readingsImporter) noteMark(sid, t int64, c int8) {
 	k := storedKey{sid, t}
 	if c != 0 {
 		im.marks[k] = c
-	} else if _, ok := im.marks[k]; ok {
+	} else {
 		delete(im.marks, k)
 	}
 }
