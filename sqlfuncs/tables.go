@@ -113,13 +113,27 @@ func OpenDB(dsn string) (*sql.DB, error) {
 	if err := Register(); err != nil {
 		return nil, err
 	}
-	return sql.OpenDB(&tfConnector{dsn: dsn, drv: sqliteDriver(), names: tableNames()}), nil
+	return OpenDBWith(dsn, nil)
+}
+
+// ConnSetup prepares one new driver connection after the table-valued
+// functions exist on it (e.g. installs an authorizer). An error discards
+// the connection.
+type ConnSetup func(ctx context.Context, conn driver.Conn) error
+
+// OpenDBWith is OpenDB with setup run on every new connection.
+func OpenDBWith(dsn string, setup ConnSetup) (*sql.DB, error) {
+	if err := Register(); err != nil {
+		return nil, err
+	}
+	return sql.OpenDB(&tfConnector{dsn: dsn, drv: sqliteDriver(), names: tableNames(), setup: setup}), nil
 }
 
 type tfConnector struct {
 	dsn   string
 	drv   driver.Driver
 	names []string
+	setup ConnSetup
 }
 
 func (c *tfConnector) Driver() driver.Driver { return c.drv }
@@ -129,6 +143,18 @@ func (c *tfConnector) Driver() driver.Driver { return c.drv }
 // lifted for the duration: the temp schema is private to the connection and
 // the database file is not written.
 func (c *tfConnector) Connect(ctx context.Context) (driver.Conn, error) {
+	conn, err := c.connect(ctx)
+	if err != nil || c.setup == nil {
+		return conn, err
+	}
+	if err := c.setup(ctx, conn); err != nil {
+		conn.Close()
+		return nil, err
+	}
+	return conn, nil
+}
+
+func (c *tfConnector) connect(ctx context.Context) (driver.Conn, error) {
 	conn, err := c.drv.Open(c.dsn)
 	if err != nil || len(c.names) == 0 {
 		return conn, err

@@ -15,6 +15,9 @@ var (
 	ErrSchemaOutdated = errors.New("store schema is outdated")
 	// ErrNoTable: a catalog query names a table or view that is not there.
 	ErrNoTable = errors.New("no such table or view")
+	// ErrGuard: the statement guard could not be installed on a
+	// connection (see guard.go).
+	ErrGuard = errors.New("cannot guard the store's connections")
 )
 
 // SchemaError is returned by a read-only Open of a store whose schema

@@ -45,9 +45,15 @@ func ResolvePath(given string) string {
 
 // Options controls Open.
 type Options struct {
-	// ReadOnly opens the file read-only (mode=ro plus PRAGMA query_only):
-	// any statement that would write fails.
+	// ReadOnly opens the file read-only (mode=ro plus PRAGMA query_only
+	// plus the guard in guard.go): no statement can write the store or any
+	// other file.
 	ReadOnly bool
+	// UserSQL marks a writable store that runs SQL typed by a user: the
+	// PRAGMAs that switch off a safety of the store are refused.
+	UserSQL bool
+	// AllowUnsafePragmas lifts that refusal (expert use).
+	AllowUnsafePragmas bool
 }
 
 // Store is an open trendsql store.
@@ -65,6 +71,7 @@ func DSN(path string, readOnly bool) string {
 	if readOnly {
 		q.Add("mode", "ro")
 		q.Add("_pragma", "query_only(1)")
+		q.Add("_defensive", "1")
 	} else {
 		q.Add("_pragma", "journal_mode(WAL)")
 		q.Add("_pragma", "synchronous(NORMAL)")
@@ -85,7 +92,7 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 			return nil, fmt.Errorf("open %s: %w", path, ErrNoStore)
 		}
 	}
-	db, err := sqlfuncs.OpenDB(DSN(path, opt.ReadOnly))
+	db, err := sqlfuncs.OpenDBWith(DSN(path, opt.ReadOnly), guardSetup(opt))
 	if err != nil {
 		return nil, fmt.Errorf("open %s: %w", path, err)
 	}

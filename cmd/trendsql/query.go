@@ -13,8 +13,9 @@ import (
 )
 
 type queryOptions struct {
-	format string
-	write  bool
+	format        string
+	write         bool
+	unsafePragmas bool
 }
 
 func newQueryCmd(e *env) *cobra.Command {
@@ -30,7 +31,10 @@ SQL function is available (see 'trendsql functions').`,
 			if !validFormat(opts.format) {
 				return usageErr("query: --format must be table, csv or json, got %q", opts.format)
 			}
-			s, err := e.open(cmd.Context(), !opts.write)
+			if opts.unsafePragmas && !opts.write {
+				return usageErr("query: --allow-unsafe-pragmas needs --write")
+			}
+			s, err := e.openForSQL(cmd.Context(), opts.write, opts.unsafePragmas)
 			if err != nil {
 				return err
 			}
@@ -40,6 +44,7 @@ SQL function is available (see 'trendsql functions').`,
 	}
 	c.Flags().StringVar(&opts.format, "format", FormatTable, "output format: table, csv or json")
 	c.Flags().BoolVar(&opts.write, "write", false, "open the store writable so statements may change it")
+	c.Flags().BoolVar(&opts.unsafePragmas, "allow-unsafe-pragmas", false, unsafePragmasUsage)
 	return c
 }
 
@@ -199,6 +204,9 @@ var nearRE = regexp.MustCompile(`near "([^"]*)"`)
 // one, to a statement's error.
 func sqlError(all string, st statement, err error) error {
 	msg := err.Error()
+	if store.IsNotAuthorized(err) {
+		msg += guardHint
+	}
 	if m := nearRE.FindStringSubmatch(msg); m != nil && m[1] != "" {
 		if k := strings.Index(st.text, m[1]); k >= 0 {
 			pos := st.offset + k
@@ -209,3 +217,8 @@ func sqlError(all string, st statement, err error) error {
 	}
 	return fmt.Errorf("SQL error: %s", msg)
 }
+
+const unsafePragmasUsage = "with --write, also allow the PRAGMAs that switch off a safety of the store (writable_schema, foreign_keys=off, journal_mode=off, synchronous=off, ignore_check_constraints, schema_version)"
+
+// guardHint explains a statement refused by the store's guard.
+const guardHint = ` (refused by trendsql: without --write the store allows no ATTACH, DETACH, VACUUM, PRAGMA that sets a value, or load_extension; with --write the PRAGMAs that switch off a safety of the store need --allow-unsafe-pragmas)`

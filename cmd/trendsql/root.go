@@ -52,6 +52,14 @@ func (e *env) open(ctx context.Context, readOnly bool) (*store.Store, error) {
 	return s, wordOpenError(err)
 }
 
+// openForSQL opens the store for SQL typed by the user (query, shell):
+// read-only unless write; with write, the PRAGMAs that switch off a safety
+// of the store stay refused unless unsafePragmas.
+func (e *env) openForSQL(ctx context.Context, write, unsafePragmas bool) (*store.Store, error) {
+	s, err := store.Open(ctx, e.dbPath(), store.Options{ReadOnly: !write, UserSQL: write, AllowUnsafePragmas: unsafePragmas})
+	return s, wordOpenError(err)
+}
+
 // Main runs the CLI and returns the process exit code.
 func Main(args []string, in io.Reader, out, errw io.Writer) int {
 	e := &env{in: in, out: out, errw: errw}

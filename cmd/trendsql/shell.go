@@ -32,8 +32,9 @@ Shell commands (one per line, not ended by ';'):
 
 func newShellCmd(e *env) *cobra.Command {
 	var (
-		write  bool
-		format string
+		write         bool
+		unsafePragmas bool
+		format        string
 	)
 	c := &cobra.Command{
 		Use:   "shell",
@@ -54,7 +55,10 @@ The store is opened read-only unless --write is given.`,
 			if !validFormat(format) {
 				return usageErr("shell: --format must be table, csv or json, got %q", format)
 			}
-			s, err := e.open(cmd.Context(), !write)
+			if unsafePragmas && !write {
+				return usageErr("shell: --allow-unsafe-pragmas needs --write")
+			}
+			s, err := e.openForSQL(cmd.Context(), write, unsafePragmas)
 			if err != nil {
 				return err
 			}
@@ -72,6 +76,7 @@ The store is opened read-only unless --write is given.`,
 		},
 	}
 	c.Flags().BoolVar(&write, "write", false, "open the store writable so statements may change it")
+	c.Flags().BoolVar(&unsafePragmas, "allow-unsafe-pragmas", false, unsafePragmasUsage)
 	c.Flags().StringVar(&format, "format", FormatTable, "initial result format: table, csv or json")
 	return c
 }
