@@ -8,25 +8,30 @@ import (
 	"slices"
 )
 
-// setKeys prepares the floating-point keys b_i(s) and their error scale.
+// setKeys prepares the floating-point keys b_i(s) = y_i − s·x_i at the
+// slope estimate s of v (key) and the bound keyTol on the error of a
+// difference of two keys.
+//
+// Each key is within 6u·(|y_i| + |s·x_i|) of the exact b_i(v) − v·t_0
+// (s carries at most 3u relative error, the product and the difference one
+// rounding each), so with M = max|y| + |s|·max|x| a computed difference is
+// within 12u·M (plus its own rounding) of the exact one; keyTol = 32u·M
+// leaves a wide margin. Keys farther apart than keyTol are in the exact
+// order.
 func (d *senData) setKeys(v slopeRef) {
-	d.key = grow(d.key, d.n)
-	d.mag = grow(d.mag, d.n)
-	s := d.slopeF(v)
-	for i := 0; i < d.n; i++ {
-		p := s * d.x[i]
-		d.key[i] = d.y[i] - p
-		d.mag[i] = math.Abs(d.y[i]) + math.Abs(p)
-	}
+	d.s = d.slopeF(v)
+	d.keyTol = 32*epsU*(d.maxAbsY+math.Abs(d.s)*d.maxAbsX)*(1+16*epsU) + 1e-300
 }
+
+// key is b_i at the slope estimate set by setKeys.
+func (d *senData) key(i int32) float64 { return d.y[i] - d.s*d.x[i] }
 
 // cmpPts compares b_i and b_j at the slope v exactly (keys must be set).
 func (d *senData) cmpPts(i, j int32, v slopeRef) int {
-	diff := d.key[i] - d.key[j]
-	thr := 16*epsU*(d.mag[i]+d.mag[j]) + 1e-300
-	if diff > thr {
+	diff := d.key(i) - d.key(j)
+	if diff > d.keyTol {
 		return 1
-	} else if diff < -thr {
+	} else if diff < -d.keyTol {
 		return -1
 	}
 	// sign((y_i − y_j)·D − N·(t_i − t_j))
@@ -43,9 +48,9 @@ func (d *senData) cmpPts(i, j int32, v slopeRef) int {
 // number of inversions of the base order under the keys at v. The base
 // order, as positions, is merge-sorted by the floating-point keys at v,
 // counting inversions on the way; starting near v keeps the inversions few
-// and the merges' branches predictable. Keys that differ by more than
-// G = 32u·max|mag| are in the exact order, so only chains of neighbours
-// closer than G can be misordered: they are re-sorted with the exact
+// and the merges short. Keys that differ by more than keyTol are in the
+// exact order, so only chains of neighbours closer than keyTol can be
+// misordered: they are re-sorted with the exact
 // comparator and the count corrected by the difference of the chain's
 // inversions after and before.
 func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
@@ -61,11 +66,8 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 	d.work = grow(d.work, d.n)
 	d.tmp = grow(d.tmp, d.n)
 	d.items = grow(d.items, 2*d.n)
-	var magMax float64
-	for _, m := range d.mag {
-		magMax = max(magMax, m)
-	}
-	g := 32*epsU*magMax + 1e-300
+	g := d.keyTol
+	sv, x, y := d.s, d.x, d.y
 	byPoint := func(a, b int32) int {
 		if c := d.cmpPts(base[a], base[b], v); c != 0 {
 			return c
@@ -77,7 +79,8 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 		lo, hi := d.blocks[b], d.blocks[b+1]
 		items := d.items[lo:hi]
 		for i := range items {
-			items[i] = keyItem{d.key[base[lo+i]], int32(lo + i)}
+			p := base[lo+i]
+			items[i] = keyItem{y[p] - sv*x[p], int32(lo + i)}
 		}
 		inv += mergeCountKeys(items, d.items[d.n+lo:d.n+hi])
 		seg := perm[lo:hi] // positions in base, then points
@@ -137,8 +140,9 @@ func (d *senData) identity() []int32 {
 
 // mergeCountKeys stably sorts a by k (merge sort, tmp as scratch of the same
 // length) and returns the number of pairs i < j with a[i].k > a[j].k. It is
-// countInversions for key–index items, written out because a generic
-// version with a key function measured twice as slow.
+// countInversions for key–index items, written out so that the key
+// comparison is inlined; merges skip the in-order head and tail of each
+// pair of runs, so nearly sorted input costs little more than copying.
 func mergeCountKeys(a, tmp []keyItem) int64 {
 	n := len(a)
 	var inv int64
@@ -161,8 +165,19 @@ func mergeCountKeys(a, tmp []keyItem) int64 {
 		for lo := 0; lo < n; lo += 2 * width {
 			mid := min(lo+width, n)
 			hi := min(lo+2*width, n)
-			i, j, k := lo, mid, lo
-			for i < mid && j < hi {
+			if mid >= hi || src[mid-1].k <= src[mid].k {
+				copy(dst[lo:hi], src[lo:hi])
+				continue
+			}
+			// Left items not above the right half's first stay in front,
+			// right items not below the left half's last stay at the back;
+			// only the overlap in between is merged.
+			i := searchAbove(src[lo:mid], src[mid].k) + lo
+			e := searchNotBelow(src[mid:hi], src[mid-1].k) + mid
+			copy(dst[lo:i], src[lo:i])
+			copy(dst[e:hi], src[e:hi])
+			j, k := mid, i
+			for i < mid && j < e {
 				if src[i].k <= src[j].k {
 					dst[k] = src[i]
 					i++
@@ -174,7 +189,7 @@ func mergeCountKeys(a, tmp []keyItem) int64 {
 				k++
 			}
 			k += copy(dst[k:], src[i:mid])
-			copy(dst[k:], src[j:hi])
+			copy(dst[k:], src[j:e])
 		}
 		src, dst = dst, src
 	}
@@ -182,6 +197,34 @@ func mergeCountKeys(a, tmp []keyItem) int64 {
 		copy(a, src)
 	}
 	return inv
+}
+
+// searchAbove returns the first index of a (sorted by k) with k > v.
+func searchAbove(a []keyItem, v float64) int {
+	lo, hi := 0, len(a)
+	for lo < hi {
+		m := int(uint(lo+hi) >> 1)
+		if a[m].k > v {
+			hi = m
+		} else {
+			lo = m + 1
+		}
+	}
+	return lo
+}
+
+// searchNotBelow returns the first index of a (sorted by k) with k ≥ v.
+func searchNotBelow(a []keyItem, v float64) int {
+	lo, hi := 0, len(a)
+	for lo < hi {
+		m := int(uint(lo+hi) >> 1)
+		if a[m].k >= v {
+			hi = m
+		} else {
+			lo = m + 1
+		}
+	}
+	return lo
 }
 
 type keyItem struct {

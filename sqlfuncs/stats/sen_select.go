@@ -25,12 +25,13 @@ type cut struct {
 }
 
 type senData struct {
-	t, y   []float64
-	x      []float64 // t − t[0], for floating-point keys
-	blocks []int     // block b is points blocks[b]..blocks[b+1]-1
-	n      int
-	pairs  int64
-	rng    *rand.Rand
+	t, y             []float64
+	x                []float64 // t − t[0], for floating-point keys
+	maxAbsX, maxAbsY float64
+	blocks           []int // block b is points blocks[b]..blocks[b+1]-1
+	n                int
+	pairs            int64
+	rng              *rand.Rand
 
 	// tuning (fields so that tests can force many rounds)
 	limit  int64 // enumerate when at most this many pairs are left
@@ -39,7 +40,7 @@ type senData struct {
 
 	// scratch
 	sorted    []float64 // a sorted copy of y (or t) for the medians and ties
-	key, mag  []float64
+	s, keyTol float64   // slope estimate and key tolerance of the current cut (setKeys)
 	tmp, work []int32
 	items     []keyItem
 	orders    []order // orders of evaluated cuts (v, <), oldest first
@@ -77,8 +78,11 @@ func newSenData(t, y []float64, blocks []int) *senData {
 	d := senPool.Get().(*senData)
 	d.t, d.y, d.blocks, d.n, d.pairs = t, y, blocks, n, 0
 	d.x = grow(d.x, n)
+	d.maxAbsX, d.maxAbsY = 0, 0
 	for i := range t {
 		d.x[i] = t[i] - t[0]
+		d.maxAbsX = max(d.maxAbsX, math.Abs(d.x[i]))
+		d.maxAbsY = max(d.maxAbsY, math.Abs(y[i]))
 	}
 	for b := 0; b+1 < len(blocks); b++ {
 		m := int64(blocks[b+1] - blocks[b])
