@@ -140,7 +140,7 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64, medi
 			res.MedianT = medianOfSorted(t)
 		} else {
 			copy(d.sorted, t)
-			slices.Sort(d.sorted)
+			d.sortFloats(d.sorted)
 			res.MedianT = medianOfSorted(d.sorted)
 		}
 	}
@@ -148,7 +148,7 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64, medi
 	if medians || (interval && varS == 0 && len(blocks) == 2) {
 		ys = d.sorted
 		copy(ys, y)
-		slices.Sort(ys)
+		d.sortFloats(ys)
 	}
 	if medians {
 		res.MedianY = medianOfSorted(ys)
@@ -178,6 +178,51 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64, medi
 		res.Upper = val(sel[3])
 	}
 	return res, nil
+}
+
+// sortFloats sorts s ascending (no NaN; −0 before +0) with the pooled
+// scratch: a least-significant-digit radix sort, one byte per pass, of the
+// order-preserving integer image of each value (sign bit set for
+// non-negative values, all bits flipped for negative ones). Passes whose
+// byte is the same for every value are skipped. Short slices use
+// slices.Sort.
+func (d *senData) sortFloats(s []float64) {
+	n := len(s)
+	if n < 512 {
+		slices.Sort(s)
+		return
+	}
+	d.radixA = grow(d.radixA, n)
+	d.radixB = grow(d.radixB, n)
+	a, b := d.radixA, d.radixB
+	var count [8][256]int
+	for i, f := range s {
+		u := math.Float64bits(f)
+		u ^= uint64(int64(u)>>63) | 1<<63
+		a[i] = u
+		for p := 0; p < 8; p++ {
+			count[p][byte(u>>(8*p))]++
+		}
+	}
+	for p := 0; p < 8; p++ {
+		c := &count[p]
+		if c[byte(a[0]>>(8*p))] == n {
+			continue // every value has this byte
+		}
+		pos := 0
+		for v := range c {
+			c[v], pos = pos, pos+c[v]
+		}
+		for _, u := range a {
+			k := byte(u >> (8 * p))
+			b[c[k]] = u
+			c[k]++
+		}
+		a, b = b, a
+	}
+	for i, u := range a {
+		s[i] = math.Float64frombits(u ^ ((u>>63 - 1) | 1<<63))
+	}
 }
 
 // Median returns the median of v (mean of the two middle values for even

@@ -40,7 +40,9 @@ type senData struct {
 
 	// scratch
 	sorted    []float64 // a sorted copy of y (or t) for the medians and ties
-	s, keyTol float64   // slope estimate and key tolerance of the current cut (setKeys)
+	radixA    []uint64  // scratch of sortFloats
+	radixB    []uint64
+	s, keyTol float64 // slope estimate and key tolerance of the current cut (setKeys)
 	tmp, work []int32
 	items     []keyItem
 	orders    []order // orders of evaluated cuts (v, <), oldest first

@@ -394,3 +394,36 @@ func TestSenOrderStatisticsMatchEnumeration(t *testing.T) {
 		t.Fatal("decreasing times: no error")
 	}
 }
+
+// TestSortFloatsMatchesSort: the radix sort used for the medians orders
+// like slices.Sort (common practice: any correct sort gives the same
+// sequence of values), with negative values, zeros of both signs, ties,
+// ±Inf, subnormal and huge magnitudes, below and above the length where
+// it takes over.
+func TestSortFloatsMatchesSort(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13, 17))
+	d := new(senData)
+	for _, n := range []int{0, 1, 5, 511, 512, 513, 3000, 20000} {
+		for kind := 0; kind < 3; kind++ {
+			s := make([]float64, n)
+			for i := range s {
+				switch kind {
+				case 0:
+					s[i] = rng.NormFloat64() * 1e3
+				case 1: // few levels, many ties, both zeros
+					s[i] = []float64{-2.5, -0.0, 0, 1.25, 7}[rng.IntN(5)]
+				default:
+					s[i] = []float64{math.Inf(-1), -1e300, -5e-324, 5e-324, 1e-310, 3, 1e300, math.Inf(1)}[rng.IntN(8)] * float64(1+rng.IntN(3))
+				}
+			}
+			want := slices.Clone(s)
+			slices.Sort(want)
+			d.sortFloats(s)
+			for i := range s {
+				if s[i] != want[i] || (i > 0 && math.Signbit(s[i]) && !math.Signbit(s[i-1]) && s[i] == 0) {
+					t.Fatalf("n=%d kind=%d: position %d is %v, sorted %v", n, kind, i, s[i], want[i])
+				}
+			}
+		}
+	}
+}
