@@ -15,29 +15,31 @@ package stats
 // selection", Inf. Process. Lett. 39:183–187; Dillencourt, Mount &
 // Netanyahu 1992, Int. J. Comput. Geom. Appl. 2:1–27): keep two cuts
 // lo < hi with #(slopes ≤ lo) < k ≤ #(slopes ≤ hi); the pairs between them
-// are exactly the inversions between the point orders at lo and at hi, so
-// m of them can be drawn uniformly at random by a merge sort that picks
-// sorted draws among the inversions it meets (from all pairs, the first
-// round draws pairs directly); the sample order statistics around the
-// target fraction (± 3√m) give new, narrower cuts. When at most
-// max(8n, 8192) pairs are left they are enumerated by an insertion sort
-// (O(n + K)) and the target is found by selection on the floating-point
-// slopes followed by an exact sort of the few slopes too close to it to
-// call. Each cut's order is sorted starting from the order of the nearest
-// cut evaluated before, so later cuts cost little more than a pass over
-// the points.
+// are exactly the inversions between the point orders at lo and at hi.
+// Draw m of them uniformly at random (the first round draws pairs directly
+// from all pairs); the number of sampled slopes below the target is
+// binomial, so the sample order statistics three of its standard
+// deviations (plus two) either side of the target's expected position give
+// new, narrower cuts. When at most max(8n, 8192) pairs are left they are
+// listed and the target is found by selection on the floating-point slopes
+// followed by an exact sort of the few slopes too close to it to call.
 //
-// Several ranks are selected together (the median's two middle ranks and
-// the interval's two ranks): one sampling round serves every target whose
-// bracket is the same, and targets whose sample windows overlap share their
-// cuts, so the usual cost is one direct sample, two cuts, one Fenwick
-// sample, two cuts per distinct target and one enumeration per target.
-//
+// Each cut's order is sorted starting from the order of the nearest cut
+// evaluated before (sen_count.go), and the sort of a window's upper cut
+// from its lower cut meets exactly the window's pairs as inversions: it
+// lists them, or draws the next round's sample from them, on the way
+// (sen_harvest.go). Several ranks are selected together (the median's two
+// middle ranks and the interval's two ranks): targets whose windows overlap
+// share their cuts, so the usual cost is one direct sample, two cuts (the
+// second also drawing the next sample) and two cuts per distinct target
+// (the second also listing its window).
+
 // All comparisons are exact (exact.go), so the result is the k-th order
 // statistic of the exact slopes of the given floating-point data; the
 // returned value is that slope correctly rounded. Random sampling affects
-// only the running time. Memory is O(n) throughout (samples and enumerated
-// lists hold at most 8n pairs); the scratch buffers are pooled between calls.
+// only the running time. Memory is O(n) throughout (samples and listed
+// windows hold at most 8n pairs each, a few orders of n points are cached);
+// the scratch buffers are pooled between calls.
 //
 // The same machinery selects over the union of within-block pairs (blocks
 // of consecutive points, e.g. seasons), used by the seasonal Sen slope.

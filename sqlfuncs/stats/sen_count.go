@@ -53,14 +53,23 @@ func (d *senData) cmpPts(i, j int32, v slopeRef) int {
 // misordered: they are re-sorted with the exact
 // comparator and the count corrected by the difference of the chain's
 // inversions after and before.
-func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
+func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest) (less, lessEq int64) {
 	fv := d.slopeF(v)
+	if from == nil {
+		from = d.nearestOrder(fv)
+	}
+	if from == nil {
+		h = nil // pairs below v are gathered only from an evaluated cut
+	}
 	base, baseLess, dir := d.identity(), int64(0), int64(1)
-	if o := d.nearestOrder(fv); o != nil {
-		base, baseLess = o.perm, o.less
-		if d.cmpSlopes(v, o.v, fv, o.f) < 0 {
+	if from != nil {
+		base, baseLess = from.perm, from.less
+		if d.cmpSlopes(v, from.v, fv, from.f) < 0 {
 			dir = -1
 		}
+	}
+	if h != nil {
+		h.start(d, base)
 	}
 	d.setKeys(v)
 	d.work = grow(d.work, d.n)
@@ -74,6 +83,8 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 		}
 		return int(base[a] - base[b])
 	}
+	chains := d.chains[:0]
+	chainPos := d.chainPos[:0]
 	var inv int64
 	for b := 0; b+1 < len(d.blocks); b++ {
 		lo, hi := d.blocks[b], d.blocks[b+1]
@@ -82,7 +93,11 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 			p := base[lo+i]
 			items[i] = keyItem{y[p] - sv*x[p], int32(lo + i)}
 		}
-		inv += mergeCountKeys(items, d.items[d.n+lo:d.n+hi])
+		if h != nil {
+			inv += mergeCountKeysHarvest(items, d.items[d.n+lo:d.n+hi], h)
+		} else {
+			inv += mergeCountKeys(items, d.items[d.n+lo:d.n+hi])
+		}
 		seg := perm[lo:hi] // positions in base, then points
 		for i := range items {
 			seg[i] = items[i].i
@@ -97,10 +112,16 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 				chain := seg[i:j]
 				w := d.work[:len(chain)]
 				copy(w, chain)
-				inv -= countInversions(w, d.tmp)
+				before := countInversions(w, d.tmp)
 				slices.SortFunc(chain, byPoint)
 				copy(w, chain)
-				inv += countInversions(w, d.tmp)
+				after := countInversions(w, d.tmp)
+				inv += after - before
+				if h != nil && (before != 0 || after != 0) {
+					// the harvest's pairs inside this chain need correcting
+					chains = append(chains, [2]int{len(chainPos), len(chainPos) + len(chain)})
+					chainPos = append(chainPos, chain...)
+				}
 				for k := 1; k < len(chain); {
 					// count exact ties
 					l := k
@@ -124,6 +145,25 @@ func (d *senData) evalCut(v slopeRef, perm []int32) (less, lessEq int64) {
 	}
 	less = baseLess + dir*inv
 	lessEq += less
+	if h != nil {
+		if dir < 0 {
+			h.lo, h.hi, h.lessLo, h.lessHi = v, from.v, less, baseLess
+		} else {
+			h.lo, h.hi, h.lessLo, h.lessHi = from.v, v, baseLess, less
+		}
+		if len(chains) > 0 && h.enumerate && h.complete {
+			d.chainMark = grow(d.chainMark, d.n)
+			d.chainList = d.chainList[:0]
+			for _, c := range chains {
+				d.chainList = append(d.chainList, chainPos[c[0]:c[1]])
+			}
+			h.fixChains(d.chainList, d.chainMark, d.work)
+		}
+		if h.enumerate && h.complete && int64(len(h.items)) != h.lessHi-h.lessLo {
+			h.complete = false // not expected; the pairs are listed again
+		}
+	}
+	d.chains, d.chainPos = chains, chainPos
 	return
 }
 
@@ -253,7 +293,7 @@ func (d *senData) permFor(c cut, perm []int32) {
 	if o := d.findOrder(c.v); o != nil {
 		copy(perm, o.perm)
 	} else {
-		less, _ := d.evalCut(c.v, perm)
+		less, _ := d.evalCut(c.v, perm, nil, nil)
 		d.remember(c.v, less, perm)
 	}
 	if !c.incl {

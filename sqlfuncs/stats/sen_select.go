@@ -56,6 +56,11 @@ type senData struct {
 	draws     []int64
 	sample    []slopeItem
 	enum      []slopeItem
+	harvests  []*harvest // pairs gathered by cut evaluations in this selection
+	chains    [][2]int   // near-tie chains of the current evaluation (for a harvest)
+	chainPos  []int32
+	chainList [][]int32
+	chainMark []int32 // zero except while a harvest is corrected
 	pcg       rand.PCG
 	// evaluated cuts
 	cuts      []cut
@@ -95,7 +100,7 @@ func newSenData(t, y []float64, blocks []int) *senData {
 		d.rng = rand.New(&d.pcg)
 	}
 	d.limit = int64(max(8*n, 8192))
-	d.mFirst = max(8*n, 4096)
+	d.mFirst = max(3*n, 4096)
 	d.mNext = max(4*n, 4096)
 	d.dropOrders()
 	d.cuts, d.tieBlocks = d.cuts[:0], d.tieBlocks[:0]
@@ -157,21 +162,68 @@ func (d *senData) bracket(k int64) (lo, hi cut) {
 	return
 }
 
-// tryCut evaluates the cut at the slope of v (once) and records it.
-func (d *senData) tryCut(v slopeRef, perm []int32) {
+// tryCut evaluates the cut at the slope of v (once) and records it. from
+// (may be nil: the nearest) is the evaluated cut whose order the
+// evaluation starts from; h (may be nil) gathers the pairs between them.
+// It reports whether the cut was evaluated now.
+func (d *senData) tryCut(v slopeRef, perm []int32, from *order, h *harvest) bool {
 	for _, tb := range d.tieBlocks {
 		if tb.v == v {
-			return
+			return false
 		}
 	}
-	less, lessEq := d.evalCut(v, perm)
+	less, lessEq := d.evalCut(v, perm, from, h)
 	d.remember(v, less, perm)
 	d.tieBlocks = append(d.tieBlocks, tieBlock{v, less, lessEq})
 	d.cuts = append(d.cuts, cut{v: v, incl: false, count: less}, cut{v: v, incl: true, count: lessEq})
+	return true
+}
+
+// newHarvest returns an empty harvest slot for this selection.
+func (d *senData) newHarvest() *harvest {
+	k := len(d.harvests)
+	if k < cap(d.harvests) && d.harvests[:k+1][k] != nil {
+		d.harvests = d.harvests[:k+1]
+	} else {
+		d.harvests = append(d.harvests, new(harvest))
+	}
+	h := d.harvests[k]
+	h.items = h.items[:0]
+	h.complete = false
+	return h
+}
+
+// harvestFor returns the harvest gathered between the cuts at lo.v and
+// hi.v, of the kind asked for, or nil.
+func (d *senData) harvestFor(lo, hi cut, enumerate bool) *harvest {
+	if lo.inf != 0 || hi.inf != 0 {
+		return nil
+	}
+	for _, h := range d.harvests {
+		if h.lo == lo.v && h.hi == hi.v && h.enumerate == enumerate && (!enumerate || h.complete) {
+			return h
+		}
+	}
+	return nil
+}
+
+// sampleSize is the number of pairs to draw between two cuts with T pairs
+// between them: enough that a window (at most ± 1.5√m of m) is expected to
+// hold about a third of limit pairs, 3T/√m ≤ limit/3.
+func (d *senData) sampleSize(T float64) int {
+	r := 9 * T / float64(d.limit)
+	return int(min(float64(d.mNext), max(1024, r*r), T))
 }
 
 // selectRanks returns, for each k in ks (1 ≤ k ≤ pairs), a pair whose
 // slope is the k-th smallest. Cuts evaluated here are kept for later calls.
+//
+// Each round either lists the pairs of a bracket (at most limit of them)
+// and selects in them, or samples the bracket, picks the sample order
+// statistics around each target as the bounds of a narrower window, and
+// evaluates those cuts. The upper cut of a window is sorted from the
+// lower cut's order, and that sort gathers the window's pairs: all of them
+// when few enough to list, else a sample for the next round.
 func (d *senData) selectRanks(ks []int64) []slopeRef {
 	out := make([]slopeRef, len(ks))
 	pending := make([]int, len(ks))
@@ -181,6 +233,7 @@ func (d *senData) selectRanks(ks []int64) []slopeRef {
 	slices.SortFunc(pending, func(a, b int) int { return cmp.Compare(ks[a], ks[b]) })
 	d.perm = grow(d.perm, d.n)
 	perm := d.perm
+	d.harvests = d.harvests[:0]
 	for len(pending) > 0 {
 		rest := pending[:0]
 		for _, i := range pending {
@@ -206,31 +259,43 @@ func (d *senData) selectRanks(ks []int64) []slopeRef {
 		}
 		T := hi.count - lo.count
 		if T <= d.limit {
-			items := d.enumerateBetween(lo, hi, T)
+			// The listed pairs are those with slope in [lo, hi): ranks
+			// off+1 .. off+len(items).
+			var items []slopeItem
+			off := lo.count
+			if h := d.harvestFor(lo, hi, true); h != nil {
+				items, off = h.items, h.lessLo
+			} else {
+				items = d.enumerateBetween(lo, hi, T)
+			}
 			for _, i := range group {
-				out[i] = d.exactSelect(items, int(ks[i]-lo.count-1))
+				out[i] = d.exactSelect(items, int(ks[i]-off-1))
 			}
 			pending = others
 			continue
 		}
+		// A sample of the pairs with ranks popLo+1 .. popLo+pop.
 		var it []slopeItem
-		if lo.inf == -1 && hi.inf == 1 {
+		popLo, pop := lo.count, T
+		if h := d.harvestFor(lo, hi, false); h != nil && len(h.items) >= 256 {
+			it, popLo, pop = h.items, h.lessLo, h.lessHi-h.lessLo
+		} else if lo.inf == -1 && hi.inf == 1 {
 			it = d.sampleAll(int(min(int64(d.mFirst), T)))
 		} else {
-			// enough draws that the windows (± 3√m of m) are expected to
-			// leave at most 3/4 of limit pairs: 6T/√m ≤ 3·limit/4
-			r := 8 * float64(T) / float64(d.limit)
-			m := int(min(float64(d.mNext), max(1024, r*r)))
-			it = d.sampleBetween(lo, hi, int(min(int64(m), T)), T)
+			it = d.sampleBetween(lo, hi, d.sampleSize(float64(T)), T)
 		}
 		m := len(it)
 		// Sample windows around each target (group is in rank order);
 		// overlapping windows share their cuts.
-		delta := 3*math.Sqrt(float64(m)) + 1
 		type span struct{ li, ui int }
 		var spans []span
 		for _, i := range group {
-			idx := float64(ks[i]-lo.count)/float64(T)*float64(m) - 0.5
+			// The number of sampled pairs below the target is binomial
+			// with mean q·m and variance q(1−q)·m: the window reaches
+			// three standard deviations (plus two) to each side.
+			q := float64(ks[i]-popLo) / float64(pop)
+			idx := q*float64(m) - 0.5
+			delta := 3*math.Sqrt(float64(m)*q*(1-q)) + 2
 			li, ui := int(math.Floor(idx-delta)), int(math.Ceil(idx+delta))
 			if len(spans) > 0 && li <= spans[len(spans)-1].ui {
 				spans[len(spans)-1].ui = max(spans[len(spans)-1].ui, ui)
@@ -257,8 +322,39 @@ func (d *senData) selectRanks(ks []int64) []slopeRef {
 		slices.Sort(at)
 		at = slices.Compact(at)
 		selectMany(it, at)
-		for _, j := range at {
-			d.tryCut(it[j].r, perm)
+		// Evaluate the cuts in ascending order; a window with both bounds
+		// in the sample has its upper cut sorted from its lower one.
+		vs := make([]slopeRef, len(at))
+		for q, j := range at {
+			vs[q] = it[j].r
+		}
+		ends := make(map[int]float64, len(spans)) // at index of an upper bound → expected pairs
+		for _, sp := range spans {
+			if sp.li >= 0 && sp.ui < m && sp.li < sp.ui {
+				q, _ := slices.BinarySearch(at, sp.ui)
+				ends[q] = float64(sp.ui-sp.li) / float64(m) * float64(pop)
+			}
+		}
+		for q, v := range vs {
+			e, ok := ends[q]
+			if !ok || q == 0 {
+				d.tryCut(v, perm, nil, nil)
+				continue
+			}
+			from := d.findOrder(vs[q-1])
+			if from == nil {
+				d.tryCut(v, perm, nil, nil)
+				continue
+			}
+			h := d.newHarvest()
+			if e <= float64(d.limit) {
+				h.enumerate, h.limit = true, int(d.limit)
+			} else {
+				h.enumerate, h.p = false, float64(d.sampleSize(e))/e
+			}
+			if !d.tryCut(v, perm, from, h) {
+				d.harvests = d.harvests[:len(d.harvests)-1]
+			}
 		}
 	}
 	return out
