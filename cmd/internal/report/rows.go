@@ -1,0 +1,120 @@
+package report
+
+import (
+	"fmt"
+	"math"
+	"strings"
+)
+
+func readingsCaption(d *seriesPlotData, info DrawInfo) string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "%d readings", info.Readings)
+	if d.step > 0 {
+		fmt.Fprintf(&b, "; a break in the line marks a spacing longer than %g sampling steps of %s", gapFactor, fmtDuration(d.step))
+	}
+	if info.Runs > 1 {
+		fmt.Fprintf(&b, " (%d stretches)", info.Runs)
+	}
+	if info.Thinned {
+		fmt.Fprintf(&b, ". Long stretches are drawn through the first, lowest, highest and last reading of each of %d columns, which draws the same picture at this width", plotCols)
+	}
+	b.WriteString(".")
+	if info.Flagged > 0 {
+		fmt.Fprintf(&b, " %d readings carry a qualifier flag (open diamonds, %s).", info.Flagged, info.MarkersBy)
+	}
+	if info.Censored > 0 {
+		fmt.Fprintf(&b, " %d censored readings are drawn at their reported limit (open triangles pointing to where the true value lies).", info.Censored)
+	}
+	if d.seasonal != nil {
+		b.WriteString(" Solid: the straight-line part of the fitted model; dashed: the full fit with its seasonal cycle.")
+	} else if d.line != nil {
+		b.WriteString(" Solid: the fitted trend.")
+	}
+	return b.String()
+}
+
+// figureRows lists the figures of a summary with units and meaning.
+func figureRows(s *Series, run *Run) []figRow {
+	r := s.Sum
+	u := s.Unit
+	var rows []figRow
+	add := func(label, value, note string) { rows = append(rows, figRow{label, value, note}) }
+	n, _ := r.i("n")
+	add("readings (n)", fmt.Sprint(n), "")
+	if tf, tl := r.s("time_first"), r.s("time_last"); tf != "" {
+		add("period", tf+" to "+tl, num(r.f("years"))+" years")
+	}
+	if st := r.f("step_s"); !math.IsNaN(st) {
+		add("sampling step", fmtDuration(st), "most common spacing")
+	}
+	if ms := r.f("missing_share"); !math.IsNaN(ms) {
+		add("coverage", fmt.Sprintf("%.1f %%", 100*(1-ms)), fmt.Sprintf("share of grid slots with a reading (%.1f %% missing)", 100*ms))
+	}
+	if q, ok := r.i("n_qualified"); ok {
+		add("readings with a qualifier flag", fmt.Sprint(q), flagSummaryOr(s))
+	}
+	add("mean", num(r.f("mean")), u)
+	add("least-squares slope", num(r.f("slope_per_year")), perYear(u))
+	add("least-squares slope per decade", num(10*r.f("slope_per_year")), perDecade(u))
+	if v := r.f("pct_per_decade"); !math.IsNaN(v) {
+		add("relative slope", num(v), "% of the mean per decade")
+	}
+	add("standard error of the slope, ordinary", num(r.f("slope_se")), perYear(u)+"; assumes independent errors")
+	add("standard error of the slope, Newey–West", num(r.f("hac_slope_se")), perYear(u)+lagsNote(r))
+	add("p, ordinary least squares", pval(r.f("slope_p")), "two-sided; too small when the errors are autocorrelated")
+	add("p, Newey–West", pval(r.f("hac_p")), "two-sided, autocorrelation-robust")
+	add("p, effective sample size", pval(r.f("n_eff_p")), "n_eff = "+num(r.f("n_eff")))
+	add("R²", num(r.f("r2")), "share of variance explained by trend and cycle")
+	add("rank trend test", rankWords(r.s("mk_method")), "")
+	add("p, rank trend test", pval(r.f("mk_p")), "corrected for serial correlation as the method states")
+	add("q, FDR-adjusted", pval(r.f("trend_p_fdr")), fmt.Sprintf("Benjamini–Hochberg across the run's series; the trend flag uses q ≤ %g", run.Alpha))
+	add("Sen slope", num(r.f("sen_slope_per_year")), perYear(u))
+	add("Sen slope per decade", num(10*r.f("sen_slope_per_year")), perDecade(u))
+	conf := r.f("sen_confidence")
+	add("Sen slope interval", ci(r.f("sen_lower"), r.f("sen_upper")), fmt.Sprintf("%s; %g confidence", perYear(u), conf))
+	add("residual lag-1 sample autocorrelation", num(r.f("resid_acf1")), "")
+	if lbl, ok := r.i("lb_lags"); ok {
+		add(fmt.Sprintf("Ljung–Box test, lags 1 to %d", lbl), "Q = "+num(r.f("lb_q"))+", p = "+pval(r.f("lb_p")), "")
+	}
+	if pt := r.s("pettitt_time_change"); pt != "" {
+		add("Pettitt change point", pt, "p = "+pval(r.f("pettitt_p"))+" (approximate)")
+	}
+	var on []string
+	for _, f := range flagNames {
+		if v, ok := r.flag(f.col); ok && v {
+			on = append(on, f.label)
+		}
+	}
+	if len(on) == 0 {
+		on = []string{"none"}
+	}
+	add("flags", strings.Join(on, ", "), fmt.Sprintf("at α = %g", run.Alpha))
+	return rows
+}
+
+func lagsNote(r row) string {
+	if l, ok := r.i("hac_lags"); ok {
+		return fmt.Sprintf("; %d lags", l)
+	}
+	return ""
+}
+
+func flagSummaryOr(s *Series) string {
+	if s.Sum.s("qualifier_counts") == "" {
+		return ""
+	}
+	return flagSummary(s)
+}
+
+func stationRows(st *Station) []KV {
+	rows := []KV{{"id", st.ID}, {"name", st.Name}}
+	coord := func(k string, v float64, unit string) {
+		if !math.IsNaN(v) {
+			rows = append(rows, KV{k, fmt.Sprintf("%g%s", v, unit)})
+		}
+	}
+	coord("latitude", st.Lat, "°")
+	coord("longitude", st.Lon, "°")
+	coord("elevation", st.Elev, " m")
+	return append(rows, st.Meta...)
+}
