@@ -89,6 +89,7 @@ func newPlot(title, xLabel, yLabel string) *plot.Plot {
 	p.Legend.Left = true
 	p.Legend.ThumbnailWidth = 18
 	p.Legend.XOffs = 6
+	p.Legend.YOffs = -2
 	return p
 }
 
@@ -197,16 +198,33 @@ func (yearTicks) Ticks(min, max float64) []plot.Tick {
 	return ticks
 }
 
-// plainTicks is gonum's default ticker with labels in plain decimal
-// notation (no exponent for small slopes).
+// plainTicks labels about six round values (steps of 1, 2 or 5 times a
+// power of ten) in plain decimal notation, with unlabelled minor ticks
+// between them.
 type plainTicks struct{}
 
 func (plainTicks) Ticks(min, max float64) []plot.Tick {
-	ts := plot.DefaultTicks{}.Ticks(min, max)
-	for i := range ts {
-		if ts[i].Label != "" {
-			ts[i].Label = trimNum(ts[i].Value, max-min)
+	if !(max > min) {
+		return []plot.Tick{{Value: min, Label: trimNum(min, 1)}}
+	}
+	raw := (max - min) / 5
+	mag := math.Pow(10, math.Floor(math.Log10(raw)))
+	step := mag
+	for _, m := range []float64{1, 2, 5, 10} {
+		if m*mag >= raw {
+			step = m * mag
+			break
 		}
+	}
+	var ts []plot.Tick
+	for v := math.Ceil(min/step) * step; v <= max+step*1e-9; v += step {
+		ts = append(ts, plot.Tick{Value: v, Label: trimNum(v, step*10)})
+		if mv := v + step/2; mv <= max {
+			ts = append(ts, plot.Tick{Value: mv})
+		}
+	}
+	if first := math.Ceil(min/step)*step - step/2; first >= min {
+		ts = append(ts, plot.Tick{Value: first})
 	}
 	return ts
 }

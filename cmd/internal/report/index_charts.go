@@ -12,7 +12,7 @@ import (
 
 const (
 	sparkW, sparkH = 120, 26
-	sparkCols      = 120
+	sparkCols      = 40
 	mapW           = 430
 	groupW         = 430
 )

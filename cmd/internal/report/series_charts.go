@@ -249,8 +249,10 @@ func fmtDuration(s float64) string {
 	switch {
 	case s < 2*3600:
 		return trimNum(s/60, 10) + " min"
-	case s < 2*86400:
+	case s < 86400:
 		return trimNum(s/3600, 10) + " h"
+	case s == 86400:
+		return "1 day"
 	case s < 2*secondsPerYear:
 		return trimNum(s/86400, 10) + " days"
 	}
@@ -288,6 +290,8 @@ func acfFigure(d *seriesPlotData, png bool) (*Figure, error) {
 	}
 	p.Y.Min, p.Y.Max = lo-0.05, hi+0.05
 	p.Legend.Left = false
+	p.Legend.XOffs = -4
+	p.X.Tick.Marker = plainTicks{}
 	headroom(p, 0.2)
 	return render(p, "acf", "residual sample autocorrelation of "+d.s.Station.ID+" "+d.s.Variable, halfW, halfH, png)
 }
@@ -312,8 +316,10 @@ func ljungBoxFigure(d *seriesPlotData, alpha float64, png bool) (*Figure, error)
 	}
 	p.Legend.Add(fmt.Sprintf("α = %g", alpha), as)
 	p.Y.Min, p.Y.Max = 0, 1.3
+	p.X.Tick.Marker = plainTicks{}
 	p.Y.Tick.Marker = plot.ConstantTicks([]plot.Tick{{Value: 0, Label: "0"}, {Value: 0.25, Label: "0.25"}, {Value: 0.5, Label: "0.5"}, {Value: 0.75, Label: "0.75"}, {Value: 1, Label: "1"}})
 	p.Legend.Left = false
+	p.Legend.XOffs = -4
 	return render(p, "ljungbox", "Ljung–Box p-values of "+d.s.Station.ID+" "+d.s.Variable, halfW, halfH, png)
 }
 
