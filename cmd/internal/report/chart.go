@@ -90,6 +90,7 @@ func newPlot(title, xLabel, yLabel string) *plot.Plot {
 	p.Legend.ThumbnailWidth = 18
 	p.Legend.XOffs = 6
 	p.Legend.YOffs = -2
+	p.Legend.Padding = 1.5
 	return p
 }
 

@@ -68,15 +68,17 @@ func addMarkLegend(p *plot.Plot, r vg.Length) {
 // mapFigure: stations of one variable at their longitude and latitude
 // (equirectangular, x scaled by the cosine of the mean latitude so that
 // distances look right at basin scale), each with its trend symbol and id.
-func mapFigure(variable string, series []*Series, png bool) (*Figure, error) {
+// The extent is that of all selected stations, so maps of different
+// variables line up.
+func mapFigure(variable string, series, all []*Series, png bool) (*Figure, error) {
 	var lats, lons []float64
-	for _, s := range series {
+	for _, s := range all {
 		if !math.IsNaN(s.Station.Lat) && !math.IsNaN(s.Station.Lon) {
 			lats = append(lats, s.Station.Lat)
 			lons = append(lons, s.Station.Lon)
 		}
 	}
-	if len(lats) == 0 {
+	if len(lats) == 0 || !anyCoords(series) {
 		return nil, nil
 	}
 	la0, la1 := minMax(lats)
@@ -109,12 +111,23 @@ func mapFigure(variable string, series []*Series, png bool) (*Figure, error) {
 		p.Add(lb)
 	}
 	p.Legend.Left = false
-	addMarkLegend(p, vg.Points(4.5))
+	p.Legend.XOffs = -6
+	p.Legend.Padding = 3
+	addMarkLegend(p, vg.Points(3.5))
 	// Height from the projected aspect ratio of the data area (about 50 pt
 	// of axes and title outside it).
 	aspect := (la1 - la0) / ((lo1 - lo0) * k)
 	h := vg.Length(math.Min(560, math.Max(220, (mapW-50)*aspect+60)))
 	return render(p, "map-"+slug(variable), "map of the stations measuring "+variable+" with trend symbols", mapW, h, png)
+}
+
+func anyCoords(series []*Series) bool {
+	for _, s := range series {
+		if !math.IsNaN(s.Station.Lat) && !math.IsNaN(s.Station.Lon) {
+			return true
+		}
+	}
+	return false
 }
 
 func minMax(x []float64) (lo, hi float64) {

@@ -148,7 +148,7 @@ func Write(ctx context.Context, db *sql.DB, o Options) (*Result, error) {
 		idx.Title = "1 series"
 	}
 	for _, v := range variables {
-		f, err := mapFigure(v.name, v.series, o.PNG)
+		f, err := mapFigure(v.name, v.series, series, o.PNG)
 		if err != nil {
 			return nil, err
 		}
@@ -160,7 +160,7 @@ func Write(ctx context.Context, db *sql.DB, o Options) (*Result, error) {
 		if err != nil {
 			return nil, err
 		}
-		idx.Maps = append(idx.Maps, view(f, "fig-"+f.Name, fmt.Sprintf("%d stations measuring %s.", len(v.series), v.name), png))
+		idx.Maps = append(idx.Maps, view(f, "fig-"+f.Name, plural(len(v.series), "series", "series")+" of "+v.name+".", png))
 	}
 	if groupBy != "" {
 		for _, v := range variables {
@@ -189,6 +189,13 @@ func Write(ctx context.Context, db *sql.DB, o Options) (*Result, error) {
 	}
 	sort.Strings(res.Files)
 	return res, nil
+}
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return fmt.Sprintf("%d %s", n, many)
 }
 
 func writePNG(put func(string, []byte) error, stem string, f *Figure) (string, error) {

@@ -280,7 +280,6 @@ func acfFigure(d *seriesPlotData, png bool) (*Figure, error) {
 	p.Add(&hLine{Y: 0, style: draw.LineStyle{Color: ColZero, Width: vg.Points(0.8)}})
 	b := &bars{X: x, Y: y, Width: 0.6 * perLag, Color: ColBars}
 	p.Add(b)
-	p.Legend.Add("sample ACF", b)
 	if !math.IsNaN(band) {
 		bs := draw.LineStyle{Color: ColBand, Width: vg.Points(1), Dashes: []vg.Length{vg.Points(3), vg.Points(2)}}
 		up := &hLine{Y: band, style: bs}

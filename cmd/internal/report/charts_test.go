@@ -1,0 +1,302 @@
+package report
+
+import (
+	"context"
+	"database/sql"
+	"math"
+	"path/filepath"
+	"sort"
+	"testing"
+
+	"trendsql/store"
+)
+
+// seriesOf returns the series id and page of station/variable in res.
+func pageOf(t *testing.T, s *store.Store, res *Result, station, variable string) (int64, string) {
+	t.Helper()
+	var id int64
+	if err := s.DB.QueryRow(`SELECT id FROM series WHERE station_id = ? AND variable = ?`, station, variable).Scan(&id); err != nil {
+		t.Fatal(err)
+	}
+	p, ok := res.Pages[id]
+	if !ok {
+		t.Fatalf("no page for series %d", id)
+	}
+	return id, readFile(t, filepath.Join(res.Dir, p))
+}
+
+func longest(ps []svgPath) (best [][2]float64) {
+	for _, p := range ps {
+		for _, sp := range p.subs {
+			if len(sp) > 1 && (best == nil || math.Abs(sp[len(sp)-1][0]-sp[0][0]) > math.Abs(best[len(best)-1][0]-best[0][0])) {
+				best = sp
+			}
+		}
+	}
+	return best
+}
+
+// The ACF bars must stand on the zero line and reach the stored sample
+// ACF of each lag; the dashed band must sit at ±(stored band).
+func TestACFBarsEqualStoredACF(t *testing.T) {
+	s := openDemo(t)
+	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{"VOR-W01"}}})
+	id, page := pageOf(t, s, res, "VOR-W01", "groundwater_level")
+	f := figures(t, page)["fig-acf"]
+	if f == nil {
+		t.Fatal("no ACF figure")
+	}
+	rows, err := s.DB.Query(`SELECT lag, acf, band FROM series_correlograms WHERE run_id = ? AND series_id = ? ORDER BY lag`, res.Run.ID, id)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	type lagRow struct{ lag, acf, band float64 }
+	var want []lagRow
+	for rows.Next() {
+		var r lagRow
+		if err := rows.Scan(&r.lag, &r.acf, &r.band); err != nil {
+			t.Fatal(err)
+		}
+		want = append(want, r)
+	}
+	bars := f.fills(hexColor(ColBars))
+	if len(bars) != len(want) || len(want) != 24 {
+		t.Fatalf("%d bars drawn, %d lags stored (want 24)", len(bars), len(want))
+	}
+	sort.Slice(bars, func(i, j int) bool { return bars[i].subs[0][0][0] < bars[j].subs[0][0][0] })
+	zero := f.yMap.to(0)
+	perPt := math.Abs((f.yMap.B - f.yMap.A) / (f.yMap.PB - f.yMap.PA)) // data units per point
+	for i, b := range bars {
+		v := b.subs[0]
+		if len(v) != 4 {
+			t.Fatalf("bar %d has %d vertices", i, len(v))
+		}
+		base, top := v[0][1], v[2][1]
+		if !near(base, zero, drawTol) {
+			t.Errorf("lag %g: bar base at %g pt, zero line at %g pt", want[i].lag, base, zero)
+		}
+		if got := f.yMap.from(top); !near(got, want[i].acf, drawTol*perPt) {
+			t.Errorf("lag %g: bar height is ACF %.6f, stored %.6f", want[i].lag, got, want[i].acf)
+		}
+		// Daily readings on the time grid: lag k is k days.
+		if mid := f.xMap.from((v[0][0] + v[1][0]) / 2); !near(mid, want[i].lag, 1e-3) {
+			t.Errorf("bar %d centred at %g days, want lag %g", i, mid, want[i].lag)
+		}
+	}
+	var bands []float64
+	for _, p := range f.strokes(hexColor(ColBand)) {
+		for _, sp := range p.subs {
+			if len(sp) == 2 && sp[1][0]-sp[0][0] > 100 {
+				bands = append(bands, f.yMap.from(sp[0][1]))
+			}
+		}
+	}
+	sort.Float64s(bands)
+	if len(bands) != 2 || !near(bands[0], -want[0].band, drawTol*perPt) || !near(bands[1], want[0].band, drawTol*perPt) {
+		t.Errorf("band lines at %v, want ±%g", bands, want[0].band)
+	}
+}
+
+// The trend line must run from the model's straight-line part at the first
+// reading to that at the last, and the seasonal curve from trend_value at
+// the first reading to trend_value at the last (evaluated here in SQL).
+func TestTrendLineEndsAtTrendValue(t *testing.T) {
+	s := openDemo(t)
+	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{"VOR-W01"}}})
+	id, page := pageOf(t, s, res, "VOR-W01", "groundwater_level")
+	f := figures(t, page)["fig-readings"]
+	var t0, t1 int64
+	var lin0, lin1, full0, full1 float64
+	err := s.DB.QueryRow(`WITH m AS (SELECT trend_model AS m FROM series_summaries WHERE run_id = ? AND series_id = ?),
+		l AS (SELECT json_object('t_center', m->>'t_center', 'degree', 1, 'coef', json_array(m->'coef'->>0, m->'coef'->>1)) AS l FROM m),
+		r AS (SELECT min(t) AS t0, max(t) AS t1 FROM readings WHERE series_id = ?)
+		SELECT t0, t1, trend_value(l, t0), trend_value(l, t1), trend_value(m, t0), trend_value(m, t1) FROM m, l, r`,
+		res.Run.ID, id, id).Scan(&t0, &t1, &lin0, &lin1, &full0, &full1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		name   string
+		colour string
+		v0, v1 float64
+	}{{"trend line", hexColor(ColTrend), lin0, lin1}, {"seasonal fit", hexColor(ColSeasonal), full0, full1}} {
+		line := longest(f.strokes(c.colour))
+		if line == nil {
+			t.Fatalf("%s not drawn", c.name)
+		}
+		a, b := line[0], line[len(line)-1]
+		for _, e := range []struct {
+			got      [2]float64
+			tt       int64
+			v        float64
+			whichEnd string
+		}{{a, t0, c.v0, "first"}, {b, t1, c.v1, "last"}} {
+			if !near(e.got[0], f.xMap.to(float64(e.tt)), drawTol) || !near(e.got[1], f.yMap.to(e.v), drawTol) {
+				t.Errorf("%s %s end drawn at (%g, %g) pt, want (%g, %g) = (t %d, trend_value %g)", c.name, e.whichEnd,
+					e.got[0], e.got[1], f.xMap.to(float64(e.tt)), f.yMap.to(e.v), e.tt, e.v)
+			}
+		}
+	}
+}
+
+// readingRuns reads a series and cuts it where readings are more than 1.5
+// stored sampling steps apart.
+func readingRuns(t *testing.T, db *sql.DB, runID, id int64) (runs [][][2]float64, n int) {
+	t.Helper()
+	var step float64
+	if err := db.QueryRow(`SELECT step_s FROM series_summaries WHERE run_id = ? AND series_id = ?`, runID, id).Scan(&step); err != nil {
+		t.Fatal(err)
+	}
+	rows, err := db.Query(`SELECT t, value FROM readings WHERE series_id = ? ORDER BY t`, id)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	var cur [][2]float64
+	for rows.Next() {
+		var tt, v float64
+		if err := rows.Scan(&tt, &v); err != nil {
+			t.Fatal(err)
+		}
+		if len(cur) > 0 && tt-cur[len(cur)-1][0] > 1.5*step {
+			runs = append(runs, cur)
+			cur = nil
+		}
+		cur = append(cur, [2]float64{tt, v})
+		n++
+	}
+	return append(runs, cur), n
+}
+
+// checkEveryReading: each stretch between gaps is one line through every
+// reading in order (a stretch of one reading is one dot), and nothing else
+// is drawn in the readings colour but the legend's sample line.
+func checkEveryReading(t *testing.T, f *svgFigure, runs [][][2]float64, n int) {
+	t.Helper()
+	var lines [][][2]float64
+	for _, p := range f.strokes(hexColor(ColReadings)) {
+		lines = append(lines, p.subs...)
+	}
+	dots := 0
+	for _, p := range f.fills(hexColor(ColReadings)) {
+		if p.arcs > 0 {
+			dots++
+		}
+	}
+	drawn, wantDots, gaps := 0, 0, 0
+	used := make([]bool, len(lines))
+	for _, r := range runs {
+		if len(r) == 1 {
+			wantDots++
+			continue
+		}
+		found := false
+		for i, l := range lines {
+			if used[i] || len(l) != len(r) || !near(l[0][0], f.xMap.to(r[0][0]), drawTol) {
+				continue
+			}
+			used[i], found = true, true
+			for k := range r {
+				if !near(l[k][0], f.xMap.to(r[k][0]), drawTol) || !near(l[k][1], f.yMap.to(r[k][1]), drawTol) {
+					t.Fatalf("stretch from t=%g: vertex %d at (%g, %g) pt, reading (%g, %g) maps to (%g, %g)", r[0][0], k,
+						l[k][0], l[k][1], r[k][0], r[k][1], f.xMap.to(r[k][0]), f.yMap.to(r[k][1]))
+				}
+			}
+			drawn += len(l)
+			break
+		}
+		if !found {
+			t.Fatalf("no line for the %d readings from t=%g", len(r), r[0][0])
+		}
+	}
+	gaps = len(runs) - 1
+	var rest []int
+	for i, u := range used {
+		if !u {
+			rest = append(rest, len(lines[i]))
+		}
+	}
+	if len(rest) != 1 || rest[0] != 2 {
+		t.Errorf("unmatched lines in the readings colour (vertex counts %v); want only the legend sample", rest)
+	}
+	if dots != wantDots {
+		t.Errorf("%d dots drawn, want %d (stretches of one reading)", dots, wantDots)
+	}
+	if drawn+dots != n {
+		t.Errorf("%d points drawn, %d readings", drawn+dots, n)
+	}
+	if gaps == 0 {
+		t.Errorf("series has no gap; the check needs one")
+	}
+}
+
+func TestEveryReadingDrawnWithGapsAsBreaks(t *testing.T) {
+	s := openDemo(t)
+	for _, c := range []struct {
+		station, variable string
+		full              bool
+	}{{"VOR-M01", "groundwater_level", false}, {"VOR-W01", "groundwater_level", true}} {
+		res := writeReport(t, s, Options{Selection: Selection{Stations: []string{c.station}, Variables: []string{c.variable}}, FullDetail: c.full})
+		id, page := pageOf(t, s, res, c.station, c.variable)
+		runs, n := readingRuns(t, s.DB, res.Run.ID, id)
+		checkEveryReading(t, figures(t, page)["fig-readings"], runs, n)
+		if info := res.Info[id]; info.Readings != n || info.Drawn != n || info.Runs != len(runs) || info.Thinned {
+			t.Errorf("%s: draw info %+v, want %d readings in %d stretches, all drawn", c.station, info, n, len(runs))
+		}
+	}
+}
+
+// A long hourly series is drawn thinned: every stretch keeps its lowest and
+// highest reading, and no more than four points per column are drawn.
+func TestThinnedSeriesKeepsExtremes(t *testing.T) {
+	s := openDemo(t)
+	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{"VOR-G01"}}})
+	id, page := pageOf(t, s, res, "VOR-G01", "stage")
+	f := figures(t, page)["fig-readings"]
+	runs, n := readingRuns(t, s.DB, res.Run.ID, id)
+	info := res.Info[id]
+	if !info.Thinned || info.Drawn >= n || info.Drawn > 4*plotCols*len(runs) {
+		t.Fatalf("draw info %+v for %d readings in %d stretches", info, n, len(runs))
+	}
+	var lines [][][2]float64
+	for _, p := range f.strokes(hexColor(ColReadings)) {
+		lines = append(lines, p.subs...)
+	}
+	if len(lines) != info.Runs-countSingles(runs)+1 {
+		t.Fatalf("%d lines drawn, want %d stretches plus the legend sample", len(lines), info.Runs-countSingles(runs))
+	}
+	for _, r := range runs {
+		if len(r) < 2 {
+			continue
+		}
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, q := range r {
+			lo, hi = math.Min(lo, q[1]), math.Max(hi, q[1])
+		}
+		for _, l := range lines {
+			if !near(l[0][0], f.xMap.to(r[0][0]), drawTol) || len(l) < 2 {
+				continue
+			}
+			dlo, dhi := math.Inf(1), math.Inf(-1)
+			for _, v := range l {
+				dlo, dhi = math.Min(dlo, v[1]), math.Max(dhi, v[1])
+			}
+			if !near(dlo, f.yMap.to(lo), drawTol) || !near(dhi, f.yMap.to(hi), drawTol) {
+				t.Errorf("stretch from t=%g: drawn range [%g, %g] pt, readings [%g, %g] pt", r[0][0], dlo, dhi, f.yMap.to(lo), f.yMap.to(hi))
+			}
+		}
+	}
+}
+
+func countSingles(runs [][][2]float64) int {
+	k := 0
+	for _, r := range runs {
+		if len(r) == 1 {
+			k++
+		}
+	}
+	return k
+}
+
+var _ = context.Background
