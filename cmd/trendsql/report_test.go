@@ -1,37 +1,30 @@
 package main
 
 import (
-	"bytes"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 )
 
-func runMain(args ...string) (string, string, int) {
-	var out, errb bytes.Buffer
-	code := Main(args, strings.NewReader(""), &out, &errb)
-	return out.String(), errb.String(), code
-}
-
 func TestReportCommand(t *testing.T) {
 	db := demoCopy(t)
 	dir := filepath.Join(t.TempDir(), "rep")
 	sel := []string{"--db", db, "--station", "VOR-M01,VOR-M02"}
 
-	if _, e, code := runMain(append([]string{"report"}, sel...)...); code != ExitUsage || !strings.Contains(e, "--out") {
+	if e, code := runMain(append([]string{"report"}, sel...)...); code != ExitUsage || !strings.Contains(e, "--out") {
 		t.Errorf("without --out: exit %d, %q", code, e)
 	}
-	if _, e, code := runMain(append([]string{"report", "--out", dir, "--series", "x1"}, sel...)...); code != ExitUsage || !strings.Contains(e, "--series") {
+	if e, code := runMain(append([]string{"report", "--out", dir, "--series", "x1"}, sel...)...); code != ExitUsage || !strings.Contains(e, "--series") {
 		t.Errorf("bad --series: exit %d, %q", code, e)
 	}
-	if _, e, code := runMain(append([]string{"report", "--out", dir}, sel...)...); code != ExitNothing || !strings.Contains(e, "trendsql summarize") {
+	if e, code := runMain(append([]string{"report", "--out", dir}, sel...)...); code != ExitNothing || !strings.Contains(e, "trendsql summarize") {
 		t.Errorf("before any summarize run: exit %d, %q", code, e)
 	}
-	if _, e, code := runMain(append([]string{"summarize", "--quiet", "--period", "1y"}, sel...)...); code != ExitOK {
+	if e, code := runMain(append([]string{"summarize", "--quiet", "--period", "1y"}, sel...)...); code != ExitOK {
 		t.Fatalf("summarize: exit %d, %s", code, e)
 	}
-	_, e, code := runMain(append([]string{"report", "--out", dir, "--png", "--group-by", "aquifer"}, sel...)...)
+	e, code := runMain(append([]string{"report", "--out", dir, "--png", "--group-by", "aquifer"}, sel...)...)
 	if code != ExitOK || !strings.Contains(e, "4 series from summarize run 1") {
 		t.Fatalf("report: exit %d, %q", code, e)
 	}
@@ -41,18 +34,18 @@ func TestReportCommand(t *testing.T) {
 	if len(pages) != 4 || len(pngs) != 4*4+2*2 {
 		t.Errorf("%d pages and %d PNG files, want 4 and 20", len(pages), len(pngs))
 	}
-	if _, e, code := runMain(append([]string{"report", "--out", dir, "--run", "7"}, sel...)...); code != ExitFailed || !strings.Contains(e, "--run 7") {
+	if e, code := runMain(append([]string{"report", "--out", dir, "--run", "7"}, sel...)...); code != ExitFailed || !strings.Contains(e, "--run 7") {
 		t.Errorf("unknown run: exit %d, %q", code, e)
 	}
 
 	other := filepath.Join(t.TempDir(), "other")
 	os.MkdirAll(other, 0o755)
 	os.WriteFile(filepath.Join(other, "minutes.docx"), []byte("x"), 0o644)
-	if _, e, code := runMain(append([]string{"report", "--out", other}, sel...)...); code != ExitUsage || !strings.Contains(e, "--force") || !strings.Contains(e, "minutes.docx") {
+	if e, code := runMain(append([]string{"report", "--out", other}, sel...)...); code != ExitUsage || !strings.Contains(e, "--force") || !strings.Contains(e, "minutes.docx") {
 		t.Errorf("folder with other files: exit %d, %q", code, e)
 	}
 	os.WriteFile(filepath.Join(other, "index.html"), []byte("mine"), 0o644)
-	if _, e, code := runMain(append([]string{"report", "--out", other, "--force"}, sel...)...); code != ExitFailed || !strings.Contains(e, "never replaced") {
+	if e, code := runMain(append([]string{"report", "--out", other, "--force"}, sel...)...); code != ExitFailed || !strings.Contains(e, "never replaced") {
 		t.Errorf("foreign index.html with --force: exit %d, %q", code, e)
 	}
 	if b, _ := os.ReadFile(filepath.Join(other, "index.html")); string(b) != "mine" {
