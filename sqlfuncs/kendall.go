@@ -11,6 +11,9 @@ package sqlfuncs
 //	                         (default none)
 //	max_lag=L                hamed-rao only: examine rank autocorrelation
 //	                         lags 1..L (default every lag 1..n−1)
+//	acf_bound=normal|anderson
+//	                         hamed-rao only: the 5 % significance bound for
+//	                         the rank autocorrelations (default normal)
 //
 // NULL, short input, order. Rows with NULL y are skipped; a NULL t is an
 // error. Rows may come in any order; the series is sorted by t and two rows
@@ -32,27 +35,38 @@ package sqlfuncs
 // S is counted in O(n log n) by merge-sort inversion counting (Knight 1966).
 // z and p are calibrated under the null model of independent, identically
 // distributed values; with serially correlated data use correct=hamed-rao
-// (Hamed & Rao 1998, J. Hydrology 204:182–196): detrend with the Sen slope,
-// rank, keep the lags k with |r_k| > 1.959964/√n in the sample ACF of the
-// ranks (divisor n), and
+// (Hamed & Rao 1998, J. Hydrology 204:182–196; formula and conventions in
+// stats/hamedrao.go): detrend with the Sen slope, rank, keep the lags k whose
+// rank autocorrelation r_k (divisor n) is significant at 5 %, and
 //
 //	correction_factor = 1 + 2/(n(n−1)(n−2)) · Σ_{kept k} (n−k)(n−k−1)(n−k−2)·r_k
 //	var_s_corrected   = var_s · correction_factor
 //
-// with z_corrected and p_corrected as above. The factor multiplies the
-// tie-corrected var_s, which is the paper's n(n−1)(2n+5)/18 when no values
-// are tied. The detrending slope is sen_slope's (per second of t), and the
-// lags count rows, so the correction presumes (near-)regular sampling. Every
-// lag 1..n−1 is examined by default (the rank ACF is computed by FFT);
-// max_lag=L examines lags 1..L only. A factor ≤ 0 leaves the
-// corrected fields null. Needs n ≥ 3 (else the corrected fields are null).
+// with z_corrected and p_corrected as above. Significance: acf_bound=normal
+// (default) keeps |r_k| > 1.959964/√n; acf_bound=anderson keeps r_k outside
+// [(−1 − 1.959964·√(n−k−1))/(n−k), (−1 + 1.959964·√(n−k−1))/(n−k)]
+// (Anderson 1942); the paper does not fix the bound. Rank ties: the
+// detrended values are ordered exactly, reading each value as the decimal it
+// was written as (3.6 is 36/10), so values equal in real arithmetic share an
+// average rank. The factor multiplies the tie-corrected var_s, which is the
+// paper's n(n−1)(2n+5)/18 when no values are tied. The detrending slope is
+// sen_slope's (per second of t), and the lags count rows, so the correction
+// presumes (near-)regular sampling. Every lag 1..n−1 is examined by default
+// (the rank ACF is computed by FFT); max_lag=L examines lags 1..L only.
+// When every detrended value is equal (an all-equal series, or values
+// exactly on a line) the rank ACF is 0/0 and correction_factor is null with
+// the reason in correction_note; a factor ≤ 0 also leaves the corrected
+// fields null. Needs n ≥ 3 (else the corrected fields are null).
 //
 // JSON keys: n, s, var_s, z, p, tau, concordant, discordant, tied_pairs
 // (pairs with equal y), tie_groups; with correct=hamed-rao also correction
 // ("hamed-rao"), correction_factor, var_s_corrected, z_corrected,
 // p_corrected, acf_lags_used (significant lags kept), acf_max_lag,
-// acf_threshold, sen_slope_per_year (the detrending slope). Undefined values
-// (z, p when var_s = 0; tau when every y is equal) are null.
+// acf_bound ("normal" or "anderson"), acf_threshold (1.959964/√n; null for
+// anderson, whose bound depends on the lag), sen_slope_per_year (the
+// detrending slope), correction_note (null, or why the corrected fields are
+// null). Undefined values (z, p when var_s = 0; tau when every y is equal)
+// are null.
 //
 // Example (demo store; the numbers depend on the demo data):
 //
@@ -80,7 +94,7 @@ import (
 
 type mkOptions struct {
 	hamedRao bool
-	maxLag   int
+	hr       stats.HamedRaoOptions
 }
 
 func parseMKOptions(fn string, v driver.Value) (mkOptions, error) {
@@ -89,7 +103,7 @@ func parseMKOptions(fn string, v driver.Value) (mkOptions, error) {
 	if err != nil {
 		return o, err
 	}
-	m, err := parseSpec(fn, text, "correct", "max_lag")
+	m, err := parseSpec(fn, text, "correct", "max_lag", "acf_bound")
 	if err != nil {
 		return o, err
 	}
@@ -108,7 +122,19 @@ func parseMKOptions(fn string, v driver.Value) (mkOptions, error) {
 		if err != nil || k < 1 {
 			return o, fmt.Errorf("%s: option max_lag=%q must be a whole number ≥ 1", fn, s)
 		}
-		o.maxLag = k
+		o.hr.MaxLag = k
+	}
+	if s, ok := m["acf_bound"]; ok {
+		if !o.hamedRao {
+			return o, fmt.Errorf("%s: option acf_bound needs correct=hamed-rao", fn)
+		}
+		switch strings.ToLower(s) {
+		case "normal":
+		case "anderson":
+			o.hr.Bound = stats.BoundAnderson
+		default:
+			return o, fmt.Errorf("%s: option acf_bound=%q: want normal or anderson", fn, s)
+		}
 	}
 	return o, nil
 }
@@ -143,11 +169,15 @@ func mannKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if o.hamedRao {
 		b.str("correction", "hamed-rao")
 		if mk.N < 3 {
-			for _, k := range []string{"correction_factor", "var_s_corrected", "z_corrected", "p_corrected", "acf_lags_used", "acf_max_lag", "acf_threshold", "sen_slope_per_year"} {
+			for _, k := range []string{"correction_factor", "var_s_corrected", "z_corrected", "p_corrected", "acf_lags_used", "acf_max_lag"} {
 				b.raw(k, "null")
 			}
+			b.str("acf_bound", o.hr.Bound.String())
+			b.raw("acf_threshold", "null")
+			b.raw("sen_slope_per_year", "null")
+			b.str("correction_note", "the Hamed–Rao correction needs at least 3 values")
 		} else {
-			hr, err := stats.HamedRao(r.T, r.Y, mk, o.maxLag)
+			hr, err := stats.HamedRaoWith(r.T, r.Y, mk, o.hr, nil)
 			if err != nil {
 				return nil, fmt.Errorf("%s: %v", fn, err)
 			}
@@ -157,8 +187,14 @@ func mannKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 			b.num("p_corrected", hr.P)
 			b.int("acf_lags_used", int64(hr.LagsUsed))
 			b.int("acf_max_lag", int64(hr.MaxLag))
+			b.str("acf_bound", hr.Bound.String())
 			b.num("acf_threshold", hr.Threshold)
 			b.num("sen_slope_per_year", hr.SenPerTime*timefmt.SecondsPerYear)
+			if hr.Undefined != "" {
+				b.str("correction_note", hr.Undefined)
+			} else {
+				b.raw("correction_note", "null")
+			}
 		}
 	}
 	return b.String(), nil
@@ -166,7 +202,7 @@ func mannKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 
 func init() {
 	defineSeries(seriesSpec{
-		doc: Doc{Name: "mann_kendall", Signature: "mann_kendall(t, y [, 'correct=hamed-rao, max_lag=<L>'])", Kind: Aggregate,
+		doc: Doc{Name: "mann_kendall", Signature: "mann_kendall(t, y [, 'correct=hamed-rao, max_lag=<L>, acf_bound=normal|anderson'])", Kind: Aggregate,
 			Summary: "JSON {n, s, var_s, z, p, tau, ...}: Mann–Kendall trend test (tie-corrected variance, continuity-corrected z, two-sided normal p, tau-b); correct=hamed-rao adds the Hamed–Rao (1998) serial-correlation correction"},
 		argNames: []string{"t", "y", "options"}, values: 1, minOptions: 0, maxOptions: 1,
 		compute: mannKendallValue,

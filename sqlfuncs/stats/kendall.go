@@ -19,15 +19,14 @@ package stats
 //
 // These are sample statistics; Z and p are calibrated under the null model of
 // independent, identically distributed observations (no serial
-// correlation). HamedRao corrects the variance for serial correlation.
+// correlation). HamedRao (hamedrao.go) corrects the variance for serial
+// correlation.
 
 import (
 	"cmp"
 	"errors"
 	"math"
 	"slices"
-
-	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // MKResult holds the Mann–Kendall statistics. Fields that are undefined for
@@ -177,86 +176,6 @@ func countInversions[T cmp.Ordered](a, tmp []T) int64 {
 	return inv
 }
 
-// HamedRaoResult is the serial-correlation correction of Var(S).
-type HamedRaoResult struct {
-	Factor     float64 // n/n*_s
-	VarS       float64 // Var(S)·Factor
-	Z, P       float64
-	LagsUsed   int     // number of lags whose rank autocorrelation was significant
-	MaxLag     int     // largest lag examined
-	Threshold  float64 // z_{0.975}/√n
-	SenPerTime float64 // Sen slope used to detrend, in y per unit of t
-}
-
-// HamedRao corrects the Mann–Kendall variance for serial correlation
-// (Hamed & Rao 1998, J. Hydrology 204:182–196):
-//
-//  1. detrend: x_i = y_i − β·(t_i − t_1) with β the Sen slope (median of
-//     pairwise slopes, SenMedian);
-//  2. rank x (average ranks for ties) and take the sample ACF of the ranks,
-//     r_k = Σ_{i=1}^{n−k} (R_i − R̄)(R_{i+k} − R̄) / Σ (R_i − R̄)²  (divisor n
-//     in both, package convention);
-//  3. keep the lags k = 1..maxLag with |r_k| > z_{0.975}/√n (the 5 % two-sided
-//     bound under independence; z_{0.975} = 1.959963985);
-//  4. n/n*_s = 1 + 2/(n(n−1)(n−2)) · Σ_{kept k} (n−k)(n−k−1)(n−k−2)·r_k;
-//  5. Var*(S) = Var(S)·n/n*_s, Z* and p* as in MannKendall with Var*(S).
-//
-// maxLag ≤ 0 means every lag 1..n−1 (the rank ACF is computed by FFT, so this
-// is O(n log n)). Lags count rows, not time: the correction assumes the rows
-// are equally spaced in time. Needs n ≥ 3. If the factor is ≤ 0 (possible
-// when many negative autocorrelations are kept) the corrected variance is
-// undefined and Factor is returned with VarS, Z, P = NaN.
-func HamedRao(t, y []float64, mk MKResult, maxLag int) (HamedRaoResult, error) {
-	n := len(y)
-	if n < 3 {
-		return HamedRaoResult{}, errors.New("the Hamed–Rao correction needs at least 3 values")
-	}
-	beta, err := SenMedian(t, y)
-	if err != nil {
-		return HamedRaoResult{}, err
-	}
-	return HamedRaoWithSlope(t, y, mk, maxLag, beta)
-}
-
-// HamedRaoWithSlope is HamedRao with the Sen slope β (y per unit of t, the
-// SenMedian of the same t and y) supplied by a caller that has computed it
-// already, e.g. with its confidence interval.
-func HamedRaoWithSlope(t, y []float64, mk MKResult, maxLag int, beta float64) (HamedRaoResult, error) {
-	n := len(y)
-	if n < 3 || len(t) != n {
-		return HamedRaoResult{}, errors.New("the Hamed–Rao correction needs at least 3 values")
-	}
-	x := make([]float64, n)
-	for i := range y {
-		x[i] = y[i] - beta*(t[i]-t[0])
-	}
-	rk := Ranks(x)
-	if maxLag <= 0 || maxLag > n-1 {
-		maxLag = n - 1
-	}
-	acf := rankACF(rk, maxLag)
-	res := HamedRaoResult{MaxLag: maxLag, SenPerTime: beta}
-	res.Threshold = distuv.UnitNormal.Quantile(0.975) / math.Sqrt(float64(n))
-	nf := float64(n)
-	var sum float64
-	for k := 1; k <= maxLag; k++ {
-		if math.Abs(acf[k]) > res.Threshold {
-			res.LagsUsed++
-			kf := float64(k)
-			sum += (nf - kf) * (nf - kf - 1) * (nf - kf - 2) * acf[k]
-		}
-	}
-	res.Factor = 1 + 2*sum/(nf*(nf-1)*(nf-2))
-	if res.Factor > 0 && mk.VarS > 0 {
-		res.VarS = mk.VarS * res.Factor
-		res.Z = MKZ(mk.S, res.VarS)
-		res.P = NormalTwoSided(res.Z)
-	} else {
-		res.VarS, res.Z, res.P = math.NaN(), math.NaN(), math.NaN()
-	}
-	return res, nil
-}
-
 // Ranks returns the ranks 1..n of x, ties getting the average of the ranks
 // they span.
 func Ranks(x []float64) []float64 {
@@ -285,11 +204,4 @@ func Ranks(x []float64) []float64 {
 		i = j
 	}
 	return r
-}
-
-// rankACF returns the sample autocorrelations r_0..r_maxLag of x (divisor n)
-// through SampleACVF (direct lag sums, or the FFT for many lags). r_k is NaN
-// for every k if x is constant.
-func rankACF(x []float64, maxLag int) []float64 {
-	return ACF(SampleACVF(x, maxLag).ACVF)
 }

@@ -79,6 +79,10 @@ type SenResult struct {
 	VarS       float64 // Mann–Kendall Var(S) used for the interval
 	MedianT    float64
 	MedianY    float64
+	// median holds the pair(s) whose exact slope is the median: both
+	// entries name the same pair for an odd number of pairs, the two
+	// middle order statistics for an even number (exactMedian).
+	median [2]slopeRef
 }
 
 // SenSlope computes the Theil–Sen slope and, when 0 < confidence < 1, its
@@ -170,6 +174,7 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64, medi
 		ks = append(ks, res.LowerRank, res.UpperRank)
 	}
 	sel := d.selectRanks(ks)
+	res.median = [2]slopeRef{sel[0], sel[1]}
 	if N%2 == 1 {
 		res.Slope = val(sel[0])
 	} else {

@@ -206,7 +206,7 @@ func SummarizeSeries(t, y []float64, o SummaryOptions) (s SeriesSummary) {
 			// failed, so would the correction's own (the same SenMedian).
 			hr, err := HamedRaoResult{}, senErr
 			if senErr == nil {
-				hr, err = HamedRaoWithSlope(t, y, mk, 0, sen.Slope)
+				hr, err = HamedRaoWith(t, y, mk, HamedRaoOptions{}, &sen)
 			}
 			if err != nil {
 				note("Hamed–Rao correction: %v", err)
@@ -293,6 +293,9 @@ func residualDiagnostics(s *SeriesSummary, t, y []float64, model *TrendModel, gr
 		}
 	} else {
 		note("Ljung–Box at lag %d is undefined for these residuals", lb)
+	}
+	if st := c.PACFStop; st.Lag > 0 && st.Lag <= o.MaxLag {
+		note("residual PACF is NULL from lag %d: %s", st.Lag, st.Reason)
 	}
 	for _, l := range c.Lags {
 		if l.Lag > o.MaxLag {

@@ -16,8 +16,9 @@ same series, read by kendall_ref.R). Sources per block:
             (slope per year, intercept = median(y) - slope*median(x),
             low_slope, high_slope)
   hamed_rao the published formula (Hamed & Rao 1998) written out here with
-            scipy.stats.theilslopes (detrending slope), scipy.stats.rankdata
-            and statsmodels.tsa.stattools.acf(adjusted=False, fft=False)
+            the exact ranks of the Sen-detrended values from
+            hamed_rao_exact.exact_ranks (fractions.Fraction) and
+            statsmodels.tsa.stattools.acf(adjusted=False, fft=False)
   seasonal  scipy.stats.mstats.kendalltau_seasonal (per-season S, the
             per-season and global "indep" and "dep" p-values with continuity
             correction); seasonal Sen slope by numpy brute force
@@ -37,6 +38,8 @@ import scipy.stats.mstats as ms
 import statsmodels
 import statsmodels.api as sm
 from statsmodels.tsa.stattools import acf, ccf
+
+from hamed_rao_exact import exact_ranks
 
 SPY = 365.25 * 86400
 HERE = os.path.dirname(os.path.abspath(__file__))
@@ -132,9 +135,9 @@ for n, phi in ((60, 0.6), (150, 0.4), (400, 0.7)):
     name = "ar1_%d" % n
     add(name, t, y)
     s, var = mk_brute(y)
-    slope = ss.theilslopes(y, t)[0]
-    x = y - slope * (t - t[0])
-    r = ss.rankdata(x)
+    # ranks of the Sen-detrended values in exact decimal arithmetic
+    # (hamed_rao_exact.py), not of floating-point y - slope*t
+    r = np.array([float(v) for v in exact_ranks(list(t), list(y))[1]])
     rho = acf(r, nlags=n - 1, adjusted=False, fft=False)
     thr = ss.norm.ppf(0.975) / np.sqrt(n)
     tot = 0.0
