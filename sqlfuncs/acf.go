@@ -11,8 +11,10 @@ package sqlfuncs
 //	ljung_box_p(t, y, lags [, fitdf [, options]]) aggregate/window → REAL p
 //	box_pierce_p(t, y, lags [, fitdf [, options]]) aggregate/window → REAL p
 //
-// Rows may come in any order; each group is sorted by t. NULL values are
-// skipped (missing observations); two rows with the same t are an error.
+// Rows may come in any order; each group is sorted by t. A row whose value
+// is NULL is an explicit missing reading: its value is skipped but its time
+// counts when the step is inferred (below). Two rows with the same t and a
+// value are an error.
 //
 // options is text of comma-separated key=value pairs: step=<duration> (the
 // grid, below), detrend=linear|none and, for correlogram, fitdf=<k>.
@@ -29,8 +31,9 @@ package sqlfuncs
 //
 // The grid. Lag h means h sampling steps apart. The step is the option
 // "step=<duration>" (s, min, h, d, w, y; 1y = 365.25 d), or else it is
-// inferred as the most common spacing between consecutive readings
-// (spacings of 28–31 d count as one month = 1y/12, 89–92 d as one quarter =
+// inferred as the most common spacing between the consecutive times of all
+// rows, those with a NULL value included, so 1, NULL, 2, NULL, 3 at unit
+// spacing has step 1 and two missing slots (spacings of 28–31 d count as one month = 1y/12, 89–92 d as one quarter =
 // 1y/4, 365–366 d as one year; ties go to the smaller spacing). Each
 // reading sits in slot round((t − t_first)/step); a reading half a step or
 // more from its slot, or two readings in one slot, is an error that names
@@ -49,10 +52,12 @@ package sqlfuncs
 // statsmodels' acovf(missing = "conservative"), which divides by n.
 //
 //	ρ̂(h) = γ̂(h) / γ̂(0), clamped to [−1, 1] as R does; NULL when γ̂(0) = 0.
-//	α̂(h) (PACF) = φ_hh of the Durbin–Levinson recursion on ρ̂ (Durbin 1960);
-//	with missing slots ρ̂ need not be non-negative definite: α̂ may then leave
-//	[−1, 1], and lags past the point where the recursion's prediction error
-//	variance turns negative are NULL.
+//	α̂(h) (PACF) = φ_hh of the Durbin–Levinson recursion on ρ̂ (Durbin 1960),
+//	never outside [−1, 1]: with missing slots ρ̂ need not be positive
+//	definite, and from the first lag where the matrix [ρ̂(|i−j|)] over lags
+//	0..h is not (|φ_hh| ≥ 1), or where ρ̂(h) is undefined, α̂ is NULL for
+//	that lag and every later one; pacf_null_from and pacf_note say where
+//	and why (stats.PartialACF).
 //	Ljung–Box   Q = n(n+2) Σ_{k=1}^{h} ρ̂(k)²/(n−k)  (Ljung & Box 1978)
 //	Box–Pierce  Q = n Σ_{k=1}^{h} ρ̂(k)²            (Box & Pierce 1970)
 //	p = P(χ²_{h−fitdf} > Q); NULL when h − fitdf ≤ 0.
@@ -84,6 +89,9 @@ package sqlfuncs
 //	               times; a reading off its slot by less than half a step
 //	               counts at the slot)
 //	band           1.96/√n
+//	pacf_null_from the first lag ≤ max_lag whose pacf is null because of the
+//	               PACF rule above (null when none is)
+//	pacf_note      why pacf is null from that lag (null when none is)
 //	lags           one object per lag 1..max_lag:
 //	    lag, pairs (m(h)), acvf, acf, pacf, band,
 //	    q_lb (cumulative Ljung–Box Q over lags 1..lag), df_lb, p_lb
@@ -162,7 +170,7 @@ func parseLagOptions(fn string, v driver.Value, allowFitdf bool) (lagOptions, er
 // (NaN without detrend=linear, with fewer than 2 readings or without a
 // step).
 func gridded(fn string, r Rows, o lagOptions) (g stats.Grid, x []float64, lineSlope float64, err error) {
-	g, x, err = stats.Regularize(r.T, r.Y, o.step)
+	g, x, err = stats.RegularizeWithMissing(r.T, r.Y, r.MissingT, o.step)
 	if err != nil {
 		return g, nil, math.NaN(), fmt.Errorf("%s: %v", fn, err)
 	}
@@ -262,6 +270,13 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	out.num("acvf0", c.ACVF0)
 	out.int("fitdf", int64(o.fitdf))
 	out.num("band", band)
+	if c.PACFStop.Lag > 0 {
+		out.int("pacf_null_from", int64(c.PACFStop.Lag))
+		out.str("pacf_note", c.PACFStop.Reason)
+	} else {
+		out.raw("pacf_null_from", "null")
+		out.raw("pacf_note", "null")
+	}
 	var row jsonObj
 	bandJSON := string(appendJSONNum(nil, band)) // the same in every lag
 	out.array("lags", int(maxLag), func(b []byte, i int) []byte {

@@ -20,7 +20,8 @@ package sqlfuncs
 //
 // The grid. Lag h means h sampling steps apart. The step is the option
 // step=<duration> or else the most common spacing between consecutive
-// times, and readings are placed in slots round((t − t_first)/step),
+// times of all rows (rows with a NULL x or y included: they mark a slot),
+// and readings are placed in slots round((t − t_first)/step),
 // exactly as for correlogram (stats/grid.go); a reading off the grid or two
 // in one slot is an error. Slots without a pair are missing.
 //
@@ -103,7 +104,7 @@ func crossStep(fn string, opts []driver.Value) (float64, error) {
 
 // crossGrid places the paired rows on one grid.
 func crossGrid(fn string, r Rows, step float64) (stats.Grid, []float64, []float64, error) {
-	g, x, err := stats.Regularize(r.T, r.X, step)
+	g, x, err := stats.RegularizeWithMissing(r.T, r.X, r.MissingT, step)
 	if err != nil {
 		return g, nil, nil, fmt.Errorf("%s: %v", fn, err)
 	}

@@ -76,6 +76,7 @@ func seriesFunction(name string, newAgg func(sqlite.FunctionContext) (sqlite.Agg
 			if same {
 				// seriesAgg.Step for a row whose conversions cannot fail.
 				if ynull {
+					a.addMissing(t)
 					return
 				}
 				if n := len(a.t); n > a.head && t <= a.t[n-1] {

@@ -39,9 +39,8 @@ package sqlfuncs
 // statistics of the exact slopes of the stored values, each rounded to the
 // nearest float before the (rounded) conversion to per year — in
 // O(n log n) expected time and O(n) memory by randomised slope selection,
-// so long series are fine (n = 100,000 in well under a second per order
-// statistic; see the benchmarks in stats/kendall_bench_test.go). Tests
-// compare the selection with the sorted list of all slopes for n up to 3000.
+// so long series are fine (benchmarks in stats/kendall_bench_test.go,
+// figures in BENCHMARKS.md). Tests compare the selection with the sorted list of all slopes for n up to 3000.
 //
 // JSON keys: n, n_pairs, slope_per_year, lower, upper, confidence,
 // lower_rank, upper_rank (the 1-based order statistics used; when a rank is

@@ -12,8 +12,9 @@ package sqlfuncs
 //     asks for it. Rows may arrive in any order: the buffer is checked for
 //     sortedness in one linear pass and sorted by t only when needed. Two
 //     rows with the same t are an error naming the function and the time.
-//     Rows whose value is NULL are skipped (missing observations); a NULL
-//     time is an error. WindowInverse removes the oldest buffered row (SQLite
+//     Rows whose value is NULL are missing observations: their values are
+//     skipped, their times kept apart (Rows.MissingT) because they still
+//     mark a slot of the time grid; a NULL time is an error. WindowInverse removes the oldest buffered row (SQLite
 //     removes rows in the order it added them), so every series aggregate is
 //     also a window function with any frame.
 //
@@ -40,6 +41,9 @@ type Rows struct {
 	T []float64
 	X []float64
 	Y []float64
+	// MissingT holds, sorted, the times of the frame's rows that have a
+	// NULL value (explicit missing readings); they may repeat a time of T.
+	MissingT []float64
 }
 
 // Len is the number of rows.
@@ -72,9 +76,13 @@ type seriesAgg struct {
 	spec    *seriesSpec
 	t, x, y []float64
 	head    int
-	opts    []driver.Value
-	stepped bool
-	sorted  bool // rows head.. are in strictly increasing t order so far
+	// nullT holds the times of rows with a NULL value, oldest first, from
+	// nullHead on (WindowInverse removes them in the order they came).
+	nullT    []float64
+	nullHead int
+	opts     []driver.Value
+	stepped  bool
+	sorted   bool // rows head.. are in strictly increasing t order so far
 	// censored counts rows whose value was a reported censored value
 	// ('<5'); they are not buffered and make the value an error.
 	censored        int
@@ -152,6 +160,9 @@ func (a *seriesAgg) Step(ctx *sqlite.FunctionContext, args []driver.Value) (err 
 		return fmt.Errorf("%s: option arguments must be the same on every row of a group (got %v, then %v)", a.name(), a.opts, opts)
 	}
 	if !ok {
+		if cens == nil {
+			a.addMissing(t)
+		}
 		return nil
 	}
 	if n := len(a.t); n > a.head && t <= a.t[n-1] {
@@ -196,6 +207,11 @@ func sameValue(a, b driver.Value) bool {
 	return false
 }
 
+// addMissing records the time of a row whose value is NULL.
+func (a *seriesAgg) addMissing(t float64) {
+	a.nullT = append(a.nullT, t)
+}
+
 func (a *seriesAgg) WindowInverse(ctx *sqlite.FunctionContext, args []driver.Value) (err error) {
 	defer recoverInto(a.name(), &err)
 	_, _, _, ok, err := a.row(args)
@@ -204,8 +220,17 @@ func (a *seriesAgg) WindowInverse(ctx *sqlite.FunctionContext, args []driver.Val
 		a.censored--
 		return nil
 	}
-	if err != nil || !ok {
+	if err != nil {
 		return err
+	}
+	if !ok {
+		if a.nullHead < len(a.nullT) {
+			a.nullHead++
+		}
+		if a.nullHead == len(a.nullT) {
+			a.nullT, a.nullHead = a.nullT[:0], 0
+		}
+		return nil
 	}
 	if a.head >= len(a.t) {
 		return fmt.Errorf("%s: internal error: window removed more rows than it added", a.name())
@@ -270,7 +295,15 @@ func (a *seriesAgg) frame() (Rows, error) {
 			return Rows{}, fmt.Errorf("%s: two rows have the same time %s (t = %v); each time may appear once per group", a.name(), timefmt.FormatUTC(int64(t[i])), t[i])
 		}
 	}
-	return Rows{T: t, X: x, Y: y}, nil
+	var missing []float64
+	if a.nullHead < len(a.nullT) {
+		missing = a.nullT[a.nullHead:]
+		if !slices.IsSorted(missing) {
+			missing = slices.Clone(missing)
+			slices.Sort(missing)
+		}
+	}
+	return Rows{T: t, X: x, Y: y, MissingT: missing}, nil
 }
 
 func (a *seriesAgg) WindowValue(ctx *sqlite.FunctionContext) (v driver.Value, err error) {

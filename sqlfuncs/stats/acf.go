@@ -31,9 +31,11 @@ package stats
 // the Durbin–Levinson recursion on ρ̂(1..h) (Durbin 1960, "The fitting of
 // time-series models", Rev. Int. Stat. Inst. 28; Brockwell & Davis 2002,
 // section 2.5.3), the convention of R's stats::pacf and statsmodels'
-// pacf(method="ldb").
+// pacf(method="ldb"), while the sample ACF is positive definite up to lag
+// h; NaN from the first lag where it is not (PartialACF).
 
 import (
+	"fmt"
 	"math"
 
 	"gonum.org/v1/gonum/dsp/fourier"
@@ -52,12 +54,8 @@ type Autocov struct {
 // fftMinLag and fftMinSlots select the FFT path in SampleACVF: it is used
 // when maxLag ≥ fftMinLag and the series has at least fftMinSlots slots.
 // Below that the direct O(N·L) lag sums (gonum's vectorised dot product)
-// are faster: BenchmarkACVFLag48 and BenchmarkACVFLag500 show the direct
-// sums about 1.7–2× faster than the FFT even at 500 lags for N from 1e3 to
-// 1e5 with 5 % of the slots missing (about 0.25 ns per slot and lag, pair
-// counts from the missing slots, against about 0.22 µs per slot for the
-// FFT), so the break-even is near 900 lags (2-core machine, gonum
-// v0.17.0).
+// cost less than the O(N log N) transform; BenchmarkACVFLag48 and
+// BenchmarkACVFLag500 compare the two paths (figures in BENCHMARKS.md).
 const (
 	fftMinLag   = 1024
 	fftMinSlots = 1024
@@ -374,7 +372,21 @@ func ACF(acvf []float64) []float64 {
 	return out
 }
 
-// PACF returns the sample partial autocorrelations α̂(1..K) from
+// PACF returns the sample partial autocorrelations α̂(1..K) of
+// rho = ρ̂(0..K); see PartialACF.
+func PACF(rho []float64) []float64 {
+	p, _ := PartialACF(rho)
+	return p
+}
+
+// PACFStop says from which lag the partial autocorrelations are undefined
+// and why.
+type PACFStop struct {
+	Lag    int    // first lag whose α̂ is NaN; 0 when every lag is defined
+	Reason string // empty when Lag is 0
+}
+
+// PartialACF returns the sample partial autocorrelations α̂(1..K) from
 // rho = ρ̂(0..K) by the Durbin–Levinson recursion (Durbin 1960; Brockwell &
 // Davis 2002, §2.5.3):
 //
@@ -382,37 +394,52 @@ func ACF(acvf []float64) []float64 {
 //	φ_kk = (ρ̂(k) − Σ_{j=1}^{k−1} φ_{k−1,j} ρ̂(k−j)) / (1 − Σ_{j=1}^{k−1} φ_{k−1,j} ρ̂(j))
 //	φ_kj = φ_{k−1,j} − φ_kk φ_{k−1,k−j},  j = 1..k−1
 //
-// out[0] is NaN (α̂(0) is not defined) and out[k] = φ_kk. Once a ρ̂ is NaN
-// or a denominator is not positive, that lag and all later ones are NaN.
+// out[0] is NaN (α̂(0) is not defined) and out[k] = φ_kk.
 //
-// The denominator is v_{k−1}/γ̂(0), the scaled one-step prediction error
-// variance of the fitted AR(k−1). Without missing values ρ̂ is non-negative
-// definite, so |φ_kk| < 1 and the denominators stay positive (Brockwell &
-// Davis 2002, §2.5.3). With missing slots (divisor m(h) + h) that is not
-// guaranteed: a φ_kk outside [−1, 1] is reported as computed, and the lags
-// after it, where the variance would be negative, are NaN. R's pacf keeps
-// dividing in that case; trendsql reports NULL instead of those numbers.
-func PACF(rho []float64) []float64 {
+// The PACF rule. α̂(k) is a partial correlation only while the matrix
+// P_{k+1} = [ρ̂(|i−j|)]_{i,j=0..k} is positive definite, and P_{k+1} is
+// positive definite exactly when P_k is and |φ_kk| < 1 (the denominator
+// above is det P_{k+1}/det P_k, the scaled one-step prediction error
+// variance). Without missing values ρ̂ is a positive definite sequence
+// (divisor n; Brockwell & Davis 2002, §2.4.2) and this always holds. With
+// missing slots (divisor m(h) + h) it need not: the first lag k with
+// |φ_kk| ≥ 1 — or with a non-positive denominator, or an undefined ρ̂(k) (no
+// pair of values k slots apart, or a constant series) — and every later lag
+// are NaN, and stop names that lag and the reason. So α̂ never leaves
+// [−1, 1]. (R's pacf keeps dividing and can return values such as −2.9 or
+// 21 there.)
+func PartialACF(rho []float64) (out []float64, stop PACFStop) {
 	K := len(rho) - 1
-	out := make([]float64, len(rho))
+	out = make([]float64, len(rho))
 	for i := range out {
 		out[i] = math.NaN()
 	}
 	if K < 1 {
-		return out
+		return out, stop
 	}
 	phi := make([]float64, K+1)
 	prev := make([]float64, K+1)
 	for k := 1; k <= K; k++ {
+		if math.IsNaN(rho[k]) {
+			stop.Lag = k
+			if math.IsNaN(rho[0]) {
+				stop.Reason = "the values are constant, so no autocorrelation is defined"
+			} else {
+				stop.Reason = fmt.Sprintf("no two values are %d slots apart, so the sample ACF is undefined at lag %d", k, k)
+			}
+			return out, stop
+		}
 		num, den := rho[k], 1.0
 		for j := 1; j < k; j++ {
 			num -= prev[j] * rho[k-j]
 			den -= prev[j] * rho[j]
 		}
-		if math.IsNaN(num) || !(den > 0) {
-			break
-		}
 		c := num / den
+		if !(den > 0) || !(math.Abs(c) < 1) {
+			stop.Lag = k
+			stop.Reason = fmt.Sprintf("the gap-aware sample ACF is not positive definite over lags 0..%d (possible with missing slots), so no partial autocorrelation in [−1, 1] exists from lag %d", k, k)
+			return out, stop
+		}
 		phi[k] = c
 		for j := 1; j < k; j++ {
 			phi[j] = prev[j] - c*prev[k-j]
@@ -420,7 +447,7 @@ func PACF(rho []float64) []float64 {
 		out[k] = c
 		copy(prev, phi)
 	}
-	return out
+	return out, stop
 }
 
 // CorrelogramLag is one lag of a correlogram. NaN marks an undefined figure.
@@ -446,6 +473,9 @@ type Correlogram struct {
 	Mean, ACVF0        float64
 	Fitdf              int
 	Lags               []CorrelogramLag // lags 1..min(maxLag, NSlots−1)
+	// PACFStop is the first lag (≤ the last lag of Lags) from which PACF is
+	// NaN, with the reason (PartialACF); Lag 0 when every PACF is defined.
+	PACFStop PACFStop
 }
 
 // ComputeCorrelogram returns the correlogram of the gridded series x (NaN =
@@ -461,8 +491,8 @@ func ComputeCorrelogram(x []float64, maxLag, fitdf int) Correlogram {
 	}
 	a := SampleACVF(x, L)
 	rho := ACF(a.ACVF)
-	pacf := PACF(rho)
-	c := Correlogram{N: a.N, NSlots: a.NSlots, Missing: a.NSlots - a.N, Mean: a.Mean, ACVF0: math.NaN(), Fitdf: fitdf}
+	pacf, stop := PartialACF(rho)
+	c := Correlogram{N: a.N, NSlots: a.NSlots, Missing: a.NSlots - a.N, Mean: a.Mean, ACVF0: math.NaN(), Fitdf: fitdf, PACFStop: stop}
 	if len(a.ACVF) > 0 {
 		c.ACVF0 = a.ACVF[0]
 	}

@@ -349,14 +349,15 @@ func benchACVF(b *testing.B, lag int) {
 	}
 }
 
-// TestPACFIndefinite: a correlation sequence that is not non-negative
-// definite (possible with missing slots) stops the recursion: ρ = (1, 0.9,
-// 0.2) gives φ_11 = 0.9, φ_22 = (0.2 − 0.81)/(1 − 0.81) = −3.2105…, and
-// lag 3 is undefined because v_2 = v_1(1 − φ_22²) < 0.
+// TestPACFIndefinite: a correlation sequence that is not positive definite
+// (possible with missing slots) stops the recursion at the first lag where
+// |φ_kk| ≥ 1: ρ = (1, 0.9, 0.2) gives φ_11 = 0.9 and φ_22 = (0.2 − 0.81)/(1 −
+// 0.81) = −3.2105…, which is not a correlation, so α̂(2) and α̂(3) are NaN
+// and the stop names lag 2.
 func TestPACFIndefinite(t *testing.T) {
-	p := PACF([]float64{1, 0.9, 0.2, 0.1})
-	if math.Abs(p[1]-0.9) > 1e-15 || math.Abs(p[2]-(0.2-0.81)/(1-0.81)) > 1e-14 || !math.IsNaN(p[3]) {
-		t.Fatalf("pacf %v", p)
+	p, stop := PartialACF([]float64{1, 0.9, 0.2, 0.1})
+	if math.Abs(p[1]-0.9) > 1e-15 || !math.IsNaN(p[2]) || !math.IsNaN(p[3]) || stop.Lag != 2 || stop.Reason == "" {
+		t.Fatalf("pacf %v stop %+v", p, stop)
 	}
 }
 

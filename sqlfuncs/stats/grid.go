@@ -18,7 +18,9 @@ package stats
 //     rejected). PlaceOnGridTol accepts a tighter tolerance.
 //   - collision: two readings in the same slot.
 //
-// The step is either given by the caller or inferred by InferStep.
+// The step is either given by the caller or inferred by InferStep from the
+// times of every row, including rows whose value is missing
+// (RegularizeWithMissing).
 
 import (
 	"fmt"
@@ -340,6 +342,33 @@ func Regularize(t, y []float64, step float64) (Grid, []float64, error) {
 		return Grid{}, nil, err
 	}
 	return g, g.Fill(y), nil
+}
+
+// RegularizeWithMissing is Regularize for a series whose rows include
+// explicit missing readings: missing holds the times of rows without a value
+// (sorted ascending; times equal to a reading's are allowed). Every row marks
+// a slot, so when the step is inferred it is InferStep over the times of all
+// rows, present or missing: 1, NULL, 2, NULL, 3 at unit spacing has step 1
+// and two missing slots, not step 2. The grid still runs from the first to
+// the last present reading.
+func RegularizeWithMissing(t, y, missing []float64, step float64) (Grid, []float64, error) {
+	if step <= 0 && len(missing) > 0 {
+		all := make([]float64, 0, len(t)+len(missing))
+		i, j := 0, 0
+		for i < len(t) || j < len(missing) {
+			if j == len(missing) || (i < len(t) && t[i] <= missing[j]) {
+				all = append(all, t[i])
+				i++
+			} else {
+				all = append(all, missing[j])
+				j++
+			}
+		}
+		if s, ok := InferStep(all); ok {
+			step = s
+		}
+	}
+	return Regularize(t, y, step)
 }
 
 // FormatStep renders a step in seconds as a duration text that

@@ -131,3 +131,30 @@ func TestFormatStep(t *testing.T) {
 		}
 	}
 }
+
+// Rows with a missing value mark grid slots: 1, NULL, 2, NULL, 3 at unit
+// spacing is a step of 1 with two missing slots (common practice: an
+// explicit missing reading is a slot without a value).
+func TestRegularizeWithMissingRows(t *testing.T) {
+	g, x, err := RegularizeWithMissing([]float64{0, 2, 4}, []float64{1, 2, 3}, []float64{1, 3}, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if g.Step != 1 || g.NSlots != 5 || g.Missing != 2 || len(x) != 5 || x[0] != 1 || !math.IsNaN(x[1]) || x[4] != 3 {
+		t.Fatalf("grid %+v values %v", g, x)
+	}
+	// Without the missing rows the readings alone say step 2.
+	g, _, _ = RegularizeWithMissing([]float64{0, 2, 4}, []float64{1, 2, 3}, nil, 0)
+	if g.Step != 2 {
+		t.Fatalf("step %v without missing rows", g.Step)
+	}
+	// A given step wins; one reading with missing rows gets the rows' step.
+	g, _, _ = RegularizeWithMissing([]float64{0, 2, 4}, []float64{1, 2, 3}, []float64{1, 3}, 2)
+	if g.Step != 2 || g.NSlots != 3 {
+		t.Fatalf("given step: %+v", g)
+	}
+	g, _, err = RegularizeWithMissing([]float64{10}, []float64{1}, []float64{0, 5, 15}, 0)
+	if err != nil || g.Step != 5 || g.NSlots != 1 {
+		t.Fatalf("one reading: %+v %v", g, err)
+	}
+}
