@@ -398,10 +398,11 @@ type PACFStop struct {
 //
 // The PACF rule. α̂(k) is a partial correlation only while the matrix
 // P_{k+1} = [ρ̂(|i−j|)]_{i,j=0..k} is positive definite, and P_{k+1} is
-// positive definite exactly when P_k is and |φ_kk| < 1 (the denominator
-// above is det P_{k+1}/det P_k, the scaled one-step prediction error
-// variance). Without missing values ρ̂ is a positive definite sequence
-// (divisor n; Brockwell & Davis 2002, §2.4.2) and this always holds. With
+// positive definite exactly when P_k is and |φ_kk| < 1 (the denominator at
+// lag k is det P_k / det P_{k−1}, the scaled one-step prediction error
+// variance, and det P_{k+1} / det P_k is that times 1 − φ_kk²). Without
+// missing values ρ̂ is a positive definite sequence (divisor n; Brockwell &
+// Davis 2002, §2.4.2, recalled from memory) and this always holds. With
 // missing slots (divisor m(h) + h) it need not: the first lag k with
 // |φ_kk| ≥ 1 — or with a non-positive denominator, or an undefined ρ̂(k) (no
 // pair of values k slots apart, or a constant series) — and every later lag
