@@ -5,7 +5,6 @@ import (
 	"strings"
 	"testing"
 
-	"trendsql/sqlfuncs"
 	"trendsql/sqlfuncs/stats"
 )
 
@@ -66,7 +65,7 @@ func TestCorrelogramPACFGapSQL(t *testing.T) {
 // the summary's notes name the lag and the reason.
 func TestSummaryPACFGapNote(t *testing.T) {
 	tt, y := gappedDaily()
-	s := sqlfuncs.SummarizeSeries(tt, y, stats.SummaryOptions{MaxLag: 45, Alpha: 0.05, Confidence: 0.95, MinN: 10})
+	s := stats.SummarizeSeries(tt, y, stats.SummaryOptions{MaxLag: 45, Alpha: 0.05, Confidence: 0.95, MinN: 10})
 	stop := 0
 	for _, r := range s.Correlogram {
 		if math.Abs(r.PACF) > 1 {
