@@ -187,8 +187,10 @@ func (g *HostGroup) Inverse(args []driver.Value) (err error) {
 // NULL. For a series aggregate the group must have had its first row
 // through Step, and this row's remaining arguments must be equal in type and
 // value to that row's; otherwise use Step. A row with a NULL among those
-// arguments (and the others finite numbers) is skipped by every aggregate
-// that takes numbers, so a host may drop it without calling anything.
+// arguments (and the others finite numbers) is skipped by the regression
+// aggregates, so a host may drop it without calling anything; a series
+// aggregate records the time of such a row (it marks a slot of the time
+// grid), so give it to Step.
 func (g *HostGroup) StepNumbers(v []float64) (err error) {
 	defer recoverInto(g.name, &err)
 	switch {

@@ -13,7 +13,8 @@
 // Go code (sqlfuncs.HostFunctions). An aggregate's xStep runs in C and only
 // appends the row to a buffer in SQLite's aggregate context: plain numbers
 // as doubles, anything else (the group's first row, text, options that
-// differ, a NULL time) as tagged values. Go is called when SQLite asks for a
+// differ, a NULL time, a series row with a NULL value) as tagged values. Go
+// is called when SQLite asks for a
 // value (xValue, xFinal) and replays the buffered rows through the binary's
 // own step code, so the cost of crossing from C to Go is paid per group (per
 // row only for window results and scalars). correlogram_rows is an

@@ -267,10 +267,11 @@ static void agg_row(sqlite3_context *ctx, int argc, sqlite3_value **argv, int in
       for (int j = k; ok && j < argc; j++) ok = same_value(argv[j], a->opts[j - k]);
     }
     if (ok && null && (f->first_boxed || k == argc)) {
-      /* Every aggregate that takes numbers skips a row with a NULL
-       * value once its time and other values are valid. A NULL time is
-       * an error: leave that row to Go. */
-      if (!f->first_boxed || sqlite3_value_type(argv[0]) != SQLITE_NULL) return;
+      /* A regression aggregate skips a row with a NULL value. A series
+       * aggregate keeps the time of a row whose value is NULL (it marks a
+       * slot of the time grid), and a NULL time is an error: leave those
+       * rows to Go. */
+      if (!f->first_boxed) return;
       ok = 0;
     }
     if (ok) {
