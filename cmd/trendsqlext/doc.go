@@ -14,8 +14,7 @@
 // appends the row to a buffer in SQLite's aggregate context: plain numbers
 // as doubles, anything else (the group's first row, text, options that
 // differ, a NULL time, a series row with a NULL value) as tagged values. Go
-// is called when SQLite asks for a
-// value (xValue, xFinal) and replays the buffered rows through the binary's
+// is called when SQLite asks for a value (xValue, xFinal) and replays the buffered rows through the binary's
 // own step code, so the cost of crossing from C to Go is paid per group (per
 // row only for window results and scalars). correlogram_rows is an
 // eponymous virtual table whose argument is the HIDDEN column
