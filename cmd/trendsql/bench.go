@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -25,7 +26,7 @@ type benchOptions struct {
 	timeout                  time.Duration
 }
 
-func init() { extraCommands = append(extraCommands, newBenchCmd) }
+func init() { register(newBenchCmd) }
 
 func newBenchCmd(e *env) *cobra.Command {
 	o := benchOptions{}
@@ -57,7 +58,7 @@ this build are reported as "not available". Files are removed at the end
 unless --keep is given; testdata/bench/compare.sh runs the outside
 comparisons on a kept directory. --db is ignored.`,
 		Args: exactArgs(0),
-		RunE: func(cmd *cobra.Command, args []string) error { return runBench(cmd, e, o) },
+		RunE: func(cmd *cobra.Command, args []string) error { return runBench(cmd.Context(), e, o) },
 	}
 	fl := c.Flags()
 	fl.IntVar(&o.stations, "stations", 100, "number of generated series (one station each)")
@@ -79,7 +80,8 @@ comparisons on a kept directory. --db is ignored.`,
 // the one `trendsql summarize` uses; nil would report "not available".
 var benchAnalyzer func(t, y []float64, o stats.SummaryOptions) stats.SeriesSummary = stats.SummarizeSeries
 
-func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
+// runBench generates the data, runs the measurements and prints the report.
+func runBench(ctx context.Context, e *env, o benchOptions) error {
 	if o.format != FormatTable && o.format != FormatJSON {
 		return usageErr("bench: --format must be table or json, not %q", o.format)
 	}
@@ -107,17 +109,17 @@ func runBench(cmd *cobra.Command, e *env, o benchOptions) error {
 		opts.Log = e.errw
 	}
 	if o.cpuProfile != "" {
-		f, err := os.Create(o.cpuProfile)
+		profile, err := os.Create(o.cpuProfile)
 		if err != nil {
 			return fmt.Errorf("bench: %w", err)
 		}
-		defer f.Close()
-		if err := pprof.StartCPUProfile(f); err != nil {
+		defer profile.Close()
+		if err := pprof.StartCPUProfile(profile); err != nil {
 			return fmt.Errorf("bench: %w", err)
 		}
 		defer pprof.StopCPUProfile()
 	}
-	rep, err := benchmark.Run(cmd.Context(), opts)
+	rep, err := benchmark.Run(ctx, opts)
 	if !o.keep {
 		if tmp {
 			os.RemoveAll(dir)
@@ -156,7 +158,7 @@ func writeBenchTable(w io.Writer, r *benchmark.Report, kept bool) {
 	fmt.Fprintf(w, "machine   %s, %d CPUs, %s RAM, %s, %s\n", m.CPU, m.CPUs, m.MemTotal, m.GoVersion, m.OS)
 	fmt.Fprintf(w, "load avg  before %s, after %s\n", m.LoadBefore, m.LoadAfter)
 	fmt.Fprintf(w, "data      %d series × %d hourly readings = %d rows (seed %d); CSV %.1f MiB written in %.2f s; store %.1f MiB\n",
-		r.Series, r.PerSeries, r.Rows, r.Seed, mib(r.CSVBytes), r.GenerateSec, mib(r.StoreBytes))
+		r.Series, r.PerSeries, r.Rows, r.Seed, mebibytes(r.CSVBytes), r.GenerateSec, mebibytes(r.StoreBytes))
 	fmt.Fprintf(w, "method    median of %d interleaved repetitions; × scan = median / median of %q\n", r.Reps, benchmark.ScanName)
 	if kept {
 		fmt.Fprintf(w, "files     %s, %s\n", r.CSV, r.Store)
@@ -177,7 +179,7 @@ func writeBenchTable(w io.Writer, r *benchmark.Report, kept bool) {
 			row[4] = fmt.Sprintf("%.3f", it.AllocsPerRow)
 			row[5] = fmt.Sprintf("%.1f", it.BytesPerRow)
 			if it.PeakRSS > 0 {
-				row[6] = fmt.Sprintf("%.0f", mib(it.PeakRSS))
+				row[6] = fmt.Sprintf("%.0f", mebibytes(it.PeakRSS))
 			}
 		}
 		if it.Note != "" && it.Status != "ok" {
@@ -193,7 +195,7 @@ func writeBenchTable(w io.Writer, r *benchmark.Report, kept bool) {
 	if !r.PeakReset {
 		peakNote = "peak RSS = VmHWM of the whole process so far (this kernel does not allow resetting it)"
 	}
-	fmt.Fprintf(w, "memory    %s; whole-run process peak %.0f MiB; Go allocs exclude SQLite's own heap\n", peakNote, mib(r.ProcessPeak))
+	fmt.Fprintf(w, "memory    %s; whole-run process peak %.0f MiB; Go allocs exclude SQLite's own heap\n", peakNote, mebibytes(r.ProcessPeak))
 	for _, n := range notes {
 		fmt.Fprintf(w, "note      %s\n", n)
 	}
@@ -205,7 +207,7 @@ func writeBenchTable(w io.Writer, r *benchmark.Report, kept bool) {
 	}
 }
 
-func mib(b int64) float64 { return float64(b) / (1 << 20) }
+func mebibytes(b int64) float64 { return float64(b) / (1 << 20) }
 
 func humanRate(r float64) string {
 	switch {

@@ -15,12 +15,16 @@ import (
 	"trendsql/store/demodata"
 )
 
+type demoOptions struct {
+	force  bool
+	noTour bool
+	seed   uint64
+}
+
+func init() { register(newDemoCmd) }
+
 func newDemoCmd(e *env) *cobra.Command {
-	var (
-		force  bool
-		noTour bool
-		seed   uint64
-	)
+	o := demoOptions{}
 	c := &cobra.Command{
 		Use:   "demo",
 		Short: "Build a demo store from an invented monitoring network and print a tour",
@@ -36,39 +40,41 @@ is replaced only with --force, except an untouched demo store (only demo
 batches, no summary runs), which is rebuilt; a file that is not a trendsql
 store is never replaced.`,
 		Args: exactArgs(0),
-		RunE: func(cmd *cobra.Command, args []string) error {
-			path := e.dbPath()
-			fmt.Fprintf(e.errw, "building the demo store %s ...\n", path)
-			began := time.Now()
-			sum, err := demodata.Create(cmd.Context(), path, demodata.Options{Seed: seed}, force)
-			if err != nil {
-				return wordDemoError(err)
-			}
-			fmt.Fprintf(e.errw, "demo store %s: %d stations (%s), %d series, %d readings, built in %.1fs\n",
-				path, sum.Stations, byType(sum.StationsByType), sum.Series, sum.Readings, time.Since(began).Seconds())
-			if sum.ReplacedDemo {
-				fmt.Fprintf(e.errw, "(replaced the earlier demo store at %s: it held only generated demo data)\n", path)
-			}
-			if noTour {
-				return nil
-			}
-			s, err := e.open(cmd.Context(), true)
-			if err != nil {
-				return err
-			}
-			defer s.Close()
-			return runTour(cmd.Context(), s, e.out)
-		},
+		RunE: func(cmd *cobra.Command, args []string) error { return runDemo(cmd.Context(), e, o) },
 	}
-	c.Flags().BoolVar(&force, "force", false, "replace an existing store that already holds data")
-	c.Flags().BoolVar(&noTour, "no-tour", false, "build the store only; print no tour")
-	c.Flags().Uint64Var(&seed, "seed", demodata.Seed, "seed of the invented scenario")
+	c.Flags().BoolVar(&o.force, "force", false, "replace an existing store that already holds data")
+	c.Flags().BoolVar(&o.noTour, "no-tour", false, "build the store only; print no tour")
+	c.Flags().Uint64Var(&o.seed, "seed", demodata.Seed, "seed of the invented scenario")
 	return c
 }
 
-func init() { extraCommands = append(extraCommands, newDemoCmd) }
+// runDemo builds the demo store and prints the tour.
+func runDemo(ctx context.Context, e *env, o demoOptions) error {
+	path := e.dbPath()
+	fmt.Fprintf(e.errw, "building the demo store %s ...\n", path)
+	began := time.Now()
+	sum, err := demodata.Create(ctx, path, demodata.Options{Seed: o.seed}, o.force)
+	if err != nil {
+		return wordDemoError(err)
+	}
+	fmt.Fprintf(e.errw, "demo store %s: %d stations (%s), %d series, %d readings, built in %.1fs\n",
+		path, sum.Stations, stationTypeCounts(sum.StationsByType), sum.Series, sum.Readings, time.Since(began).Seconds())
+	if sum.ReplacedDemo {
+		fmt.Fprintf(e.errw, "(replaced the earlier demo store at %s: it held only generated demo data)\n", path)
+	}
+	if o.noTour {
+		return nil
+	}
+	s, err := e.open(ctx, true)
+	if err != nil {
+		return err
+	}
+	defer s.Close()
+	return runTour(ctx, s, e.out)
+}
 
-func byType(m map[string]int) string {
+// stationTypeCounts words the number of stations of each type.
+func stationTypeCounts(m map[string]int) string {
 	order := []string{"river_gauge", "lake_level", "groundwater_well", "groundwater_well_manual"}
 	names := map[string]string{"river_gauge": "river gauges", "lake_level": "lake gauge",
 		"groundwater_well": "logged wells", "groundwater_well_manual": "manually read wells"}
@@ -100,7 +106,7 @@ func runTour(ctx context.Context, s *store.Store, out io.Writer) error {
 			fmt.Fprintf(out, "    %s\n", line)
 		}
 		fmt.Fprintln(out)
-		if err := runQuery(ctx, s, st.SQL, FormatTable, out); err != nil {
+		if err := runStatements(ctx, s, st.SQL, FormatTable, out); err != nil {
 			fmt.Fprintf(out, "(this step failed: %v)\n", err)
 			failed = append(failed, fmt.Errorf("tour step %d: %w", i+1, err))
 		}

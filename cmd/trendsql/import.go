@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -19,12 +20,15 @@ import (
 	"trendsql/store/csvimport"
 )
 
-func init() { extraCommands = append(extraCommands, newImportCmd) }
+func init() { register(newImportCmd) }
 
 // importBarDelay is how long an import runs before a progress bar appears.
 const importBarDelay = 2 * time.Second
 
-type importFlags struct {
+// importOptions are the flags and the file of `import stations` and
+// `import readings`.
+type importOptions struct {
+	file         string
 	delimiter    string
 	decimalComma bool
 	// readings only
@@ -65,7 +69,7 @@ flags or arguments.`,
 }
 
 func newImportStationsCmd(e *env) *cobra.Command {
-	f := &importFlags{}
+	o := &importOptions{}
 	c := &cobra.Command{
 		Use:   "stations FILE.csv",
 		Short: "Add or update stations from a CSV file",
@@ -84,26 +88,16 @@ FILE "-" reads standard input; the batch records its source as "stdin".`,
   trendsql import stations --delimiter ';' --decimal-comma sites.csv`,
 		Args: exactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			delim, err := importDelimiter(f.delimiter)
-			if err != nil {
-				return err
-			}
-			return runImport(cmd, e, args[0], func(s *store.Store, progress func(csvimport.Progress)) (string, error) {
-				res, err := csvimport.ImportStations(cmd.Context(), s, args[0], csvimport.StationsOptions{
-					Delimiter: delim, DecimalComma: f.decimalComma, Progress: progress, Stdin: e.in})
-				if err != nil {
-					return "", wordImportError(err)
-				}
-				return importStationsSummary(res), nil
-			})
+			o.file = args[0]
+			return runImportStations(cmd.Context(), e, *o)
 		},
 	}
-	addImportCSVFlags(c, f)
+	addImportCSVFlags(c, o)
 	return c
 }
 
 func newImportReadingsCmd(e *env) *cobra.Command {
-	f := &importFlags{}
+	o := &importOptions{}
 	c := &cobra.Command{
 		Use:   "readings FILE.csv",
 		Short: "Add readings from a CSV file",
@@ -147,73 +141,95 @@ FILE "-" reads standard input; the batch records its source as "stdin".`,
   gunzip -c archive-2019.csv.gz | trendsql import readings --variable stage -`,
 		Args: exactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			opt, err := f.readingsOptions()
-			if err != nil {
-				return err
-			}
-			return runImport(cmd, e, args[0], func(s *store.Store, progress func(csvimport.Progress)) (string, error) {
-				opt.Progress = progress
-				opt.Stdin = e.in
-				opt.OnInsertPath = importGC
-				res, err := csvimport.ImportReadings(cmd.Context(), s, args[0], opt)
-				if errors.Is(err, csvimport.ErrAlreadyImported) {
-					return "", fmt.Errorf("%w (--on-duplicate keep-first or replace imports it anyway)", err)
-				}
-				if err != nil {
-					return "", wordImportError(err)
-				}
-				return importReadingsSummary(res), nil
-			})
+			o.file = args[0]
+			return runImportReadings(cmd.Context(), e, *o)
 		},
 	}
-	addImportCSVFlags(c, f)
+	addImportCSVFlags(c, o)
 	fl := c.Flags()
-	fl.StringVar(&f.stationCol, "station-col", "", `column with the station id (default "station")`)
-	fl.StringVar(&f.timeCol, "time-col", "", `column with the time (default "time")`)
-	fl.StringVar(&f.valueCol, "value-col", "", `column with the value (default "value")`)
-	fl.StringVar(&f.qualifierCol, "qualifier-col", "", `column with the qualifier flag, kept verbatim (default "qualifier" if present)`)
-	fl.StringVar(&f.variable, "variable", "", "variable name for every row of the file, e.g. stage")
-	fl.StringVar(&f.variableCol, "variable-col", "", `column with the variable name (default "variable" if present and --variable is not given)`)
-	fl.StringVar(&f.unit, "unit", "", "unit of the readings, e.g. m or mg/L")
-	fl.StringVar(&f.tz, "tz", "UTC", "zone of zone-less times: an IANA name (Europe/Berlin) or a fixed offset (+01:00, -05:00, UTC+1)")
-	fl.StringVar(&f.censorCol, "censor-col", "", `column with censoring remarks: '<', '>' or empty`)
-	fl.BoolVar(&f.rejectCensored, "reject-censored", false, "reject censored values (<5, >2000) instead of storing them with their mark")
-	fl.StringSliceVar(&f.missingValues, "missing-values", nil, "comma-separated cell texts meaning no reading, matched exactly (e.g. -999,NA)")
-	fl.StringVar(&f.onDuplicate, "on-duplicate", string(csvimport.DupError), "what a repeated (station, variable, time) does: error, keep-first or replace")
+	fl.StringVar(&o.stationCol, "station-col", "", `column with the station id (default "station")`)
+	fl.StringVar(&o.timeCol, "time-col", "", `column with the time (default "time")`)
+	fl.StringVar(&o.valueCol, "value-col", "", `column with the value (default "value")`)
+	fl.StringVar(&o.qualifierCol, "qualifier-col", "", `column with the qualifier flag, kept verbatim (default "qualifier" if present)`)
+	fl.StringVar(&o.variable, "variable", "", "variable name for every row of the file, e.g. stage")
+	fl.StringVar(&o.variableCol, "variable-col", "", `column with the variable name (default "variable" if present and --variable is not given)`)
+	fl.StringVar(&o.unit, "unit", "", "unit of the readings, e.g. m or mg/L")
+	fl.StringVar(&o.tz, "tz", "UTC", "zone of zone-less times: an IANA name (Europe/Berlin) or a fixed offset (+01:00, -05:00, UTC+1)")
+	fl.StringVar(&o.censorCol, "censor-col", "", `column with censoring remarks: '<', '>' or empty`)
+	fl.BoolVar(&o.rejectCensored, "reject-censored", false, "reject censored values (<5, >2000) instead of storing them with their mark")
+	fl.StringSliceVar(&o.missingValues, "missing-values", nil, "comma-separated cell texts meaning no reading, matched exactly (e.g. -999,NA)")
+	fl.StringVar(&o.onDuplicate, "on-duplicate", string(csvimport.DupError), "what a repeated (station, variable, time) does: error, keep-first or replace")
 	return c
 }
 
-func addImportCSVFlags(c *cobra.Command, f *importFlags) {
-	c.Flags().StringVar(&f.delimiter, "delimiter", ",", `field separator: one character, or "tab"`)
-	c.Flags().BoolVar(&f.decimalComma, "decimal-comma", false, "numbers use a decimal comma (12,5); a point is then refused")
+func addImportCSVFlags(c *cobra.Command, o *importOptions) {
+	c.Flags().StringVar(&o.delimiter, "delimiter", ",", `field separator: one character, or "tab"`)
+	c.Flags().BoolVar(&o.decimalComma, "decimal-comma", false, "numbers use a decimal comma (12,5); a point is then refused")
+}
+
+// runImportStations imports one stations file.
+func runImportStations(ctx context.Context, e *env, o importOptions) error {
+	delim, err := importDelimiter(o.delimiter)
+	if err != nil {
+		return err
+	}
+	return runImport(ctx, e, o.file, func(s *store.Store, progress func(csvimport.Progress)) (string, error) {
+		res, err := csvimport.ImportStations(ctx, s, o.file, csvimport.StationsOptions{
+			Delimiter: delim, DecimalComma: o.decimalComma, Progress: progress, Stdin: e.in})
+		if err != nil {
+			return "", wordImportError(err)
+		}
+		return importStationsSummary(res), nil
+	})
+}
+
+// runImportReadings imports one readings file.
+func runImportReadings(ctx context.Context, e *env, o importOptions) error {
+	opt, err := o.readingsOptions()
+	if err != nil {
+		return err
+	}
+	return runImport(ctx, e, o.file, func(s *store.Store, progress func(csvimport.Progress)) (string, error) {
+		opt.Progress = progress
+		opt.Stdin = e.in
+		opt.OnInsertPath = importGC
+		res, err := csvimport.ImportReadings(ctx, s, o.file, opt)
+		if errors.Is(err, csvimport.ErrAlreadyImported) {
+			return "", fmt.Errorf("%w (--on-duplicate keep-first or replace imports it anyway)", err)
+		}
+		if err != nil {
+			return "", wordImportError(err)
+		}
+		return importReadingsSummary(res), nil
+	})
 }
 
 // readingsOptions checks the flags and turns them into store options.
-func (f *importFlags) readingsOptions() (csvimport.ReadingsOptions, error) {
+func (o importOptions) readingsOptions() (csvimport.ReadingsOptions, error) {
 	var opt csvimport.ReadingsOptions
-	delim, err := importDelimiter(f.delimiter)
+	delim, err := importDelimiter(o.delimiter)
 	if err != nil {
 		return opt, err
 	}
-	dup, err := csvimport.ParseOnDuplicate(f.onDuplicate)
+	dup, err := csvimport.ParseOnDuplicate(o.onDuplicate)
 	if err != nil {
-		return opt, usageErr("import readings: --on-duplicate must be error, keep-first or replace, got %q", f.onDuplicate)
+		return opt, usageErr("import readings: --on-duplicate must be error, keep-first or replace, got %q", o.onDuplicate)
 	}
-	if f.variable != "" && f.variableCol != "" {
+	if o.variable != "" && o.variableCol != "" {
 		return opt, usageErr("import readings: give --variable or --variable-col, not both")
 	}
-	if _, err := timefmt.ParseZone(f.tz); err != nil {
-		return opt, usageErr("import readings: --tz %q is neither an IANA time zone name (such as UTC, Europe/Berlin, America/New_York) nor a fixed offset (such as +01:00, -05:00, UTC+1)", f.tz)
+	if _, err := timefmt.ParseZone(o.tz); err != nil {
+		return opt, usageErr("import readings: --tz %q is neither an IANA time zone name (such as UTC, Europe/Berlin, America/New_York) nor a fixed offset (such as +01:00, -05:00, UTC+1)", o.tz)
 	}
 	return csvimport.ReadingsOptions{
-		StationCol: f.stationCol, TimeCol: f.timeCol, ValueCol: f.valueCol, QualifierCol: f.qualifierCol,
-		Variable: f.variable, VariableCol: f.variableCol, Unit: f.unit, TZ: f.tz,
-		DecimalComma: f.decimalComma, Delimiter: delim, OnDuplicate: dup,
-		CensorCol: f.censorCol, NoCensored: f.rejectCensored, MissingValues: f.missingValues,
+		StationCol: o.stationCol, TimeCol: o.timeCol, ValueCol: o.valueCol, QualifierCol: o.qualifierCol,
+		Variable: o.variable, VariableCol: o.variableCol, Unit: o.unit, TZ: o.tz,
+		DecimalComma: o.decimalComma, Delimiter: delim, OnDuplicate: dup,
+		CensorCol: o.censorCol, NoCensored: o.rejectCensored, MissingValues: o.missingValues,
 	}, nil
 }
 
-// parseDelimiter accepts one ASCII character or "tab" / `\t`.
+// importDelimiter accepts one ASCII character or "tab" / `\t`.
 func importDelimiter(s string) (byte, error) {
 	switch s {
 	case "tab", `\t`, "\t":
@@ -313,7 +329,7 @@ func importReadingsRejectNote(r *csvimport.ImportResult) string {
 	return s + fmt.Sprintf(" (listed in import_rejects, batch_id %d)", r.BatchID)
 }
 
-// readingsSummary is the one-line account of a readings import.
+// importReadingsSummary is the one-line account of a readings import.
 func importReadingsSummary(r *csvimport.ImportResult) string {
 	stored := fmt.Sprintf("%d stored", r.RowsStored)
 	if r.RowsCensored > 0 {
@@ -343,7 +359,7 @@ func importReadingsSummary(r *csvimport.ImportResult) string {
 	return s
 }
 
-// stationsSummary is the one-line account of a stations import.
+// importStationsSummary is the one-line account of a stations import.
 func importStationsSummary(r *csvimport.ImportResult) string {
 	return fmt.Sprintf("%s → batch %d: %s read, %d new, %d already stored (%d of them updated), %s",
 		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, r.RowsDuplicate, r.RowsReplaced, importRejectNote(r))
@@ -351,11 +367,11 @@ func importStationsSummary(r *csvimport.ImportResult) string {
 
 // runImport checks the file, opens the store writable, runs one import with
 // a progress bar on a terminal, and prints its one-line summary.
-func runImport(cmd *cobra.Command, e *env, path string, load func(*store.Store, func(csvimport.Progress)) (string, error)) error {
+func runImport(ctx context.Context, e *env, path string, load func(*store.Store, func(csvimport.Progress)) (string, error)) error {
 	if err := checkImportFile(path); err != nil {
 		return err
 	}
-	s, err := e.open(cmd.Context(), false)
+	s, err := e.open(ctx, false)
 	if err != nil {
 		return err
 	}

@@ -51,7 +51,7 @@ func writeRows(w io.Writer, rows *sql.Rows, format string) (int, error) {
 				return n, err
 			}
 			for i, v := range vals {
-				rec[i] = plain(v, true)
+				rec[i] = fullText(v, true)
 			}
 			cw.Write(rec)
 			n++
@@ -101,7 +101,7 @@ func writeRows(w io.Writer, rows *sql.Rows, format string) (int, error) {
 			}
 			rec := make([]string, len(cols))
 			for i, v := range vals {
-				rec[i] = cell(v)
+				rec[i] = tableCell(v)
 				switch v.(type) {
 				case int64, float64, nil:
 				default:
@@ -196,15 +196,15 @@ func drawRow(w io.Writer, r []string, width []int, numeric []bool, header bool) 
 	fmt.Fprintln(w, strings.TrimRight(b.String(), " "))
 }
 
-// cell renders a value for the table format.
-func cell(v any) string {
+// tableCell renders a value for the table format.
+func tableCell(v any) string {
 	switch x := v.(type) {
 	case nil:
 		return nullMark
 	case float64:
 		return strconv.FormatFloat(x, 'g', 10, 64)
 	}
-	s := plain(v, false)
+	s := fullText(v, false)
 	s = strings.ReplaceAll(s, "\n", "⏎")
 	if utf8.RuneCountInString(s) > maxCell {
 		r := []rune(s)
@@ -213,8 +213,8 @@ func cell(v any) string {
 	return s
 }
 
-// plain renders a value at full precision; NULL is empty in CSV.
-func plain(v any, csvNull bool) string {
+// fullText renders a value at full precision; NULL is empty in CSV.
+func fullText(v any, csvNull bool) string {
 	switch x := v.(type) {
 	case nil:
 		if csvNull {

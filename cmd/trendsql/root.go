@@ -5,11 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
-	"os/signal"
-	"runtime/pprof"
 	"strings"
-	"syscall"
 
 	"github.com/spf13/cobra"
 
@@ -33,6 +29,9 @@ type exitError struct {
 func (e *exitError) Error() string { return e.err.Error() }
 func (e *exitError) Unwrap() error { return e.err }
 
+// usageErr is a usage error (exit code 2). By convention the message starts
+// with the command's name ("query: …"), never with the program's name, which
+// Main prints once in front of every error.
 func usageErr(format string, a ...any) error {
 	return &exitError{code: ExitUsage, err: fmt.Errorf(format, a...)}
 }
@@ -60,63 +59,12 @@ func (e *env) openForSQL(ctx context.Context, write, unsafePragmas bool) (*store
 	return s, wordOpenError(err)
 }
 
-// Main runs the CLI and returns the process exit code.
-func Main(args []string, in io.Reader, out, errw io.Writer) int {
-	e := &env{in: in, out: out, errw: errw}
-	root := newRootCmd(e)
-	root.SetArgs(args)
-	root.SetIn(in)
-	root.SetOut(out)
-	root.SetErr(errw)
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
-	defer stop()
-	if path := os.Getenv(EnvCPUProfile); path != "" {
-		stopProfile, err := startCPUProfile(path)
-		if err != nil {
-			fmt.Fprintln(errw, "trendsql:", err)
-			return ExitFailed
-		}
-		defer stopProfile()
-	}
-	err := root.ExecuteContext(ctx)
-	if err == nil {
-		return ExitOK
-	}
-	fmt.Fprintln(errw, "trendsql:", err)
-	var ee *exitError
-	if errors.As(err, &ee) {
-		return ee.code
-	}
-	if isUsage(err) {
-		return ExitUsage
-	}
-	return ExitFailed
-}
+// commands holds the constructor of every subcommand. Each command's file
+// adds its own from init(), so a new command is a new file and nothing else.
+var commands []func(*env) *cobra.Command
 
-// EnvCPUProfile names a file to receive a CPU profile of the whole command
-// (for `go tool pprof`; a developer aid documented in DEVELOPERS.md).
-const EnvCPUProfile = "TRENDSQL_CPUPROFILE"
-
-func startCPUProfile(path string) (func(), error) {
-	f, err := os.Create(path)
-	if err != nil {
-		return nil, fmt.Errorf("%s: %w", EnvCPUProfile, err)
-	}
-	if err := pprof.StartCPUProfile(f); err != nil {
-		f.Close()
-		return nil, fmt.Errorf("%s: %w", EnvCPUProfile, err)
-	}
-	return func() { pprof.StopCPUProfile(); f.Close() }, nil
-}
-
-// isUsage recognises cobra's own argument and flag errors, and its unknown
-// subcommand error.
-func isUsage(err error) bool {
-	var u *usageMarker
-	return errors.As(err, &u) || strings.HasPrefix(err.Error(), "unknown command ")
-}
-
-type usageMarker struct{ error }
+// register adds a subcommand constructor to commands.
+func register(newCmd func(*env) *cobra.Command) { commands = append(commands, newCmd) }
 
 func newRootCmd(e *env) *cobra.Command {
 	root := &cobra.Command{
@@ -134,29 +82,37 @@ review govern decisions about water supply and flood risk.`,
 	}
 	root.PersistentFlags().StringVar(&e.dbFlag, "db", "", "store path (default $"+store.EnvDB+", else ./"+store.DefaultPath+")")
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
+		if c.HasParent() {
+			err = fmt.Errorf("%s: %w", commandName(c), err)
+		}
 		return &usageMarker{fmt.Errorf("%w (see `%s --help`)", err, c.CommandPath())}
 	})
-	root.AddCommand(
-		newInitCmd(e),
-		newQueryCmd(e),
-		newFunctionsCmd(e),
-		newVersionCmd(e),
-	)
-	for _, c := range extraCommands {
-		root.AddCommand(c(e))
+	for _, newCmd := range commands {
+		root.AddCommand(newCmd(e))
 	}
 	return root
 }
 
-// extraCommands lets each command file add itself from init(), so command
-// files can be added without editing this one.
-var extraCommands []func(*env) *cobra.Command
+// commandName is a command's path without the program name ("query",
+// "import readings"), the prefix of its error messages.
+func commandName(c *cobra.Command) string {
+	return strings.TrimPrefix(c.CommandPath(), c.Root().Name()+" ")
+}
+
+// isUsage recognises cobra's own argument and flag errors, and its unknown
+// subcommand error.
+func isUsage(err error) bool {
+	var u *usageMarker
+	return errors.As(err, &u) || strings.HasPrefix(err.Error(), "unknown command ")
+}
+
+type usageMarker struct{ error }
 
 // exactArgs is cobra.ExactArgs with a usage exit code.
 func exactArgs(n int) cobra.PositionalArgs {
 	return func(cmd *cobra.Command, args []string) error {
 		if len(args) != n {
-			return usageErr("%s: expected %d argument(s), got %d (usage: %s)", cmd.CommandPath(), n, len(args), cmd.UseLine())
+			return usageErr("%s: expected %d argument(s), got %d (usage: %s)", commandName(cmd), n, len(args), cmd.UseLine())
 		}
 		return nil
 	}

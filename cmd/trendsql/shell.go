@@ -30,12 +30,16 @@ Shell commands (one per line, not ended by ';'):
   :help               show this list
   :quit               leave the shell (Ctrl-D does too)`
 
+type shellOptions struct {
+	write         bool
+	unsafePragmas bool
+	format        string
+}
+
+func init() { register(newShellCmd) }
+
 func newShellCmd(e *env) *cobra.Command {
-	var (
-		write         bool
-		unsafePragmas bool
-		format        string
-	)
+	o := shellOptions{}
 	c := &cobra.Command{
 		Use:   "shell",
 		Short: "Interactive SQL on the store, with line editing and history (read-only unless --write)",
@@ -51,37 +55,39 @@ then ends with exit code 1.
 History is kept in the user cache directory (trendsql/history).
 The store is opened read-only unless --write is given.`,
 		Args: exactArgs(0),
-		RunE: func(cmd *cobra.Command, args []string) error {
-			if !validFormat(format) {
-				return usageErr("shell: --format must be table, csv or json, got %q", format)
-			}
-			if unsafePragmas && !write {
-				return usageErr("shell: --allow-unsafe-pragmas needs --write")
-			}
-			s, err := e.openForSQL(cmd.Context(), write, unsafePragmas)
-			if err != nil {
-				return err
-			}
-			defer s.Close()
-			conn, err := s.DB.Conn(cmd.Context())
-			if err != nil {
-				return err
-			}
-			defer conn.Close()
-			sh := &shell{conn: conn, store: s, out: e.out, errw: e.errw, format: format, ctx: cmd.Context()}
-			if f, ok := e.in.(*os.File); ok && readline.IsTerminal(int(f.Fd())) {
-				return sh.interactive(f)
-			}
-			return sh.piped(e.in)
-		},
+		RunE: func(cmd *cobra.Command, args []string) error { return runShell(cmd.Context(), e, o) },
 	}
-	c.Flags().BoolVar(&write, "write", false, "open the store writable so statements may change it")
-	c.Flags().BoolVar(&unsafePragmas, "allow-unsafe-pragmas", false, unsafePragmasUsage)
-	c.Flags().StringVar(&format, "format", FormatTable, "initial result format: table, csv or json")
+	c.Flags().BoolVar(&o.write, "write", false, "open the store writable so statements may change it")
+	c.Flags().BoolVar(&o.unsafePragmas, "allow-unsafe-pragmas", false, unsafePragmasUsage)
+	c.Flags().StringVar(&o.format, "format", FormatTable, "initial result format: table, csv or json")
 	return c
 }
 
-func init() { extraCommands = append(extraCommands, newShellCmd) }
+// runShell opens the store and reads statements from e.in: with line editing
+// and history on a terminal, without prompts otherwise.
+func runShell(ctx context.Context, e *env, o shellOptions) error {
+	if !validFormat(o.format) {
+		return usageErr("shell: --format must be table, csv or json, got %q", o.format)
+	}
+	if o.unsafePragmas && !o.write {
+		return usageErr("shell: --allow-unsafe-pragmas needs --write")
+	}
+	s, err := e.openForSQL(ctx, o.write, o.unsafePragmas)
+	if err != nil {
+		return err
+	}
+	defer s.Close()
+	conn, err := s.DB.Conn(ctx)
+	if err != nil {
+		return err
+	}
+	defer conn.Close()
+	sh := &shell{conn: conn, store: s, out: e.out, errw: e.errw, format: o.format, ctx: ctx}
+	if file, ok := e.in.(*os.File); ok && readline.IsTerminal(int(file.Fd())) {
+		return sh.interactive(file)
+	}
+	return sh.piped(e.in)
+}
 
 // shell runs statements on one connection, so transactions and temporary
 // tables last across statements.
@@ -327,8 +333,8 @@ func (sh *shell) dispatch(line string) error {
 	if sh.tty {
 		ctx = context.Background()
 	}
-	argN := func(min, max int) error {
-		if len(args) < min || len(args) > max {
+	wantArgs := func(fewest, most int) error {
+		if len(args) < fewest || len(args) > most {
 			return fmt.Errorf("%s: wrong number of arguments (see :help)", name)
 		}
 		return nil
@@ -339,7 +345,7 @@ func (sh *shell) dispatch(line string) error {
 	case ":quit":
 		return errQuit
 	case ":tables":
-		if err := argN(0, 0); err != nil {
+		if err := wantArgs(0, 0); err != nil {
 			return err
 		}
 		rows, err := store.TablesQuery(ctx, sh.conn)
@@ -350,7 +356,7 @@ func (sh *shell) dispatch(line string) error {
 		_, err = writeRows(sh.out, rows, sh.format)
 		return err
 	case ":columns":
-		if err := argN(1, 1); err != nil {
+		if err := wantArgs(1, 1); err != nil {
 			return err
 		}
 		schema, table := splitQualified(args[0])
@@ -362,7 +368,7 @@ func (sh *shell) dispatch(line string) error {
 		_, err = writeRows(sh.out, rows, sh.format)
 		return err
 	case ":format":
-		if err := argN(0, 1); err != nil {
+		if err := wantArgs(0, 1); err != nil {
 			return err
 		}
 		if len(args) == 0 {

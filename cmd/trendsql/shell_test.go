@@ -85,6 +85,9 @@ func TestMainUsageErrors(t *testing.T) {
 		if !strings.HasPrefix(errw.String(), "trendsql: ") || strings.Count(strings.TrimSpace(errw.String()), "\n") != 0 {
 			t.Errorf("trendsql %q: want a one-line error, got %q", args, errw.String())
 		}
+		if strings.Count(errw.String(), "trendsql:") != 1 || strings.HasPrefix(errw.String(), "trendsql: trendsql") {
+			t.Errorf("trendsql %q: the program name is repeated in %q", args, errw.String())
+		}
 	}
 }
 

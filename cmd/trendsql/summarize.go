@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"os"
@@ -30,7 +31,7 @@ type summarizeOptions struct {
 	quiet               bool
 }
 
-func init() { extraCommands = append(extraCommands, newSummarizeCmd) }
+func init() { register(newSummarizeCmd) }
 
 func newSummarizeCmd(e *env) *cobra.Command {
 	o := summarizeOptions{}
@@ -53,7 +54,7 @@ Exit codes: 0 run stored; 1 run failed (recorded as failed); 2 usage error;
 3 nothing to do (e.g. --changed-only found no changes) or another run holds
 the store and --wait was not given.`,
 		Args: exactArgs(0),
-		RunE: func(cmd *cobra.Command, args []string) error { return runSummarize(cmd, e, o) },
+		RunE: func(cmd *cobra.Command, args []string) error { return runSummarize(cmd.Context(), e, o) },
 	}
 	fl := c.Flags()
 	fl.StringSliceVar(&o.stations, "station", nil, "only these station ids (repeat or comma-separate)")
@@ -77,7 +78,8 @@ the store and --wait was not given.`,
 	return c
 }
 
-func runSummarize(cmd *cobra.Command, e *env, o summarizeOptions) error {
+// runSummarize checks the options, runs one summary run and reports it.
+func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {
 	model := stats.SummaryOptions{
 		Harmonics: o.harmonics, Seasons: o.seasons, MaxLag: o.maxLag, LBLags: o.lbLags,
 		Alpha: o.alpha, Confidence: o.confidence, MinN: o.minN,
@@ -128,7 +130,7 @@ func runSummarize(cmd *cobra.Command, e *env, o summarizeOptions) error {
 		}
 		*tv.out = &t
 	}
-	s, err := e.open(cmd.Context(), false)
+	s, err := e.open(ctx, false)
 	if err != nil {
 		return err
 	}
@@ -145,7 +147,7 @@ func runSummarize(cmd *cobra.Command, e *env, o summarizeOptions) error {
 			bar.Set(done)
 		}
 	}
-	res, err := summaries.Run(cmd.Context(), s, opts)
+	res, err := summaries.Run(ctx, s, opts)
 	if bar != nil {
 		bar.Finish()
 	}

@@ -24,22 +24,27 @@ func versionString() string {
 	return v
 }
 
+func init() { register(newVersionCmd) }
+
 func newVersionCmd(e *env) *cobra.Command {
 	return &cobra.Command{
 		Use:   "version",
 		Short: "Print the trendsql version",
 		Args:  exactArgs(0),
-		RunE: func(cmd *cobra.Command, args []string) error {
-			sqliteVersion := "?"
-			if bi, ok := debug.ReadBuildInfo(); ok {
-				for _, d := range bi.Deps {
-					if d.Path == "modernc.org/sqlite" {
-						sqliteVersion = d.Version
-					}
-				}
-			}
-			fmt.Fprintf(e.out, "trendsql %s (%s, modernc.org/sqlite %s, %s/%s)\n", versionString(), runtime.Version(), sqliteVersion, runtime.GOOS, runtime.GOARCH)
-			return nil
-		},
+		RunE:  func(cmd *cobra.Command, args []string) error { return runVersion(e) },
 	}
+}
+
+// runVersion prints the version line: release, Go, SQLite driver, platform.
+func runVersion(e *env) error {
+	sqliteVersion := "?"
+	if bi, ok := debug.ReadBuildInfo(); ok {
+		for _, d := range bi.Deps {
+			if d.Path == "modernc.org/sqlite" {
+				sqliteVersion = d.Version
+			}
+		}
+	}
+	_, err := fmt.Fprintf(e.out, "trendsql %s (%s, modernc.org/sqlite %s, %s/%s)\n", versionString(), runtime.Version(), sqliteVersion, runtime.GOOS, runtime.GOARCH)
+	return err
 }
