@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"strconv"
@@ -25,7 +26,7 @@ type reportOptions struct {
 	fullDetail bool
 }
 
-func init() { extraCommands = append(extraCommands, newReportCmd) }
+func init() { register(newReportCmd) }
 
 func newReportCmd(e *env) *cobra.Command {
 	o := reportOptions{}
@@ -44,7 +45,7 @@ series (or --run ID); series the run lacks are computed now with its
 parameters and marked so. A DIR that holds files not written by a report is
 refused unless --force; such files are never replaced.`,
 		Args: exactArgs(0),
-		RunE: func(cmd *cobra.Command, args []string) error { return runReport(cmd, e, o) },
+		RunE: func(cmd *cobra.Command, args []string) error { return runReport(cmd.Context(), e, o) },
 	}
 	fl := c.Flags()
 	fl.StringVar(&o.out, "out", "", "output folder (created if missing)")
@@ -61,7 +62,7 @@ refused unless --force; such files are never replaced.`,
 	return c
 }
 
-func runReport(cmd *cobra.Command, e *env, o reportOptions) error {
+func runReport(ctx context.Context, e *env, o reportOptions) error {
 	if o.out == "" {
 		return usageErr("report: --out DIR is required")
 	}
@@ -80,13 +81,13 @@ func runReport(cmd *cobra.Command, e *env, o reportOptions) error {
 		}
 		opts.SeriesIDs = append(opts.SeriesIDs, id)
 	}
-	s, err := e.open(cmd.Context(), true)
+	s, err := e.open(ctx, true)
 	if err != nil {
 		return err
 	}
 	defer s.Close()
 	began := time.Now()
-	res, err := report.Write(cmd.Context(), s.DB, opts)
+	res, err := report.Write(ctx, s.DB, opts)
 	var de *report.DirError
 	switch {
 	case errors.Is(err, report.ErrDirNotEmpty) && errors.As(err, &de):
