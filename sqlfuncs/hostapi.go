@@ -191,25 +191,33 @@ func (g *HostGroup) Inverse(args []driver.Value) (err error) {
 // aggregates, so a host may drop it without calling anything; a series
 // aggregate records the time of such a row (it marks a slot of the time
 // grid), so give it to Step.
+//
+// v may hold several such rows one after the other (Numbers values each),
+// which are added in order.
 func (g *HostGroup) StepNumbers(v []float64) (err error) {
 	defer recoverInto(g.name, &err)
 	switch {
 	case g.series != nil:
 		a := g.series
-		if !a.stepped || len(v) != 1+a.spec.values {
+		k := 1 + a.spec.values
+		if !a.stepped || len(v)%k != 0 {
 			return fmt.Errorf("%s: internal error: numbers before the group's first row", g.name)
 		}
-		t, y := v[0], v[len(v)-1]
-		if n := len(a.t); n > a.head && t <= a.t[n-1] {
-			a.sorted = false
+		for ; len(v) >= k; v = v[k:] {
+			t, y := v[0], v[k-1]
+			if n := len(a.t); n > a.head && t <= a.t[n-1] {
+				a.sorted = false
+			}
+			a.t = append(a.t, t)
+			a.y = append(a.y, y)
+			if k == 3 {
+				a.x = append(a.x, v[1])
+			}
 		}
-		a.t = append(a.t, t)
-		a.y = append(a.y, y)
-		if a.spec.values == 2 {
-			a.x = append(a.x, v[1])
+	case g.regr != nil && len(v)%2 == 0:
+		for ; len(v) >= 2; v = v[2:] {
+			g.regr.addPair(v[0], v[1])
 		}
-	case g.regr != nil && len(v) == 2:
-		g.regr.addPair(v[0], v[1])
 	default:
 		return fmt.Errorf("%s: internal error: no numeric rows", g.name)
 	}

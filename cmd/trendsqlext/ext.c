@@ -126,7 +126,7 @@ int ext_register_scalar(sqlite3 *db, const char *name, int nargs, ext_func *f, i
 
 /* ---- aggregates: the row log ---- */
 
-#define EXT_BLOCK (1u << 20)
+#define EXT_BLOCK (1u << 16)
 
 static unsigned char *log_reserve(ext_agg *a, size_t n) {
   ext_blk *b = a->tail;
@@ -151,13 +151,18 @@ static unsigned char *log_reserve(ext_agg *a, size_t n) {
   return p;
 }
 
-void *ext_log_first(ext_agg *a, int *len) {
-  if (!a || !a->head) return 0;
-  *len = (int)a->head->len;
-  return a->head->data;
+/* ext_log_first_len is the length of the oldest block, -1 when the log is
+ * empty; ext_log_take_first copies that block to dst and frees it. */
+int ext_log_first_len(ext_agg *a) { return a && a->head ? (int)a->head->len : -1; }
+
+static void log_drop_first(ext_agg *a);
+
+void ext_log_take_first(ext_agg *a, unsigned char *dst) {
+  memcpy(dst, a->head->data, a->head->len);
+  log_drop_first(a);
 }
 
-void ext_log_drop_first(ext_agg *a) {
+static void log_drop_first(ext_agg *a) {
   ext_blk *b = a->head;
   if (!b) return;
   a->head = b->next;
@@ -166,7 +171,7 @@ void ext_log_drop_first(ext_agg *a) {
 }
 
 static void log_clear(ext_agg *a) {
-  while (a->head) ext_log_drop_first(a);
+  while (a->head) log_drop_first(a);
 }
 
 static size_t value_size(sqlite3_value *v) {

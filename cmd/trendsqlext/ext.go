@@ -250,32 +250,55 @@ func trendsqlGoAggRelease(group C.uintptr_t) {
 // replay hands the logged rows to the group in the order SQLite delivered
 // them, one log block at a time (each block is freed once read); the first
 // error stops it.
+// Consecutive rows of plain numbers are added in one call. The buffers are
+// reused across calls (replayBuffers), so a group allocates nothing here.
 func replay(g *sqlfuncs.HostGroup, k int, a *C.ext_agg) error {
 	var nums [8]float64
 	var args []driver.Value
-	for {
-		var n C.int
-		p := C.ext_log_first(a, &n)
-		if p == nil {
+	bufs := replayPool.Get().(*replayBuffers)
+	defer replayPool.Put(bufs)
+	batch := bufs.nums[:0]
+	flush := func() error {
+		if len(batch) == 0 {
 			return nil
 		}
-		data := C.GoBytes(p, n)
-		C.ext_log_drop_first(a)
+		err := g.StepNumbers(batch)
+		batch = batch[:0]
+		return err
+	}
+	for {
+		n := int(C.ext_log_first_len(a))
+		if n < 0 {
+			err := flush()
+			bufs.nums = batch
+			return err
+		}
+		if cap(bufs.block) < max(n, 1) {
+			bufs.block = make([]byte, max(n, 1))
+		}
+		data := bufs.block[:n]
+		C.ext_log_take_first(a, (*C.uchar)(&bufs.block[0]))
 		for off := 0; off < len(data); {
 			op := data[off]
 			off++
+			if op == C.EXT_STEP_NUMBERS {
+				for i := 0; i < k; i++ {
+					batch = append(batch, math.Float64frombits(binary.NativeEndian.Uint64(data[off:])))
+					off += 8
+				}
+				continue
+			}
+			if err := flush(); err != nil {
+				return err
+			}
 			var err error
 			switch op {
-			case C.EXT_STEP_NUMBERS, C.EXT_INVERSE_NUMBERS:
+			case C.EXT_INVERSE_NUMBERS:
 				for i := 0; i < k; i++ {
 					nums[i] = math.Float64frombits(binary.NativeEndian.Uint64(data[off:]))
 					off += 8
 				}
-				if op == C.EXT_STEP_NUMBERS {
-					err = g.StepNumbers(nums[:k])
-				} else {
-					err = g.InverseNumbers(nums[:k])
-				}
+				err = g.InverseNumbers(nums[:k])
 			case C.EXT_STEP_VALUES, C.EXT_INVERSE_VALUES:
 				argc := int(binary.NativeEndian.Uint32(data[off:]))
 				off += 4
@@ -299,6 +322,15 @@ func replay(g *sqlfuncs.HostGroup, k int, a *C.ext_agg) error {
 		}
 	}
 }
+
+// replayBuffers are the reusable buffers of replay: a copy of one log
+// block and the numbers of consecutive rows.
+type replayBuffers struct {
+	block []byte
+	nums  []float64
+}
+
+var replayPool = sync.Pool{New: func() any { return new(replayBuffers) }}
 
 // decodeValue reads one logged value (see ext.h) starting at off.
 func decodeValue(data []byte, off int) (driver.Value, int) {

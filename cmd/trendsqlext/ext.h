@@ -65,8 +65,8 @@ int ext_register_table(sqlite3 *db, const char *name, ext_table *t);
 const char *ext_db_errmsg(sqlite3 *db);
 void ext_set_errmsg_owned(char **pz, char *msg);
 
-void *ext_log_first(ext_agg *a, int *len);
-void ext_log_drop_first(ext_agg *a);
+int ext_log_first_len(ext_agg *a);
+void ext_log_take_first(ext_agg *a, unsigned char *dst);
 
 int ext_arg_type(sqlite3_value **argv, int i);
 sqlite3_int64 ext_arg_int64(sqlite3_value **argv, int i);
