@@ -23,6 +23,7 @@ package sqlfuncs
 import (
 	"database/sql/driver"
 	"fmt"
+	"slices"
 	"sort"
 
 	"modernc.org/sqlite"
@@ -203,16 +204,27 @@ func (g *HostGroup) StepNumbers(v []float64) (err error) {
 		if !a.stepped || len(v)%k != 0 {
 			return fmt.Errorf("%s: internal error: numbers before the group's first row", g.name)
 		}
-		for ; len(v) >= k; v = v[k:] {
-			t, y := v[0], v[k-1]
-			if n := len(a.t); n > a.head && t <= a.t[n-1] {
-				a.sorted = false
+		rows := len(v) / k
+		n0 := len(a.t)
+		a.t = slices.Grow(a.t, rows)[:n0+rows]
+		a.y = slices.Grow(a.y, rows)[:n0+rows]
+		if k == 3 {
+			a.x = slices.Grow(a.x, rows)[:n0+rows]
+		}
+		t, y := a.t[n0:], a.y[n0:]
+		for i := range t {
+			t[i], y[i] = v[i*k], v[i*k+k-1]
+		}
+		if k == 3 {
+			x := a.x[n0:]
+			for i := range x {
+				x[i] = v[i*k+1]
 			}
-			a.t = append(a.t, t)
-			a.y = append(a.y, y)
-			if k == 3 {
-				a.x = append(a.x, v[1])
-			}
+		}
+		// The rows head.. stay in strictly increasing time order only if
+		// the new ones continue it.
+		for i := max(n0, a.head+1); a.sorted && i < len(a.t); i++ {
+			a.sorted = a.t[i] > a.t[i-1]
 		}
 	case g.regr != nil && len(v)%2 == 0:
 		for ; len(v) >= 2; v = v[2:] {

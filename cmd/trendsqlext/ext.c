@@ -128,6 +128,7 @@ int ext_register_scalar(sqlite3 *db, const char *name, int nargs, ext_func *f, i
 
 #define EXT_BLOCK (1u << 16)
 
+/* log_reserve returns room for n more bytes at the end of the log. */
 static unsigned char *log_reserve(ext_agg *a, size_t n) {
   ext_blk *b = a->tail;
   if (!b || b->len + n > b->cap) {
@@ -142,8 +143,10 @@ static unsigned char *log_reserve(ext_agg *a, size_t n) {
       b->next = nb;
     } else {
       a->head = nb;
+      a->rpos = 0;
     }
     a->tail = nb;
+    a->run = 0; /* a run never spans blocks */
     b = nb;
   }
   unsigned char *p = b->data + b->len;
@@ -151,27 +154,84 @@ static unsigned char *log_reserve(ext_agg *a, size_t n) {
   return p;
 }
 
-/* ext_log_first_len is the length of the oldest block, -1 when the log is
- * empty; ext_log_take_first copies that block to dst and frees it. */
-int ext_log_first_len(ext_agg *a) { return a && a->head ? (int)a->head->len : -1; }
-
-static void log_drop_first(ext_agg *a);
-
-void ext_log_take_first(ext_agg *a, unsigned char *dst) {
-  memcpy(dst, a->head->data, a->head->len);
-  log_drop_first(a);
+/* log_numbers appends one row of k numbers to the open run, or starts one. */
+static int log_numbers(ext_agg *a, const double *v, int k) {
+  size_t n = 8 * (size_t)k;
+  ext_blk *b = a->tail;
+  if (a->run && b->len + n <= b->cap) {
+    if (k == 2) {
+      memcpy(b->data + b->len, v, 16); /* the usual (t, y): inlined */
+    } else {
+      memcpy(b->data + b->len, v, n);
+    }
+    b->len += n;
+    a->run_rows++;
+    memcpy(a->run, &a->run_rows, 4);
+    return 1;
+  }
+  unsigned char *p = log_reserve(a, 1 + 4 + n);
+  if (!p) return 0;
+  *p = EXT_STEP_NUMBERS;
+  a->run = p + 1;
+  a->run_rows = 1;
+  memcpy(a->run, &a->run_rows, 4);
+  memcpy(p + 5, v, n);
+  return 1;
 }
 
 static void log_drop_first(ext_agg *a) {
   ext_blk *b = a->head;
   if (!b) return;
   a->head = b->next;
-  if (!a->head) a->tail = 0;
+  a->rpos = 0;
+  if (!a->head) {
+    a->tail = 0;
+    a->run = 0;
+  }
   sqlite3_free(b);
 }
 
 static void log_clear(ext_agg *a) {
   while (a->head) log_drop_first(a);
+}
+
+/* Reading, for Go: ext_log_next returns the kind of the next record (0 at
+ * the end of the log) and in *n its size: rows for EXT_STEP_NUMBERS, 1 for
+ * EXT_INVERSE_NUMBERS, the body length in bytes for the others; then
+ * ext_log_take_numbers or ext_log_take_body copies it and moves on. Reading
+ * closes the open run, and every block read is freed. */
+int ext_log_next(ext_agg *a, int k, int *n) {
+  (void)k;
+  if (!a) return 0;
+  while (a->head && a->rpos >= a->head->len) log_drop_first(a);
+  if (!a->head) return 0;
+  a->run = 0;
+  const unsigned char *p = a->head->data + a->rpos;
+  uint32_t u = 1;
+  if (p[0] != EXT_INVERSE_NUMBERS) memcpy(&u, p + 1, 4);
+  *n = (int)u;
+  return p[0];
+}
+
+void ext_log_take_numbers(ext_agg *a, int k, double *dst) {
+  const unsigned char *p = a->head->data + a->rpos;
+  uint32_t rows = 1;
+  size_t hdr = 1;
+  if (p[0] == EXT_STEP_NUMBERS) {
+    memcpy(&rows, p + 1, 4);
+    hdr = 5;
+  }
+  size_t n = 8 * (size_t)k * rows;
+  memcpy(dst, p + hdr, n);
+  a->rpos += hdr + n;
+}
+
+void ext_log_take_body(ext_agg *a, unsigned char *dst) {
+  const unsigned char *p = a->head->data + a->rpos;
+  uint32_t len;
+  memcpy(&len, p + 1, 4);
+  memcpy(dst, p + 5, len);
+  a->rpos += 5 + len;
 }
 
 static size_t value_size(sqlite3_value *v) {
@@ -280,12 +340,17 @@ static void agg_row(sqlite3_context *ctx, int argc, sqlite3_value **argv, int in
       ok = 0;
     }
     if (ok) {
+      if (!inverse) {
+        if (!log_numbers(a, v, k)) sqlite3_result_error_nomem(ctx);
+        return;
+      }
       unsigned char *p = log_reserve(a, 1 + 8 * (size_t)k);
       if (!p) {
         sqlite3_result_error_nomem(ctx);
         return;
       }
-      *p++ = inverse ? EXT_INVERSE_NUMBERS : EXT_STEP_NUMBERS;
+      a->run = 0;
+      *p++ = EXT_INVERSE_NUMBERS;
       memcpy(p, v, 8 * (size_t)k);
       return;
     }
@@ -310,16 +375,20 @@ static void agg_row(sqlite3_context *ctx, int argc, sqlite3_value **argv, int in
       }
     }
   }
-  size_t n = 1 + 4;
-  for (int i = 0; i < argc; i++) n += value_size(argv[i]);
-  unsigned char *p = log_reserve(a, n);
+  size_t body = 4;
+  for (int i = 0; i < argc; i++) body += value_size(argv[i]);
+  unsigned char *p = log_reserve(a, 1 + 4 + body);
   if (!p) {
     sqlite3_result_error_nomem(ctx);
     return;
   }
+  a->run = 0;
   *p++ = inverse ? EXT_INVERSE_VALUES : EXT_STEP_VALUES;
-  uint32_t c = (uint32_t)argc;
-  memcpy(p, &c, 4);
+  uint32_t u = (uint32_t)body;
+  memcpy(p, &u, 4);
+  p += 4;
+  u = (uint32_t)argc;
+  memcpy(p, &u, 4);
   p += 4;
   for (int i = 0; i < argc; i++) p = put_value(p, argv[i]);
 }

@@ -248,86 +248,70 @@ func trendsqlGoAggRelease(group C.uintptr_t) {
 }
 
 // replay hands the logged rows to the group in the order SQLite delivered
-// them, one log block at a time (each block is freed once read); the first
-// error stops it.
-// Consecutive rows of plain numbers are added in one call. The buffers are
-// reused across calls (replayBuffers), so a group allocates nothing here.
+// them; the first error stops it. A run of rows of plain numbers is copied
+// by C straight into a reused []float64 and reaches the group in one call;
+// a row logged as values is copied, decoded and boxed as the driver boxes
+// it. Every block read is freed.
 func replay(g *sqlfuncs.HostGroup, k int, a *C.ext_agg) error {
-	var nums [8]float64
-	var args []driver.Value
 	bufs := replayPool.Get().(*replayBuffers)
 	defer replayPool.Put(bufs)
-	batch := bufs.nums[:0]
-	flush := func() error {
-		if len(batch) == 0 {
-			return nil
-		}
-		err := g.StepNumbers(batch)
-		batch = batch[:0]
-		return err
-	}
 	for {
-		n := int(C.ext_log_first_len(a))
-		if n < 0 {
-			err := flush()
-			bufs.nums = batch
-			return err
-		}
-		if cap(bufs.block) < max(n, 1) {
-			bufs.block = make([]byte, max(n, 1))
-		}
-		data := bufs.block[:n]
-		C.ext_log_take_first(a, (*C.uchar)(&bufs.block[0]))
-		for off := 0; off < len(data); {
-			op := data[off]
-			off++
-			if op == C.EXT_STEP_NUMBERS {
-				for i := 0; i < k; i++ {
-					batch = append(batch, math.Float64frombits(binary.NativeEndian.Uint64(data[off:])))
-					off += 8
-				}
-				continue
+		var n C.int
+		switch kind := C.ext_log_next(a, C.int(k), &n); kind {
+		case 0:
+			return nil
+		case C.EXT_STEP_NUMBERS, C.EXT_INVERSE_NUMBERS:
+			need := max(int(n)*k, 1)
+			if cap(bufs.nums) < need {
+				bufs.nums = make([]float64, need)
 			}
-			if err := flush(); err != nil {
-				return err
-			}
+			nums := bufs.nums[:int(n)*k]
+			C.ext_log_take_numbers(a, C.int(k), (*C.double)(&bufs.nums[0]))
 			var err error
-			switch op {
-			case C.EXT_INVERSE_NUMBERS:
-				for i := 0; i < k; i++ {
-					nums[i] = math.Float64frombits(binary.NativeEndian.Uint64(data[off:]))
-					off += 8
-				}
-				err = g.InverseNumbers(nums[:k])
-			case C.EXT_STEP_VALUES, C.EXT_INVERSE_VALUES:
-				argc := int(binary.NativeEndian.Uint32(data[off:]))
-				off += 4
-				args = args[:0]
-				for j := 0; j < argc; j++ {
-					var v driver.Value
-					v, off = decodeValue(data, off)
-					args = append(args, v)
-				}
-				if op == C.EXT_STEP_VALUES {
-					err = g.Step(args)
-				} else {
-					err = g.Inverse(args)
-				}
-			default:
-				return fmt.Errorf("internal error: unknown row record %q", op)
+			if kind == C.EXT_STEP_NUMBERS {
+				err = g.StepNumbers(nums)
+			} else {
+				err = g.InverseNumbers(nums)
 			}
 			if err != nil {
 				return err
 			}
+		case C.EXT_STEP_VALUES, C.EXT_INVERSE_VALUES:
+			need := max(int(n), 1)
+			if cap(bufs.block) < need {
+				bufs.block = make([]byte, need)
+			}
+			data := bufs.block[:int(n)]
+			C.ext_log_take_body(a, (*C.uchar)(&bufs.block[0]))
+			argc := int(binary.NativeEndian.Uint32(data))
+			off := 4
+			bufs.args = bufs.args[:0]
+			for j := 0; j < argc; j++ {
+				var v driver.Value
+				v, off = decodeValue(data, off)
+				bufs.args = append(bufs.args, v)
+			}
+			var err error
+			if kind == C.EXT_STEP_VALUES {
+				err = g.Step(bufs.args)
+			} else {
+				err = g.Inverse(bufs.args)
+			}
+			clear(bufs.args)
+			if err != nil {
+				return err
+			}
+		default:
+			return fmt.Errorf("internal error: unknown row record %d", int(kind))
 		}
 	}
 }
 
-// replayBuffers are the reusable buffers of replay: a copy of one log
-// block and the numbers of consecutive rows.
+// replayBuffers are the reusable buffers of replay.
 type replayBuffers struct {
 	block []byte
 	nums  []float64
+	args  []driver.Value
 }
 
 var replayPool = sync.Pool{New: func() any { return new(replayBuffers) }}

@@ -40,6 +40,10 @@ typedef struct ext_blk {
  * when SQLite asks for a value. */
 typedef struct ext_agg {
   ext_blk *head, *tail; /* rows not yet handed to Go */
+  size_t rpos;          /* read position in head */
+  unsigned char *run;   /* count field of the open run of numbers, if the
+                           last record of tail is one */
+  uint32_t run_rows;    /* its row count */
   uintptr_t group;      /* Go handle of the group's state, 0 = none yet */
   int started;          /* the first row has been logged */
   int argc0;            /* that row's argument count */
@@ -47,13 +51,13 @@ typedef struct ext_agg {
   int nopts;
 } ext_agg;
 
-/* Record kinds of the log. */
-#define EXT_STEP_NUMBERS 'n'    /* k doubles */
+/* Record kinds of the log (native byte order, no alignment). */
+#define EXT_STEP_NUMBERS 'n'    /* u32 rows, then rows × k doubles */
 #define EXT_INVERSE_NUMBERS 'm' /* k doubles */
-#define EXT_STEP_VALUES 's'     /* u32 argc, argc values */
-#define EXT_INVERSE_VALUES 'i'  /* u32 argc, argc values */
+#define EXT_STEP_VALUES 's'     /* u32 body length; body: u32 argc, argc values */
+#define EXT_INVERSE_VALUES 'i'  /* the same */
 /* A value: one byte of SQLite type, then INTEGER: int64, FLOAT: double,
- * TEXT/BLOB: u32 length and the bytes, NULL: nothing (native byte order). */
+ * TEXT/BLOB: u32 length and the bytes, NULL: nothing. */
 
 /* Helpers for Go (ext.c). */
 ext_func *ext_funcs_new(int n);
@@ -65,8 +69,9 @@ int ext_register_table(sqlite3 *db, const char *name, ext_table *t);
 const char *ext_db_errmsg(sqlite3 *db);
 void ext_set_errmsg_owned(char **pz, char *msg);
 
-int ext_log_first_len(ext_agg *a);
-void ext_log_take_first(ext_agg *a, unsigned char *dst);
+int ext_log_next(ext_agg *a, int k, int *n);
+void ext_log_take_numbers(ext_agg *a, int k, double *dst);
+void ext_log_take_body(ext_agg *a, unsigned char *dst);
 
 int ext_arg_type(sqlite3_value **argv, int i);
 sqlite3_int64 ext_arg_int64(sqlite3_value **argv, int i);

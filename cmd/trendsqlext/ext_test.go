@@ -495,6 +495,22 @@ var misuse = []string{
 	`WITH v(t, y, m) AS (VALUES (1, 1.0, '<'), (2, 2.0, '?')) SELECT censored_mann_kendall(t, y, m) FROM v`,
 	`WITH v(t, y, m) AS (VALUES (1, 1.0, '<'), (2, 2.0, NULL), (3, NULL, '<'), (4, 3.0, '>'), (5, 4.0, -1))
 	 SELECT t, censored_mann_kendall(t, y, m) OVER (ORDER BY t ROWS BETWEEN 2 PRECEDING AND CURRENT ROW) FROM v`,
+	// long groups: runs of numbers across buffer blocks, rows given as
+	// values (text time, numeric text, NULL) in the middle, sliding frames
+	`WITH RECURSIVE s(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM s WHERE i < 20000)
+	 SELECT trend_fit(CASE WHEN i % 5000 = 0 THEN datetime(i * 3600, 'unixepoch') ELSE i * 3600 END,
+	                  CASE WHEN i % 777 = 0 THEN NULL WHEN i % 3001 = 0 THEN CAST((i * 7919) % 1000 AS TEXT)
+	                       ELSE (i * 7919) % 1000 / 10.0 END, 'degree=2'),
+	        regr_slope((i * 7919) % 1000, i), cross_correlogram(i * 3600, i % 17, (i * 7919) % 1000, 3),
+	        correlogram(i * 3600, (i * 7919) % 1000, 4, 'detrend=linear')
+	 FROM s`,
+	`WITH RECURSIVE s(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM s WHERE i < 8000),
+	 w AS (SELECT i, trend_slope(CASE WHEN i % 2500 = 0 THEN datetime(i * 86400, 'unixepoch') ELSE i * 86400 END,
+	                             CASE WHEN i % 333 = 0 THEN NULL ELSE (i * 7919) % 1000 + i / 10.0 END)
+	                    OVER (ORDER BY i ROWS BETWEEN 999 PRECEDING AND CURRENT ROW) AS slope,
+	                 regr_r2((i * 7919) % 1000, i) OVER (ORDER BY i ROWS BETWEEN 4000 PRECEDING AND 10 PRECEDING) AS r2
+	       FROM s)
+	 SELECT i, slope, r2 FROM w WHERE i % 250 = 0`,
 	// table-valued function
 	`SELECT * FROM correlogram_rows`,
 	`SELECT * FROM correlogram_rows('x')`,
