@@ -489,7 +489,12 @@ var misuse = []string{
 	 FROM v WINDOW w AS (ORDER BY rowid ROWS BETWEEN 2 PRECEDING AND CURRENT ROW)`,
 	`WITH v(t, y) AS (VALUES (1, 1.0), (2, 2.0), (3, 'x'), (4, 4.0))
 	 SELECT trend_slope(t, y) OVER (ORDER BY t ROWS BETWEEN 1 PRECEDING AND 1 PRECEDING) FROM v`,
-	// censored values: marks, NULL marks, a bad mark, a window
+	// censored values: refused by the functions without censoring support,
+	// taken by the censored ones with their marks (NULL marks, a bad mark,
+	// a window)
+	`WITH v(t, y) AS (VALUES (1, 2.0), (2, '<5'), (3, 4.0), (4, 5.0)) SELECT trend_slope(t, y), mann_kendall(t, y) FROM v`,
+	`WITH v(t, y) AS (VALUES (1, 2.0), (2, '<5'), (3, 4.0), (4, 5.0), (5, 4.5))
+	 SELECT t, sen_slope(t, y) OVER (ORDER BY t ROWS BETWEEN 1 PRECEDING AND CURRENT ROW) FROM v`,
 	`WITH v(t, y, m) AS (VALUES (1, 1.0, '<'), (2, 2.0, NULL), (3, 1.0, '<'), (4, 3.0, ''), (5, 4.0, 0))
 	 SELECT censored_mann_kendall(t, y, m), censored_sen_slope(t, y, m) FROM v`,
 	`WITH v(t, y, m) AS (VALUES (1, 1.0, '<'), (2, 2.0, '?')) SELECT censored_mann_kendall(t, y, m) FROM v`,
