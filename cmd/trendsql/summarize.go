@@ -26,6 +26,7 @@ type summarizeOptions struct {
 	alpha, confidence   float64
 	minN                int
 	changedOnly, wait   bool
+	censoredFits        bool
 	writeWait           time.Duration
 	workers             int
 	quiet               bool
@@ -45,6 +46,14 @@ Mann–Kendall with the Hamed–Rao variance correction), Sen slope with its
 interval, the residual sample ACF and Ljung–Box test, the Pettitt change-point
 test and plain flags — and store them in series_summaries,
 series_correlograms and summary_runs. A run is all-or-nothing.
+
+Series with censored readings (values below a reporting limit, <5) get the
+censored rank methods instead (censored Mann–Kendall or seasonal Kendall and
+the Akritas–Theil–Sen slope), their censored share, number of reporting
+limits and highest limit; least-squares, correlogram and Pettitt figures are
+skipped for them unless --censored-fits is given (then computed on the stored
+numbers, censored values at their limits). A series with more than half its
+readings censored gets a note and no trend flag (common practice).
 
 trend_detected rests on the rank-test p-value adjusted by Benjamini–Hochberg
 across all selected series; under --changed-only the unchanged series enter
@@ -70,6 +79,7 @@ the store and --wait was not given.`,
 	fl.Float64Var(&o.alpha, "alpha", 0.05, "significance level for the flags (trend on the FDR-adjusted p)")
 	fl.Float64Var(&o.confidence, "confidence", 0.95, "confidence level of the Sen slope interval")
 	fl.IntVar(&o.minN, "min-n", 10, "fewest readings for a summary; fewer sets insufficient_data")
+	fl.BoolVar(&o.censoredFits, "censored-fits", false, "also store least-squares and correlogram figures for series with censored readings (on the stored numbers: censored values at their limits)")
 	fl.BoolVar(&o.changedOnly, "changed-only", false, "skip series with no readings imported since their last successful summary with the same parameters")
 	fl.BoolVar(&o.wait, "wait", false, "wait for another running summarize instead of exiting with code 3")
 	fl.DurationVar(&o.writeWait, "write-wait", summaries.DefaultWriteWait, "how long the final write keeps retrying while another writer (e.g. an import) holds the store")
@@ -82,7 +92,7 @@ the store and --wait was not given.`,
 func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {
 	model := stats.SummaryOptions{
 		Harmonics: o.harmonics, Seasons: o.seasons, MaxLag: o.maxLag, LBLags: o.lbLags,
-		Alpha: o.alpha, Confidence: o.confidence, MinN: o.minN,
+		Alpha: o.alpha, Confidence: o.confidence, MinN: o.minN, CensoredFits: o.censoredFits,
 	}
 	if o.period != "" {
 		p, err := timefmt.ParseDuration(o.period)

@@ -10,6 +10,10 @@ type SummaryOptions struct {
 	Alpha      float64 // significance level for the flags (e.g. 0.05)
 	Confidence float64 // Sen slope interval confidence (e.g. 0.95)
 	MinN       int     // minimum readings for a summary (insufficient_data below)
+	// CensoredFits asks for the least-squares and correlogram figures of
+	// series with censored readings too (computed on the stored numbers,
+	// i.e. censored values at their limits); they are skipped otherwise.
+	CensoredFits bool
 }
 
 // CorrelogramRow is one lag of a stored residual correlogram.
@@ -74,4 +78,13 @@ type SeriesSummary struct {
 	InsufficientData    bool
 	ResidualDependence  *bool
 	StepChangeSuspected *bool
+
+	// Censoring (SummarizeCensoredSeries); nil for a series without
+	// censored readings.
+	CensoredShare   *float64
+	CensoringLimits *int
+	HighestLimit    *float64
+	// NoTrendFlag: more than half the values are censored; the run sets
+	// no trend_detected flag from the test.
+	NoTrendFlag bool
 }

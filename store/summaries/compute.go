@@ -50,7 +50,12 @@ func computeAll(ctx context.Context, s *store.Store, todo []seriesRef, o Options
 					errOnce.Do(func() { firstErr = err; cancel() })
 					return
 				}
-				sum := analyzeSafely(o.Analyze, buf.t, buf.y, o.Model)
+				var sum stats.SeriesSummary
+				if len(buf.marks) > 0 {
+					sum = analyzeCensoredSafely(buf.t, buf.y, buf.marks, o.Model)
+				} else {
+					sum = analyzeSafely(o.Analyze, buf.t, buf.y, o.Model)
+				}
 				sum.NQualified = buf.nQualified
 				sum.QualifierCount = buf.quals
 				results[i] = &seriesResult{ref: ref, sum: sum}
@@ -92,8 +97,19 @@ func analyzeSafely(f func(t, y []float64, o stats.SummaryOptions) stats.SeriesSu
 	return f(t, y, o)
 }
 
+// analyzeCensoredSafely is analyzeSafely for a series with censored readings.
+func analyzeCensoredSafely(t, y []float64, c []stats.Censoring, o stats.SummaryOptions) (sum stats.SeriesSummary) {
+	defer func() {
+		if r := recover(); r != nil {
+			sum = stats.SeriesSummary{N: len(t), InsufficientData: true, Problem: fmt.Sprintf("internal error: %v", r)}
+		}
+	}()
+	return stats.SummarizeCensoredSeries(t, y, c, o)
+}
+
 type seriesBuffer struct {
 	t, y       []float64
+	marks      []stats.Censoring // nil unless the series has censored readings in the window
 	nQualified int
 	quals      map[string]int
 }
@@ -105,19 +121,20 @@ type seriesBuffer struct {
 // value per row. The time bounds are in the statement only when set, so an
 // unbounded read compares only the series key per row.
 func loadSeries(ctx context.Context, s *store.Store, id int64, since, until *int64, b *seriesBuffer) error {
-	q := `SELECT ` + sqlfuncs.PackSeriesFunction + `(t, value), ` + sqlfuncs.QualifierCountsFunction + `(qualifier)
-		FROM readings WHERE series_id = ?`
+	where := ` FROM readings WHERE series_id = ?`
 	args := []any{id}
 	if since != nil {
-		q += ` AND t >= ?`
+		where += ` AND t >= ?`
 		args = append(args, *since)
 	}
 	if until != nil {
-		q += ` AND t <= ?`
+		where += ` AND t <= ?`
 		args = append(args, *until)
 	}
+	q := `SELECT ` + sqlfuncs.PackSeriesFunction + `(t, value), ` + sqlfuncs.QualifierCountsFunction + `(qualifier), count(censored)` + where
 	var packed, quals []byte
-	if err := s.DB.QueryRowContext(ctx, q, args...).Scan(&packed, &quals); err != nil {
+	var censored int64
+	if err := s.DB.QueryRowContext(ctx, q, args...).Scan(&packed, &quals, &censored); err != nil {
 		return fmt.Errorf("summarize: read series %d: %w", id, err)
 	}
 	var err error
@@ -126,6 +143,35 @@ func loadSeries(ctx context.Context, s *store.Store, id int64, since, until *int
 	}
 	if b.quals, b.nQualified, err = sqlfuncs.UnpackQualifierCounts(quals); err != nil {
 		return fmt.Errorf("summarize: read qualifiers of series %d: %w", id, err)
+	}
+	b.marks = b.marks[:0]
+	if censored == 0 {
+		return nil
+	}
+	// The marks, in time order like the packed series.
+	rows, err := s.DB.QueryContext(ctx, `SELECT censored`+where+` ORDER BY t`, args...)
+	if err != nil {
+		return fmt.Errorf("summarize: read censoring of series %d: %w", id, err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var m *string
+		if err := rows.Scan(&m); err != nil {
+			return fmt.Errorf("summarize: read censoring of series %d: %w", id, err)
+		}
+		c := stats.Uncensored
+		if m != nil && *m == "<" {
+			c = stats.BelowLimit
+		} else if m != nil && *m == ">" {
+			c = stats.AboveLimit
+		}
+		b.marks = append(b.marks, c)
+	}
+	if err := rows.Err(); err != nil {
+		return fmt.Errorf("summarize: read censoring of series %d: %w", id, err)
+	}
+	if len(b.marks) != len(b.t) {
+		return fmt.Errorf("summarize: series %d: %d censoring marks for %d readings", id, len(b.marks), len(b.t))
 	}
 	return nil
 }
@@ -157,8 +203,11 @@ func adjustFDRWith(results []*seriesResult, others []float64, alpha float64) {
 	adj := stats.AdjustBH(fam)
 	for k, i := range at {
 		p := adj[k]
-		det := p <= alpha
 		results[i].pFDR = &p
+		if results[i].sum.NoTrendFlag {
+			continue // mostly censored: the test is stored, no flag is set
+		}
+		det := p <= alpha
 		results[i].trendDetected = &det
 	}
 }

@@ -78,6 +78,9 @@ type runParameters struct {
 	Alpha      float64  `json:"alpha"`
 	Confidence float64  `json:"confidence"`
 	MinN       int      `json:"min_n"`
+	// CensoredFits is omitted when false, so runs stored before it existed
+	// compare equal.
+	CensoredFits bool `json:"censored_fits,omitempty"`
 }
 
 func (o Options) parameters() runParameters {
@@ -85,7 +88,7 @@ func (o Options) parameters() runParameters {
 		Stations: o.Stations, Variables: o.Variables, Where: o.Where, Since: o.Since, Until: o.Until,
 		PeriodS: o.Model.PeriodS, Harmonics: o.Model.Harmonics, Seasons: o.Model.Seasons,
 		MaxLag: o.Model.MaxLag, LBLags: o.Model.LBLags, Alpha: o.Model.Alpha,
-		Confidence: o.Model.Confidence, MinN: o.Model.MinN,
+		Confidence: o.Model.Confidence, MinN: o.Model.MinN, CensoredFits: o.Model.CensoredFits,
 	}
 }
 

@@ -84,8 +84,9 @@ func writeRun(ctx context.Context, s *store.Store, res *Result, results []*serie
 		sen_slope_per_year, sen_lower, sen_upper, sen_confidence, trend_p_fdr,
 		resid_acf1, acf_basis, lb_lags, lb_df, lb_q, lb_p,
 		pettitt_k, pettitt_t_change, pettitt_time_change, pettitt_u, pettitt_p,
-		insufficient_data, trend_detected, residual_dependence, step_change_suspected)
-		VALUES (?,?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?, ?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?)`)
+		insufficient_data, trend_detected, residual_dependence, step_change_suspected,
+		censored_share, censoring_limits, highest_limit)
+		VALUES (?,?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?, ?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?, ?,?,?)`)
 	if err != nil {
 		return fmt.Errorf("summarize: prepare: %w", err)
 	}
@@ -137,6 +138,7 @@ func writeRun(ctx context.Context, s *store.Store, res *Result, results []*serie
 			sqlFloat(m.ResidACF1), nullStr(m.ACFBasis), sqlInt(m.LBLags), sqlInt(m.LBDF), sqlFloat(m.LBQ), sqlFloat(m.LBP),
 			sqlInt(m.PettittK), pChange, pTime, sqlFloat(m.PettittU), sqlFloat(m.PettittP),
 			boolInt(m.InsufficientData), sqlBool(r.trendDetected), sqlBool(m.ResidualDependence), sqlBool(m.StepChangeSuspected),
+			sqlFloat(m.CensoredShare), sqlInt(m.CensoringLimits), sqlFloat(m.HighestLimit),
 		); err != nil {
 			return fmt.Errorf("summarize: write series %d: %w", r.ref.id, err)
 		}
