@@ -124,8 +124,8 @@ func checkIntegrity(t *testing.T, path string) {
 func TestDemoBuildsStoreAndPrintsTour(t *testing.T) {
 	db := demoStore(t)
 	defer checkIntegrity(t, db)
-	if !strings.Contains(demoStderr, "40 stations") {
-		t.Errorf("demo summary does not report 40 stations:\n%s", demoStderr)
+	if !strings.Contains(demoStderr, "44 stations") {
+		t.Errorf("demo summary does not report 44 stations:\n%s", demoStderr)
 	}
 	steps := demodata.TourFor(haveFunction())
 	if len(steps) < 5 {

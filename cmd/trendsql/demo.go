@@ -28,10 +28,11 @@ func newDemoCmd(e *env) *cobra.Command {
 	c := &cobra.Command{
 		Use:   "demo",
 		Short: "Build a demo store from an invented monitoring network and print a tour",
-		Long: `Build a demo store from an invented scenario generated in code: 40 stations
+		Long: `Build a demo store from an invented scenario generated in code: 44 stations
 in the invented Vorlen river basin (hourly river stage gauges, a lake level,
 daily logged groundwater wells, monthly manually read wells with nitrate
-samples), 5 to 15 years of record, about a million readings, with outages,
+samples, river sampling points with monthly total phosphorus results, some
+below the laboratory's reporting limit), 5 to 15 years of record, about a million readings, with outages,
 qualifier flags and site metadata. Then print a short tour of example queries
 with their results.
 
@@ -75,9 +76,10 @@ func runDemo(ctx context.Context, e *env, o demoOptions) error {
 
 // stationTypeCounts words the number of stations of each type.
 func stationTypeCounts(m map[string]int) string {
-	order := []string{"river_gauge", "lake_level", "groundwater_well", "groundwater_well_manual"}
+	order := []string{"river_gauge", "lake_level", "groundwater_well", "groundwater_well_manual", "water_quality_site"}
 	names := map[string]string{"river_gauge": "river gauges", "lake_level": "lake gauge",
-		"groundwater_well": "logged wells", "groundwater_well_manual": "manually read wells"}
+		"groundwater_well": "logged wells", "groundwater_well_manual": "manually read wells",
+		"water_quality_site": "water-quality sampling points"}
 	var parts []string
 	for _, k := range order {
 		if m[k] > 0 {

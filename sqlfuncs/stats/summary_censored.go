@@ -73,7 +73,11 @@ func SummarizeCensoredSeries(t, y []float64, c []Censoring, o SummaryOptions) (s
 			s.HighestLimit = fp(p.HighestLimit)
 		}
 	}
-	note("%d of %d readings censored (%d distinct reporting limits): censored rank methods", p.Below+p.Above, n, p.Limits)
+	limits := "limits"
+	if p.Limits == 1 {
+		limits = "limit"
+	}
+	note("%d of %d readings censored (%d distinct reporting %s): censored rank methods", p.Below+p.Above, n, p.Limits, limits)
 	if o.CensoredFits {
 		note("least-squares and correlogram figures use the stored numbers (censored values at their limits)")
 	} else {

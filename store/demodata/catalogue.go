@@ -35,6 +35,9 @@ const (
 	kindLake   stationKind = "lake_level"
 	kindWell   stationKind = "groundwater_well"
 	kindManual stationKind = "groundwater_well_manual"
+	// kindQuality: a river sampling point for laboratory water quality
+	// (waterquality.go).
+	kindQuality stationKind = "water_quality_site"
 )
 
 // demoStation is one station of the catalogue with the parameters of its
@@ -67,7 +70,8 @@ type demoStation struct {
 }
 
 // demoCatalogue is the invented network: 11 river gauges, one lake gauge,
-// 21 logged wells and 7 manually read wells.
+// 21 logged wells, 7 manually read wells and 4 water-quality sampling
+// points.
 func demoCatalogue() []demoStation {
 	g := func(id, name, sub string, lat, lon, elev float64, start int, land, sensor string, trend, amp, events, size, rec float64) demoStation {
 		return demoStation{id: id, name: name, kind: kindGauge, sub: sub, lat: lat, lon: lon, elev: elev,
@@ -132,6 +136,18 @@ func demoCatalogue() []demoStation {
 		m("VOR-M06", "Fennet keeper's well", "Lower Vorlen", 46.719, 12.801, 102, 2014, "drained wetland", "alluvial", 1.9, 0, 0.4, 0, 0),
 		m("VOR-M07", "Skarra shepherd's well", "Skarra Beck", 46.888, 12.452, 371, 2015, "forest", "karst", 21.0, 0, 2.5, 0.3, 0),
 	)
+	// Water-quality sampling points, last so that every other station keeps
+	// its place (and its random stream).
+	q := func(id, name, sub string, lat, lon, elev float64, start int, land string) demoStation {
+		return demoStation{id: id, name: name, kind: kindQuality, sub: sub, lat: lat, lon: lon, elev: elev,
+			startYear: start, landUse: land, sensor: "grab sample, laboratory analysis"}
+	}
+	cat = append(cat,
+		q("VOR-Q01", "Vorlen below Brandle works (sampling point)", "Middle Vorlen", 46.822, 12.563, 243, 2013, "mixed farmland"),
+		q("VOR-Q02", "Hollin Water at Keswin (sampling point)", "Hollin Water", 46.845, 12.603, 228, 2017, "mixed farmland"),
+		q("VOR-Q03", "Vorlen at Adlow (sampling point)", "Lower Vorlen", 46.737, 12.743, 131, 2014, "irrigated cropland"),
+		q("VOR-Q04", "Vorlen below Tessing outfall (sampling point)", "Lower Vorlen", 46.693, 12.835, 85, 2016, "urban"),
+	)
 	for i := range cat {
 		s := &cat[i]
 		switch s.id {
@@ -173,6 +189,9 @@ func (s *demoStation) metadata() string {
 	case kindLake:
 		md["datum"] = "m above sea level"
 		md["reading_method"] = "logger, hourly"
+	case kindQuality:
+		md["reading_method"] = "grab sample, monthly"
+		md["reporting_limits"] = "total phosphorus: 10 ug/L until 2019, 5 ug/L from 2020"
 	}
 	if s.stepDate != "" {
 		md["sensor_model"] = s.sensor

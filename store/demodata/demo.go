@@ -138,6 +138,31 @@ func Build(ctx context.Context, s *store.Store, opt Options) (Summary, error) {
 			sum.Readings += int64(len(ser.readings))
 		}
 	}
+	// Water-quality samples with censored results, after every other
+	// series so that their ids do not move (waterquality.go).
+	type mark struct{ sid, t int64 }
+	var censored []mark
+	for i := range cat {
+		ser, cens, ok := phosphorus(&cat[i], i, opt)
+		if !ok {
+			continue
+		}
+		res, err := tx.ExecContext(ctx, `INSERT INTO series(station_id, variable, unit) VALUES (?, ?, ?)`, cat[i].id, ser.variable, ser.unit)
+		if err != nil {
+			return sum, fmt.Errorf("demo: series %s/%s: %w", cat[i].id, ser.variable, err)
+		}
+		sid, _ := res.LastInsertId()
+		for k, r := range ser.readings {
+			if err := w.Add(ctx, csvimport.Reading{SeriesID: sid, T: r.t, Value: r.v}); err != nil {
+				return sum, fmt.Errorf("demo: %s/%s: %w", cat[i].id, ser.variable, err)
+			}
+			if cens[k] {
+				censored = append(censored, mark{sid, r.t})
+			}
+		}
+		perSeries = append(perSeries, counted{sid, len(ser.readings)})
+		sum.Readings += int64(len(ser.readings))
+	}
 	stored, err := w.Flush(ctx)
 	if err != nil {
 		return sum, err
@@ -145,13 +170,18 @@ func Build(ctx context.Context, s *store.Store, opt Options) (Summary, error) {
 	if stored != sum.Readings {
 		return sum, fmt.Errorf("demo: stored %d readings, generated %d", stored, sum.Readings)
 	}
+	for _, m := range censored {
+		if _, err := tx.ExecContext(ctx, `UPDATE readings SET censored = '<' WHERE series_id = ? AND t = ?`, m.sid, m.t); err != nil {
+			return sum, fmt.Errorf("demo: censoring marks: %w", err)
+		}
+	}
 	for _, c := range perSeries {
 		if _, err := tx.ExecContext(ctx, `INSERT INTO series_batches(series_id, batch_id, rows) VALUES (?, ?, ?)`, c.id, batch, c.rows); err != nil {
 			return sum, fmt.Errorf("demo: series_batches: %w", err)
 		}
 	}
-	if _, err := tx.ExecContext(ctx, `UPDATE import_batches SET finished_at = ?, rows_read = ?, rows_stored = ? WHERE id = ?`,
-		now(), sum.Readings, stored, batch); err != nil {
+	if _, err := tx.ExecContext(ctx, `UPDATE import_batches SET finished_at = ?, rows_read = ?, rows_stored = ?, rows_censored = ? WHERE id = ?`,
+		now(), sum.Readings, stored, len(censored), batch); err != nil {
 		return sum, fmt.Errorf("demo: finish readings batch: %w", err)
 	}
 	if err := tx.Commit(); err != nil {

@@ -91,14 +91,14 @@ func TestDemoIsDeterministic(t *testing.T) {
 func TestDemoScenario(t *testing.T) {
 	s, sum := buildDemo(t, Options{MaxYears: 3})
 	ctx := context.Background()
-	want := map[string]int{"river_gauge": 11, "lake_level": 1, "groundwater_well": 21, "groundwater_well_manual": 7}
+	want := map[string]int{"river_gauge": 11, "lake_level": 1, "groundwater_well": 21, "groundwater_well_manual": 7, "water_quality_site": 4}
 	for k, n := range want {
 		if sum.StationsByType[k] != n {
 			t.Errorf("%s stations: %d, want %d", k, sum.StationsByType[k], n)
 		}
 	}
-	if sum.Stations != 40 {
-		t.Errorf("stations: %d, want 40", sum.Stations)
+	if sum.Stations != 44 {
+		t.Errorf("stations: %d, want 44", sum.Stations)
 	}
 	q := func(query string, args ...any) string {
 		t.Helper()
@@ -144,6 +144,20 @@ func TestDemoScenario(t *testing.T) {
 	for _, flag := range []string{qEstimated, qProvisional, qSuspect} {
 		if got := q(`SELECT count(*) FROM readings WHERE qualifier = ?`, flag); got == "0" {
 			t.Errorf("no reading flagged %q", flag)
+		}
+	}
+	// Phosphorus: censored results at the reporting limit in force (10 µg/L
+	// before 2020, 5 from 2020), counted in the readings batch; Q02 is
+	// mostly censored, Q01 and Q04 only partly.
+	if got := q(`SELECT count(*) FROM readings r JOIN series s ON s.id = r.series_id WHERE r.censored IS NOT NULL AND (s.variable <> 'total_phosphorus' OR r.censored <> '<' OR r.value <> CASE WHEN r.t < 1577836800 THEN 10 ELSE 5 END)`); got != "0" {
+		t.Errorf("%s censored readings off their reporting limit", got)
+	}
+	if got, want := q(`SELECT rows_censored FROM import_batches WHERE id = ?`, sum.BatchID), q(`SELECT count(censored) FROM readings`); got != want || got == "0" {
+		t.Errorf("batch rows_censored %s, readings %s", got, want)
+	}
+	for st, wantMostly := range map[string]bool{"VOR-Q01": false, "VOR-Q02": true, "VOR-Q04": false} {
+		if got := q(`SELECT 2 * count(censored) > count(*) AND count(censored) > 0 FROM readings_view WHERE station_id = ?`, st); (got == "1") != wantMostly {
+			t.Errorf("%s mostly censored = %s, want %v", st, got, wantMostly)
 		}
 	}
 	// Cadence: gauges hourly on the hour, logged wells daily at 06:00 UTC,

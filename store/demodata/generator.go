@@ -278,6 +278,8 @@ func (g *generator) series() []demoSeries {
 		return []demoSeries{g.hourly()}
 	case kindWell:
 		return []demoSeries{g.daily()}
+	case kindQuality:
+		return nil // Build adds their phosphorus series (waterquality.go)
 	default:
 		return g.manual()
 	}
