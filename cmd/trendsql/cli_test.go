@@ -360,7 +360,7 @@ SELECT id, 'semi;colon' AS text FROM stations ORDER BY id LIMIT 1;
 	}
 	for _, want := range []string{
 		"readings_view",                      // :tables
-		"stations  karst", "      40      7", // the multi-line statement, table format
+		"stations  karst", "      44      7", // the multi-line statement, table format
 		"series_id", "qualifier", // :columns readings
 		"elevation_m",                   // :columns main."stations"
 		"id,text\nVOR-G01,semi;colon\n", // after :format csv
