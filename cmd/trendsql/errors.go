@@ -41,6 +41,9 @@ func wordOpenError(err error) error {
 
 // wordImportError words the input errors of `trendsql import`.
 func wordImportError(err error) error {
+	if errors.Is(err, csvimport.ErrNothingStored) || errors.Is(err, csvimport.ErrTooManyRejects) {
+		return withHint(err, "\nnothing was recorded: fix the file or the options (e.g. --decimal-comma, --delimiter, --tz, --unit) and import it again")
+	}
 	var ie *csvimport.InputError
 	if !errors.As(err, &ie) {
 		return err

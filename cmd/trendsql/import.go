@@ -5,9 +5,11 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"runtime/debug"
+	"strconv"
 	"strings"
 	"time"
 	_ "time/tzdata" // --tz works without a system zoneinfo
@@ -38,6 +40,7 @@ type importOptions struct {
 	censorCol                                   string
 	rejectCensored                              bool
 	missingValues                               []string
+	maxRejectShare                              string
 }
 
 func newImportCmd(e *env) *cobra.Command {
@@ -51,12 +54,20 @@ and reason, and on a failure nothing changes.
 
 Files are UTF-8 text (a leading byte order mark is ignored) with \n, \r\n
 or bare \r line ends (the classic Mac OS convention, which some spreadsheet
-programs still write), fields quoted as in RFC 4180.
+programs still write), fields quoted as in RFC 4180. The first line decides
+the line ends: a line end of another kind outside quotes stops the import
+with its line number. A quoted field may span at most 100 lines and 64 KiB;
+a quote left open longer, or to the end of the file, stops the import with
+the line where it opened. So every line of a file is stored, rejected with
+its reason, or the import fails: no line is absorbed unseen.
 
 A one-line account goes to stderr. Exit status: 0 when the batch was stored
 (also when some rows were rejected: they are counted and listed in
 import_rejects), 1 when the import failed and nothing changed, 2 for bad
-flags or arguments.`,
+flags or arguments. An import that would store nothing because every row was
+rejected fails (exit 1) and prints the most frequent reasons with their
+counts; --max-reject-share fails it also when a larger share of rows is
+rejected (for scheduled imports).`,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if len(args) == 0 {
 				return cmd.Help()
@@ -165,6 +176,7 @@ FILE "-" reads standard input; the batch records its source as "stdin".`,
 func addImportCSVFlags(c *cobra.Command, o *importOptions) {
 	c.Flags().StringVar(&o.delimiter, "delimiter", ",", `field separator: one character, or "tab"`)
 	c.Flags().BoolVar(&o.decimalComma, "decimal-comma", false, "numbers use a decimal comma (12,5); a point is then refused")
+	c.Flags().StringVar(&o.maxRejectShare, "max-reject-share", "", "fail, storing nothing, when more than this share of rows is rejected: a fraction (0.05) or a percentage (5%)")
 }
 
 // runImportStations imports one stations file.
@@ -173,9 +185,13 @@ func runImportStations(ctx context.Context, e *env, o importOptions) error {
 	if err != nil {
 		return err
 	}
+	limit, err := parseRejectShare(o.maxRejectShare)
+	if err != nil {
+		return err
+	}
 	return runImport(ctx, e, o.file, func(s *store.Store, progress func(csvimport.Progress)) (string, error) {
 		res, err := csvimport.ImportStations(ctx, s, o.file, csvimport.StationsOptions{
-			Delimiter: delim, DecimalComma: o.decimalComma, Progress: progress, Stdin: e.in})
+			Delimiter: delim, DecimalComma: o.decimalComma, Progress: progress, Stdin: e.in, RejectLimit: limit})
 		if err != nil {
 			return "", wordImportError(err)
 		}
@@ -204,6 +220,23 @@ func runImportReadings(ctx context.Context, e *env, o importOptions) error {
 	})
 }
 
+// parseRejectShare reads --max-reject-share: "" for no limit, a fraction
+// from 0 to 1, or a percentage from 0% to 100%.
+func parseRejectShare(s string) (csvimport.RejectLimit, error) {
+	if s == "" {
+		return csvimport.RejectLimit{}, nil
+	}
+	t, scale := strings.TrimSpace(s), 1.0
+	if strings.HasSuffix(t, "%") {
+		t, scale = strings.TrimSpace(strings.TrimSuffix(t, "%")), 100
+	}
+	v, err := strconv.ParseFloat(t, 64)
+	if err != nil || math.IsNaN(v) || v < 0 || v > scale {
+		return csvimport.RejectLimit{}, usageErr("import: --max-reject-share must be a fraction from 0 to 1 (0.05) or a percentage from 0%% to 100%% (5%%), got %q", s)
+	}
+	return csvimport.RejectLimit{Set: true, MaxShare: v / scale}, nil
+}
+
 // readingsOptions checks the flags and turns them into store options.
 func (o importOptions) readingsOptions() (csvimport.ReadingsOptions, error) {
 	var opt csvimport.ReadingsOptions
@@ -218,6 +251,10 @@ func (o importOptions) readingsOptions() (csvimport.ReadingsOptions, error) {
 	if o.variable != "" && o.variableCol != "" {
 		return opt, usageErr("import readings: give --variable or --variable-col, not both")
 	}
+	limit, err := parseRejectShare(o.maxRejectShare)
+	if err != nil {
+		return opt, err
+	}
 	if _, err := timefmt.ParseZone(o.tz); err != nil {
 		return opt, usageErr("import readings: --tz %q is neither an IANA time zone name (such as UTC, Europe/Berlin, America/New_York) nor a fixed offset (such as +01:00, -05:00, UTC+1)", o.tz)
 	}
@@ -226,6 +263,7 @@ func (o importOptions) readingsOptions() (csvimport.ReadingsOptions, error) {
 		Variable: o.variable, VariableCol: o.variableCol, Unit: o.unit, TZ: o.tz,
 		DecimalComma: o.decimalComma, Delimiter: delim, OnDuplicate: dup,
 		CensorCol: o.censorCol, NoCensored: o.rejectCensored, MissingValues: o.missingValues,
+		RejectLimit: limit,
 	}, nil
 }
 

@@ -74,6 +74,8 @@ type importBatch struct {
 	rejects []any
 	nrej    int
 	prog    func(Progress)
+	reasons reasonTally
+	limit   RejectLimit
 }
 
 const rejectsPerInsert = 200
@@ -115,6 +117,7 @@ func beginBatchOn(ctx context.Context, s *store.Store, conn *sql.Conn, kind stri
 // reject records one rejected record.
 func (b *importBatch) reject(ctx context.Context, line int, raw string, reason string) error {
 	b.res.RowsRejected++
+	b.reasons.add(line, reason)
 	b.rejects = append(b.rejects, b.res.BatchID, line, capRaw(raw), reason)
 	b.nrej++
 	if b.nrej == rejectsPerInsert {
@@ -153,6 +156,10 @@ func (b *importBatch) finish(ctx context.Context) error {
 		return err
 	}
 	if err := b.progress(ctx); err != nil {
+		return err
+	}
+	b.res.RejectReasons = b.reasons.sorted()
+	if err := b.checkRejects(b.limit); err != nil {
 		return err
 	}
 	b.res.SHA256 = hex.EncodeToString(b.in.h.Sum(nil))

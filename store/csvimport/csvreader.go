@@ -3,7 +3,7 @@ package csvimport
 import (
 	"bufio"
 	"bytes"
-	"errors"
+	"fmt"
 	"io"
 	"strings"
 )
@@ -11,6 +11,32 @@ import (
 // maxRawLen caps the raw record text kept in import_rejects; a longer record
 // is stored cut to this many bytes followed by a note.
 const maxRawLen = 64 << 10
+
+// A quoted field may span at most maxQuotedLines lines and maxRawLen bytes.
+// A quote that stays open longer, or until the end of the input, fails the
+// import with the line where it opened: a stray quote then stops the import
+// instead of absorbing the lines after it into one rejected record.
+const maxQuotedLines = 100
+
+// ReadError is a problem of the file's text that stops the import: a
+// quoted field that is not closed within the limits above, or line ends of
+// the other kind inside a record. Line is the line the problem starts on.
+type ReadError struct {
+	Line int
+	Msg  string
+}
+
+func (e *ReadError) Error() string { return fmt.Sprintf("line %d: %s", e.Line, e.Msg) }
+
+// readFailure words an error of csvReader.next for the file name: a
+// *ReadError becomes an *InputError naming its line; other errors (of the
+// underlying reader) name the last line read.
+func readFailure(name string, lastLine int, err error) error {
+	if re, ok := err.(*ReadError); ok {
+		return &InputError{File: name, Line: re.Line, Msg: re.Msg}
+	}
+	return fmt.Errorf("import %s: read after line %d: %w", name, lastLine, err)
+}
 
 // csvRecord is one record of a delimited text file.
 type csvRecord struct {
@@ -27,9 +53,12 @@ type csvRecord struct {
 // are bare \r line ends (classic Mac OS; spreadsheet programs on the Mac
 // still offer such CSV) when the file's first line ends that way. Blank
 // lines are skipped (they offer no row). A quoted field that spans lines
-// holds \n between its lines, whatever the file's line ends. The reader
-// keeps the raw text and the starting line number of each record so rejects
-// can quote them.
+// holds \n between its lines, whatever the file's line ends. The first line
+// decides the line ends; outside quotes, a carriage return in a file of \n
+// or \r\n line ends (other than the one before \n), or a line feed in a
+// file of bare \r line ends, is a *ReadError: the reader never guesses
+// where rows of mixed line ends begin. The reader keeps the raw text and the
+// starting line number of each record so rejects can quote them.
 type csvReader struct {
 	br       *bufio.Reader
 	delim    byte
@@ -127,6 +156,9 @@ func (c *csvReader) next() (*csvRecord, error) {
 		}
 		c.rec = csvRecord{line: start}
 		if bytes.IndexByte(b, '"') < 0 {
+			if err := c.checkLineEnds(b, start); err != nil {
+				return nil, err
+			}
 			// Fast path: no quotes, one string for the line and
 			// sub-strings for the fields.
 			s := string(b)
@@ -148,7 +180,19 @@ func (c *csvReader) next() (*csvRecord, error) {
 	}
 }
 
-var errUnterminated = errors.New("unterminated quoted field")
+// checkLineEnds fails when unquoted text holds a line end of the kind the
+// file does not use.
+func (c *csvReader) checkLineEnds(b []byte, line int) error {
+	other, name := byte('\r'), "a carriage return inside a line, in a file whose first line ends with a line feed"
+	if c.eol == '\r' {
+		other, name = '\n', "a line feed inside a line, in a file whose first line ends with a bare carriage return"
+	}
+	if i := bytes.IndexByte(b, other); i >= 0 {
+		return &ReadError{Line: line + bytes.Count(b[:i], []byte{'\n'}),
+			Msg: name + ": the file mixes line ends (convert it to one kind, e.g. all \\n)"}
+	}
+	return nil
+}
 
 // quoted parses a record that contains a double quote, reading further lines
 // while a quoted field is open.
@@ -162,6 +206,7 @@ func (c *csvReader) quoted(first []byte) (*csvRecord, error) {
 		f = f[:0]
 		if pos < len(raw) && raw[pos] == '"' {
 			pos++
+			opened, openedAt := c.nextLine-1, pos
 			for {
 				i := bytes.IndexByte(raw[pos:], '"')
 				if i < 0 {
@@ -173,9 +218,10 @@ func (c *csvReader) quoted(first []byte) (*csvRecord, error) {
 						return nil, err
 					}
 					if !ok {
-						c.rec.raw = string(raw)
-						c.rec.bad = errUnterminated.Error()
-						return &c.rec, nil
+						return nil, &ReadError{Line: opened, Msg: "a quoted field opens here and is not closed before the end of the file (a quote inside a field must be doubled, \"\")"}
+					}
+					if c.nextLine-1-opened >= maxQuotedLines || len(raw)-openedAt+len(more) > maxRawLen {
+						return nil, &ReadError{Line: opened, Msg: fmt.Sprintf("a quoted field opens here and is not closed within %d lines or %d KiB (a quote inside a field must be doubled, \"\")", maxQuotedLines, maxRawLen>>10)}
 					}
 					raw = append(raw, '\n')
 					pos = len(raw)
@@ -208,6 +254,13 @@ func (c *csvReader) quoted(first []byte) (*csvRecord, error) {
 			continue
 		}
 		i := bytes.IndexByte(raw[pos:], c.delim)
+		end := pos + i
+		if i < 0 {
+			end = len(raw)
+		}
+		if err := c.checkLineEnds(raw[pos:end], c.rec.line+bytes.Count(raw[:pos], []byte{'\n'})); err != nil {
+			return nil, err
+		}
 		if i < 0 {
 			c.fields = append(c.fields, string(raw[pos:]))
 			break

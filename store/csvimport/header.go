@@ -75,6 +75,9 @@ func (h *csvHeader) separator() string {
 // readHeader reads the header record.
 func readHeader(cr *csvReader, name string) (*csvHeader, error) {
 	rec, err := cr.next()
+	if re, ok := err.(*ReadError); ok {
+		return nil, &InputError{File: name, Line: re.Line, Msg: "header: " + re.Msg}
+	}
 	if err != nil {
 		return nil, &InputError{File: name, Msg: "read: " + err.Error()}
 	}

@@ -67,6 +67,8 @@ type ReadingsOptions struct {
 	// import ends. It lets the caller tune process-wide settings (such as
 	// the garbage collector's target) for the path in use.
 	OnInsertPath func(cLevel bool) (restore func())
+	// RejectLimit fails the import above a share of rejected rows.
+	RejectLimit RejectLimit
 }
 
 // StationsOptions controls ImportStations.
@@ -75,6 +77,7 @@ type StationsOptions struct {
 	Delimiter    byte // field separator; 0 means ','
 	Progress     func(Progress)
 	Stdin        io.Reader // read when the path is StdinPath (nil: os.Stdin)
+	RejectLimit  RejectLimit
 }
 
 // StdinPath as an import path reads standard input (or the options' Stdin)
@@ -111,4 +114,7 @@ type ImportResult struct {
 	StationsCreated int64 // stations created with their id only
 	SeriesCreated   int64
 	SeriesWritten   int64 // series with rows in series_batches for this batch
+	// RejectReasons counts the rejected rows by kind of reason, most
+	// frequent first.
+	RejectReasons []ReasonCount
 }

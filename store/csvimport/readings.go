@@ -224,6 +224,7 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 	if err != nil {
 		return nil, err
 	}
+	b.limit = opt.RejectLimit
 	defer b.tx.Rollback()
 
 	im := &readingsImporter{importBatch: b, opt: opt, loc: loc, byKey: map[seriesKey]*seriesState{},
@@ -278,7 +279,7 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 			}
 		}
 		if c.err != nil {
-			return nil, fmt.Errorf("import %s: read after line %d: %w", in.name, c.errLine, c.err)
+			return nil, readFailure(in.name, c.errLine, c.err)
 		}
 		im.recycle(c)
 	}

@@ -111,6 +111,7 @@ func importStations(ctx context.Context, s *store.Store, in *importInput, opt St
 	if err != nil {
 		return nil, err
 	}
+	b.limit = opt.RejectLimit
 	defer b.tx.Rollback()
 
 	sel, err := b.tx.PrepareContext(ctx, `SELECT name, latitude, longitude, elevation_m, metadata FROM stations WHERE id = ?`)
@@ -122,7 +123,7 @@ func importStations(ctx context.Context, s *store.Store, in *importInput, opt St
 	for {
 		r, err := cr.next()
 		if err != nil {
-			return nil, fmt.Errorf("import %s: read after line %d: %w", in.name, cr.nextLine-1, err)
+			return nil, readFailure(in.name, cr.nextLine-1, err)
 		}
 		if r == nil {
 			break
