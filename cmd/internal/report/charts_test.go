@@ -6,6 +6,7 @@ import (
 	"math"
 	"path/filepath"
 	"sort"
+	"strings"
 	"testing"
 
 	"trendsql/store"
@@ -300,3 +301,57 @@ func countSingles(runs [][][2]float64) int {
 }
 
 var _ = context.Background
+
+// Censored readings are marked one by one at their stored value (the
+// reporting limit) with an open triangle pointing down, in a colour of
+// their own, and the figures name the censored share.
+func TestCensoredReadingsMarked(t *testing.T) {
+	s := openDemo(t)
+	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{censoredStation}}})
+	id, page := pageOf(t, s, res, censoredStation, "nitrate_n")
+	var nCens int
+	if err := s.DB.QueryRow(`SELECT count(*) FROM readings WHERE series_id = ? AND censored = '<'`, id).Scan(&nCens); err != nil {
+		t.Fatal(err)
+	}
+	if nCens == 0 {
+		t.Fatal("fixture has no censored readings")
+	}
+	f := figures(t, page)["fig-readings"]
+	marks := f.strokes(hexColor(ColCensored))
+	// One triangle per censored reading plus the legend's.
+	if len(marks) != nCens+1 {
+		t.Fatalf("%d censored marks drawn, %d censored readings (+1 legend)", len(marks), nCens)
+	}
+	rows, err := s.DB.Query(`SELECT t, value FROM readings WHERE series_id = ? AND censored = '<' ORDER BY t`, id)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	k := 0
+	for rows.Next() {
+		var tt, v float64
+		if err := rows.Scan(&tt, &v); err != nil {
+			t.Fatal(err)
+		}
+		// The downward triangle's tip lies one glyph radius below the reading.
+		x, y := f.xMap.to(tt), f.yMap.to(v)
+		found := false
+		for _, m := range marks {
+			tip := m.subs[0][0]
+			if near(tip[0], x, drawTol) && tip[1] < y && y-tip[1] < 4 {
+				found = true
+				break
+			}
+		}
+		if !found {
+			t.Errorf("no censored mark at reading t=%g value=%g", tt, v)
+		}
+		k++
+	}
+	if info := res.Info[id]; info.Censored != nCens {
+		t.Errorf("draw info counts %d censored, want %d", info.Censored, nCens)
+	}
+	if !strings.Contains(page, "censored readings") {
+		t.Error("figures table lacks the censored share")
+	}
+}

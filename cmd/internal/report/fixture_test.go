@@ -30,6 +30,8 @@ const (
 	hostileMeta    = `{"aquifer":"karst & <chalk>","owner":"Smith & \"Sons\" 'Ltd'"}`
 	hostileVar     = `nitrate "A&B"`
 	hostileUnit    = `<LOQ mg/L`
+
+	censoredStation = "CENS-01"
 )
 
 var fixture struct {
@@ -80,6 +82,14 @@ func buildFixture(path string) error {
 		`INSERT INTO readings (series_id, t, value, qualifier)
 		 SELECT (SELECT id FROM series WHERE station_id = '` + hostileStation + `'), r.t, r.value, r.qualifier
 		 FROM readings r JOIN series s ON s.id = r.series_id WHERE s.station_id = 'VOR-M01' AND s.variable = 'nitrate_n'`,
+		// A copy of a demo nitrate series whose readings flagged "below
+		// detection limit" are stored as left-censored at their value.
+		`INSERT INTO stations (id, name, latitude, longitude, metadata) SELECT '` + censoredStation + `', 'copy of ' || name, latitude, longitude, metadata FROM stations WHERE id = 'VOR-M07'`,
+		`INSERT INTO series (station_id, variable, unit) VALUES ('` + censoredStation + `', 'nitrate_n', 'mg/L')`,
+		`INSERT INTO readings (series_id, t, value, qualifier, censored)
+		 SELECT (SELECT id FROM series WHERE station_id = '` + censoredStation + `'), r.t, r.value, r.qualifier,
+		        CASE WHEN r.qualifier = 'below detection limit' THEN '<' END
+		 FROM readings r JOIN series s ON s.id = r.series_id WHERE s.station_id = 'VOR-M07' AND s.variable = 'nitrate_n'`,
 	} {
 		if _, err := s.DB.ExecContext(ctx, q); err != nil {
 			return fmt.Errorf("%s: %w", q, err)

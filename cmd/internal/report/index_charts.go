@@ -33,7 +33,7 @@ func sparkline(d *seriesPlotData) (*Figure, error) {
 	p.Add(&lineRuns{runs: runs, line: draw.LineStyle{Color: ColReadings, Width: vg.Points(0.6)},
 		dot: draw.GlyphStyle{Color: ColReadings, Radius: vg.Points(0.8), Shape: draw.CircleGlyph{}}})
 	if d.line != nil {
-		p.Add(&lineRuns{runs: [][]xy{zipXY(d.fitT, d.line)}, line: draw.LineStyle{Color: ColTrend, Width: vg.Points(1.2)}})
+		p.Add(&lineRuns{runs: [][]xy{zipXY(d.lineT, d.line)}, line: draw.LineStyle{Color: ColTrend, Width: vg.Points(1.2)}})
 	}
 	return render(p, "spark", "sparkline of "+d.s.Station.ID+" "+d.s.Variable, sparkW, sparkH, false)
 }

@@ -306,21 +306,8 @@ func writeSeries(ctx context.Context, db *sql.DB, run *Run, s *Series, censor st
 		d.step = typicalStep(rd.T)
 	}
 	if model := s.Sum.s("trend_model"); model != "" && len(rd.T) > 0 {
-		line, seasonal := linearPart(model)
-		t0, t1 := rd.T[0], rd.T[len(rd.T)-1]
-		models := []string{line}
-		k := 1
-		if seasonal {
-			models = append(models, model)
-			k = 2 * plotCols
-		}
-		ts, ys, err := fitted(ctx, db, t0, t1, k, models...)
-		if err != nil {
+		if err := d.evalModel(ctx, db, model); err != nil {
 			return indexRow{}, err
-		}
-		d.fitT, d.line = ts, ys[0]
-		if seasonal {
-			d.seasonal = ys[1]
 		}
 	}
 	stem := strings.TrimSuffix(s.Page, ".html")
@@ -402,6 +389,31 @@ func writeSeries(ctx context.Context, db *sql.DB, run *Run, s *Series, censor st
 	row.HACP, row.HACPKey = pval(s.Sum.f("hac_p")), sortKey(s.Sum.f("hac_p"))
 	row.FDR, row.FDRKey = pval(s.Sum.f("trend_p_fdr")), sortKey(s.Sum.f("trend_p_fdr"))
 	return row, nil
+}
+
+// evalModel evaluates the trend model for drawing: its polynomial part at
+// the first and last reading (and between them when it is curved), and the
+// full model with its seasonal terms at one point per plot column.
+func (d *seriesPlotData) evalModel(ctx context.Context, db *sql.DB, model string) error {
+	line, seasonal := linearPart(model)
+	t0, t1 := d.rd.T[0], d.rd.T[len(d.rd.T)-1]
+	k := 1
+	if m, ok := parseModel(d.s); ok && m.Degree > 1 {
+		k = 2 * plotCols
+	}
+	ts, ys, err := fitted(ctx, db, t0, t1, k, line)
+	if err != nil {
+		return err
+	}
+	d.lineT, d.line = ts, ys[0]
+	if seasonal {
+		ts, ys, err := fitted(ctx, db, t0, t1, plotCols, model)
+		if err != nil {
+			return err
+		}
+		d.fitT, d.seasonal = ts, ys[0]
+	}
+	return nil
 }
 
 func allNaN(x []float64) bool {

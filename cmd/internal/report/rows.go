@@ -53,6 +53,13 @@ func figureRows(s *Series, run *Run) []figRow {
 	if q, ok := r.i("n_qualified"); ok {
 		add("readings with a qualifier flag", fmt.Sprint(q), flagSummaryOr(s))
 	}
+	if cs := r.f("censored_share"); !math.IsNaN(cs) && cs > 0 {
+		note := ""
+		if k, ok := r.i("censoring_limits"); ok {
+			note = fmt.Sprintf("%d distinct reporting limits, the highest %s %s", k, num(r.f("highest_limit")), u)
+		}
+		add("censored readings", fmt.Sprintf("%.1f %%", 100*cs), note)
+	}
 	add("mean", num(r.f("mean")), u)
 	add("least-squares slope", num(r.f("slope_per_year")), perYear(u))
 	add("least-squares slope per decade", num(10*r.f("slope_per_year")), perDecade(u))

@@ -36,8 +36,9 @@ type seriesPlotData struct {
 	s        *Series
 	rd       *Readings
 	step     float64 // sampling step in seconds used for gaps and lag units
+	lineT    []float64
+	line     []float64 // polynomial part of the trend at lineT
 	fitT     []float64
-	line     []float64 // straight-line (polynomial) part of the trend at fitT
 	seasonal []float64 // full model at fitT; nil without seasonal terms
 	full     bool      // never thin
 }
@@ -106,7 +107,7 @@ func readingsFigure(d *seriesPlotData, png bool) (*Figure, DrawInfo, error) {
 		legend("fitted trend with seasonal cycle", sl)
 	}
 	if d.line != nil {
-		tl := &lineRuns{runs: [][]xy{zipXY(d.fitT, d.line)}, line: draw.LineStyle{Color: ColTrend, Width: vg.Points(2)}}
+		tl := &lineRuns{runs: [][]xy{zipXY(d.lineT, d.line)}, line: draw.LineStyle{Color: ColTrend, Width: vg.Points(2)}}
 		p.Add(tl)
 		legend("fitted trend", tl)
 	}
