@@ -8,8 +8,12 @@ import (
 	"sort"
 	"strings"
 	"testing"
+	"time"
 
+	"trendsql/sqlfuncs/stats"
 	"trendsql/store"
+	"trendsql/store/demodata"
+	"trendsql/store/summaries"
 )
 
 // seriesOf returns the series id and page of station/variable in res.
@@ -300,7 +304,6 @@ func countSingles(runs [][][2]float64) int {
 	return k
 }
 
-var _ = context.Background
 
 // Censored readings are marked one by one at their stored value (the
 // reporting limit) with an open triangle pointing down, in a colour of
@@ -353,5 +356,76 @@ func TestCensoredReadingsMarked(t *testing.T) {
 	}
 	if !strings.Contains(page, "censored readings") {
 		t.Error("figures table lacks the censored share")
+	}
+}
+
+// Series that the run lacks are computed now with the run's parameters:
+// their ACF bars equal the sample ACF that correlogram() gives for the
+// residuals of trend_fit() with the same model, evaluated here in SQL.
+func TestSeriesMissingFromRunComputedNow(t *testing.T) {
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), "small.db")
+	if _, err := demodata.Create(ctx, path, demodata.Options{Stations: 3, MaxYears: 2}, false); err != nil {
+		t.Fatal(err)
+	}
+	s, err := store.Open(ctx, path, store.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	var first string
+	if err := s.DB.QueryRow(`SELECT min(id) FROM stations`).Scan(&first); err != nil {
+		t.Fatal(err)
+	}
+	_, err = summaries.Run(ctx, s, summaries.Options{Stations: []string{first},
+		Model:       stats.SummaryOptions{PeriodS: secondsPerYear, Harmonics: 1, Seasons: 12, MaxLag: 12, Alpha: 0.05, Confidence: 0.95, MinN: 10},
+		ToolVersion: "test", Analyze: stats.SummarizeSeries, WriteWait: time.Minute})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res := writeReport(t, s, Options{})
+	if res.OnTheFly != 2 || res.Series != 3 {
+		t.Fatalf("%d series, %d computed now; want 3 and 2", res.Series, res.OnTheFly)
+	}
+	var id int64
+	var station string
+	if err := s.DB.QueryRow(`SELECT id, station_id FROM series WHERE station_id <> ? ORDER BY id LIMIT 1`, first).Scan(&id, &station); err != nil {
+		t.Fatal(err)
+	}
+	page := readFile(t, filepath.Join(res.Dir, res.Pages[id]))
+	if !strings.Contains(page, "holds no summary of this series") {
+		t.Error("page does not say that its figures were computed now")
+	}
+	rows, err := s.DB.Query(`WITH m AS (SELECT trend_fit(t, value, 'degree=1, period=1y, harmonics=1') AS m FROM readings WHERE series_id = ?1),
+		c AS (SELECT correlogram(t, trend_residual(m, t, value), 12) AS c FROM readings, m WHERE series_id = ?1)
+		SELECT lag, acf FROM c, correlogram_rows(c.c) ORDER BY lag`, id)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	var want []float64
+	for rows.Next() {
+		var lag int
+		var acf float64
+		if err := rows.Scan(&lag, &acf); err != nil {
+			t.Fatal(err)
+		}
+		want = append(want, acf)
+	}
+	f := figures(t, page)["fig-acf"]
+	if f == nil {
+		i := strings.Index(page, "Notes:")
+		t.Fatalf("no ACF chart; page notes: %.400s", page[max(i, 0):])
+	}
+	bars := f.fills(hexColor(ColBars))
+	if len(bars) != len(want) || len(want) != 12 {
+		t.Fatalf("%d bars, %d lags from correlogram()", len(bars), len(want))
+	}
+	sort.Slice(bars, func(i, j int) bool { return bars[i].subs[0][0][0] < bars[j].subs[0][0][0] })
+	perPt := math.Abs((f.yMap.B - f.yMap.A) / (f.yMap.PB - f.yMap.PA))
+	for i, b := range bars {
+		if got := f.yMap.from(b.subs[0][2][1]); !near(got, want[i], drawTol*perPt) {
+			t.Errorf("lag %d of %s: bar at ACF %.6f, correlogram() gives %.6f", i+1, station, got, want[i])
+		}
 	}
 }

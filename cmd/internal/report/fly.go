@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 )
 
@@ -36,7 +37,7 @@ func computeMissing(ctx context.Context, db *sql.DB, run *Run, s *Series) error 
 	r["years"] = float64(t1.Int64-t0.Int64) / secondsPerYear
 	spec := "degree=1"
 	if run.PeriodS > 0 && run.Harmonics > 0 {
-		spec += fmt.Sprintf(", period=%gs, harmonics=%d", run.PeriodS, run.Harmonics)
+		spec += fmt.Sprintf(", period=%s, harmonics=%d", seconds(run.PeriodS), run.Harmonics)
 	}
 	var notes []string
 	var model sql.NullString
@@ -78,7 +79,7 @@ func computeMissing(ctx context.Context, db *sql.DB, run *Run, s *Series) error 
 	var mk sql.NullString
 	if run.PeriodS > 0 {
 		err = db.QueryRowContext(ctx, `SELECT seasonal_kendall(t, value, ?, ?) FROM readings WHERE series_id = ?`,
-			fmt.Sprintf("%gs", run.PeriodS), max(run.Seasons, 2), s.ID).Scan(&mk)
+			seconds(run.PeriodS), max(run.Seasons, 2), s.ID).Scan(&mk)
 		r["mk_method"] = "seasonal-kendall"
 	} else {
 		err = db.QueryRowContext(ctx, `SELECT mann_kendall(t, value, 'correct=hamed-rao') FROM readings WHERE series_id = ?`, s.ID).Scan(&mk)
@@ -112,6 +113,9 @@ func computeMissing(ctx context.Context, db *sql.DB, run *Run, s *Series) error 
 	}
 	return nil
 }
+
+// seconds writes a duration in seconds as the SQL functions read it.
+func seconds(s float64) string { return strconv.FormatFloat(s, 'f', -1, 64) + "s" }
 
 func flyCorrelogram(ctx context.Context, db *sql.DB, run *Run, s *Series, model string) error {
 	maxLag := run.MaxLag

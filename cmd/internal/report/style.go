@@ -23,6 +23,7 @@ table{border-collapse:collapse;font-variant-numeric:tabular-nums;font-size:.86re
 th,td{padding:.25rem .55rem;border-bottom:1px solid var(--rule);text-align:left;vertical-align:top}
 th{font-weight:700;background:#f1eee6}
 td.num{text-align:right;white-space:nowrap}
+td.id{white-space:nowrap}
 table.figures td:first-child{color:var(--soft)}
 table.sortable th{cursor:pointer;white-space:nowrap}
 table.sortable th[aria-sort=ascending]::after{content:" \25B2"}
