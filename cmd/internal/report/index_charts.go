@@ -59,7 +59,7 @@ func addMarkLegend(p *plot.Plot, r vg.Length) {
 		slope float64
 		sig   bool
 	}{{"rising, significant", 1, true}, {"rising, not significant", 1, false},
-		{"falling, significant", -1, true}, {"falling, not significant", -1, false}, {"no estimate", math.NaN(), false}} {
+		{"falling, significant", -1, true}, {"falling, not significant", -1, false}, {"no slope (none or zero)", math.NaN(), false}} {
 		m, c := markFor(e.slope, e.sig)
 		p.Legend.Add(e.lab, &points{glyph: draw.GlyphStyle{Color: c, Radius: r, Shape: m}})
 	}

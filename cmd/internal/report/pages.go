@@ -113,7 +113,7 @@ var indexTmpl = template.Must(template.New("index").Parse(`<!DOCTYPE html>
 <main>
 <p class="caution">{{.Caution}}</p>
 {{if .Maps}}<h2>Where the trends are</h2>
-<p class="note">One map per variable: longitude and latitude with the cosine of the mean latitude as the x scale. Symbol: a wedge points up for a rising and down for a falling Sen slope; filled when the run flagged the trend after the FDR adjustment, outlined when not; a ring when there is no estimate.</p>
+<p class="note">One map per variable: longitude and latitude with the cosine of the mean latitude as the x scale. Symbol: a wedge points up for a rising and down for a falling Sen slope; filled when the run flagged the trend after the FDR adjustment, outlined when not; a ring when there is no estimate or the slope is zero.</p>
 <div class="maps">{{range .Maps}}<figure id="{{.ID}}" data-x-map="{{.XMap}}" data-y-map="{{.YMap}}">{{.SVG}}<figcaption>{{.Caption}}{{if .PNG}} <a href="{{.PNG}}">PNG</a>{{end}}</figcaption></figure>{{end}}</div>{{end}}
 <h2>Series</h2>
 <p class="note">Click a column heading to sort. Slopes are per year (Sen slope: median of pairwise slopes, with its interval); p rank: the rank trend test's p-value with its correction for serial correlation; p HAC: least-squares slope with the Newey–West standard error; q FDR: the rank test's p-value adjusted by Benjamini–Hochberg across the run's series.</p>

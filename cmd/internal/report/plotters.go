@@ -255,7 +255,7 @@ func (w *whiskers) DataRange() (xmin, xmax, ymin, ymax float64) {
 // (up or down), filled when the trend is significant after the FDR
 // adjustment and drawn as an outline otherwise, with a short bar across its
 // base so that the outline form stays legible at small sizes; a small ring
-// marks a series without an estimate.
+// marks a series without an estimate or with a zero slope.
 type trendMark struct {
 	Dir    int  // +1 up, -1 down, 0 no estimate
 	Filled bool // significant
