@@ -91,7 +91,6 @@ type lineRuns struct {
 	runs  [][]xy
 	line  draw.LineStyle
 	dot   draw.GlyphStyle
-	label string
 }
 
 func (l *lineRuns) Plot(c draw.Canvas, p *plot.Plot) {
