@@ -304,7 +304,6 @@ func countSingles(runs [][][2]float64) int {
 	return k
 }
 
-
 // Censored readings are marked one by one at their stored value (the
 // reporting limit) with an open triangle pointing down, in a colour of
 // their own, and the figures name the censored share.

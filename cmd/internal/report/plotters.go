@@ -88,9 +88,9 @@ func thin(run []xy, x0, x1 float64, cols int) []xy {
 
 // lineRuns draws runs as separate polylines and runs of one point as dots.
 type lineRuns struct {
-	runs  [][]xy
-	line  draw.LineStyle
-	dot   draw.GlyphStyle
+	runs [][]xy
+	line draw.LineStyle
+	dot  draw.GlyphStyle
 }
 
 func (l *lineRuns) Plot(c draw.Canvas, p *plot.Plot) {
