@@ -185,6 +185,14 @@ func fileSHA256(path string) (string, error) {
 	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
+// hasReadingsBatches reports whether any finished readings batch has a
+// recorded SHA-256.
+func hasReadingsBatches(ctx context.Context, db *sql.DB) (bool, error) {
+	var n int
+	err := db.QueryRowContext(ctx, `SELECT EXISTS (SELECT 1 FROM import_batches WHERE kind = 'readings' AND source_sha256 IS NOT NULL AND finished_at IS NOT NULL)`).Scan(&n)
+	return n == 1, err
+}
+
 // earlierBatch returns the earliest finished readings batch with this
 // SHA-256 (0 when none).
 func earlierBatch(ctx context.Context, q interface {

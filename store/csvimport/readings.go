@@ -111,9 +111,14 @@ func ImportReadings(ctx context.Context, s *store.Store, path string, opt Readin
 	}
 	// The same file imported before: found before anything is read or
 	// written when the file can be hashed first (stdin is checked at its
-	// end, before the commit).
+	// end, before the commit). A store without finished readings batches
+	// has nothing to match, and the file is not read twice.
 	var sameFile int64
-	if path != StdinPath {
+	earlier, err := hasReadingsBatches(ctx, s.DB)
+	if err != nil {
+		return nil, fmt.Errorf("import %s: look up earlier batches: %w", path, err)
+	}
+	if path != StdinPath && earlier {
 		if sum, err := fileSHA256(path); err == nil {
 			if sameFile, err = earlierBatch(ctx, s.DB, sum); err != nil {
 				return nil, fmt.Errorf("import %s: look up earlier batches: %w", path, err)
