@@ -188,10 +188,10 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64, medi
 }
 
 // sortFloats sorts s ascending (no NaN; −0 before +0) with the pooled
-// scratch: a least-significant-digit radix sort, one byte per pass, of the
+// scratch: a least-significant-digit radix sort, 11 bits per pass, of the
 // order-preserving integer image of each value (sign bit set for
 // non-negative values, all bits flipped for negative ones). Passes whose
-// byte is the same for every value are skipped. Short slices use
+// digit is the same for every value are skipped. Short slices use
 // slices.Sort.
 func (d *senData) sortFloats(s []float64) {
 	n := len(s)
@@ -202,26 +202,31 @@ func (d *senData) sortFloats(s []float64) {
 	d.radixA = grow(d.radixA, n)
 	d.radixB = grow(d.radixB, n)
 	a, b := d.radixA, d.radixB
-	var count [8][256]int
+	const bits, digits = 11, 6 // 6 digits of 11 bits cover 64
+	var count [digits][1 << bits]int
 	for i, f := range s {
 		u := math.Float64bits(f)
 		u ^= uint64(int64(u)>>63) | 1<<63
 		a[i] = u
-		for p := 0; p < 8; p++ {
-			count[p][byte(u>>(8*p))]++
-		}
+		count[0][u&(1<<bits-1)]++
+		count[1][u>>bits&(1<<bits-1)]++
+		count[2][u>>(2*bits)&(1<<bits-1)]++
+		count[3][u>>(3*bits)&(1<<bits-1)]++
+		count[4][u>>(4*bits)&(1<<bits-1)]++
+		count[5][u>>(5*bits)]++
 	}
-	for p := 0; p < 8; p++ {
+	for p := 0; p < digits; p++ {
 		c := &count[p]
-		if c[byte(a[0]>>(8*p))] == n {
-			continue // every value has this byte
+		sh := uint(p * bits)
+		if c[a[0]>>sh&(1<<bits-1)] == n {
+			continue // every value has this digit
 		}
 		pos := 0
 		for v := range c {
 			c[v], pos = pos, pos+c[v]
 		}
 		for _, u := range a {
-			k := byte(u >> (8 * p))
+			k := u >> sh & (1<<bits - 1)
 			b[c[k]] = u
 			c[k]++
 		}

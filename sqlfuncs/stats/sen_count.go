@@ -41,8 +41,8 @@ func (d *senData) cmpPts(i, j int32, v slopeRef) int {
 // evalCut orders every block by b(v) (ties by time ascending) into perm and
 // returns the number of pairs with slope < v and ≤ v.
 //
-// It starts from the order of the evaluated cut nearest to v (time order,
-// the cut at −∞, when there is none). Two orders of this kind differ
+// It starts from the order of the evaluated cut from (nil: the one nearest
+// to v; time order, the cut at −∞, when there is none). Two orders of this kind differ
 // exactly on the pairs whose slopes lie between their cuts, so the count
 // at v is the base count plus (v above the base) or minus (v below) the
 // number of inversions of the base order under the keys at v. The base
@@ -53,7 +53,7 @@ func (d *senData) cmpPts(i, j int32, v slopeRef) int {
 // misordered: they are re-sorted with the exact
 // comparator and the count corrected by the difference of the chain's
 // inversions after and before.
-func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest) (less, lessEq int64) {
+func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest, near float64) (less, lessEq int64) {
 	fv := d.slopeF(v)
 	if from == nil {
 		from = d.nearestOrder(fv)
@@ -71,6 +71,12 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest) (le
 	if h != nil {
 		h.start(d, base)
 	}
+	// An insertion sort costs O(n + inversions), a merge sort O(n log n)
+	// with a larger constant; near is the expected number of inversions
+	// (0: unknown), and the insertion sort hands over to a merge sort
+	// after a budget of moves.
+	insertion := from != nil && near > 0 && near <= 8*float64(d.n)
+	budget := int(4*near) + d.n
 	d.setKeys(v)
 	d.work = grow(d.work, d.n)
 	d.tmp = grow(d.tmp, d.n)
@@ -85,6 +91,7 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest) (le
 	}
 	chains := d.chains[:0]
 	chainPos := d.chainPos[:0]
+	var chainMet int64 // pairs inside those chains that the sort met
 	var inv int64
 	for b := 0; b+1 < len(d.blocks); b++ {
 		lo, hi := d.blocks[b], d.blocks[b+1]
@@ -93,9 +100,13 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest) (le
 			p := base[lo+i]
 			items[i] = keyItem{y[p] - sv*x[p], int32(lo + i)}
 		}
-		if h != nil {
+		switch {
+		case insertion:
+			// few inversions expected: one insertion sort
+			inv += insertionCountKeysHarvest(items, d.items[d.n+lo:d.n+hi], h, budget)
+		case h != nil:
 			inv += mergeCountKeysHarvest(items, d.items[d.n+lo:d.n+hi], h)
-		} else {
+		default:
 			inv += mergeCountKeys(items, d.items[d.n+lo:d.n+hi])
 		}
 		seg := perm[lo:hi] // positions in base, then points
@@ -121,6 +132,7 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest) (le
 					// the harvest's pairs inside this chain need correcting
 					chains = append(chains, [2]int{len(chainPos), len(chainPos) + len(chain)})
 					chainPos = append(chainPos, chain...)
+					chainMet += before
 				}
 				for k := 1; k < len(chain); {
 					// count exact ties
@@ -157,7 +169,7 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest) (le
 			for _, c := range chains {
 				d.chainList = append(d.chainList, chainPos[c[0]:c[1]])
 			}
-			h.fixChains(d.chainList, d.chainMark, d.work)
+			h.fixChains(d.chainList, chainMet, d.chainMark, d.work)
 		}
 		if h.enumerate && h.complete && int64(len(h.items)) != h.lessHi-h.lessLo {
 			h.complete = false // not expected; the pairs are listed again
@@ -218,14 +230,15 @@ func mergeCountKeys(a, tmp []keyItem) int64 {
 			copy(dst[e:hi], src[e:hi])
 			j, k := mid, i
 			for i < mid && j < e {
-				if src[i].k <= src[j].k {
-					dst[k] = src[i]
-					i++
-				} else {
-					dst[k] = src[j]
-					inv += int64(mid - i)
-					j++
+				// branch-free: c = 1 takes the right item (strictly smaller)
+				c := 0
+				if src[j].k < src[i].k {
+					c = 1
 				}
+				dst[k] = src[i+(j-i)&-c]
+				inv += int64((mid - i) & -c)
+				i += 1 - c
+				j += c
 				k++
 			}
 			k += copy(dst[k:], src[i:mid])
@@ -293,7 +306,7 @@ func (d *senData) permFor(c cut, perm []int32) {
 	if o := d.findOrder(c.v); o != nil {
 		copy(perm, o.perm)
 	} else {
-		less, _ := d.evalCut(c.v, perm, nil, nil)
+		less, _ := d.evalCut(c.v, perm, nil, nil, 0)
 		d.remember(c.v, less, perm)
 	}
 	if !c.incl {

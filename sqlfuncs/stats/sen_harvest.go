@@ -68,11 +68,12 @@ func (h *harvest) run(left []keyItem, r int32) {
 		}
 		pr := h.base[r]
 		out := h.items[k : k+len(left)]
-		d := h.d
+		pts, base := h.d.pts, h.base
 		for q, l := range left {
-			pl := h.base[l.i]
+			pl := base[l.i]
 			a, b := min(pl, pr), max(pl, pr)
-			out[q] = slopeItem{(d.y[b] - d.y[a]) / (d.t[b] - d.t[a]), slopeRef{a, b}}
+			pa, pb := &pts[a], &pts[b]
+			out[q] = slopeItem{(pb.y - pa.y) / (pb.t - pa.t), slopeRef{a, b}}
 		}
 		h.items = h.items[:k+len(left)]
 		return
@@ -100,7 +101,11 @@ func mergeCountKeysHarvest(a, tmp []keyItem, h *harvest) int64 {
 				j--
 			}
 			if j < i {
-				h.run(a[j:i], v.i)
+				if h.enumerate || h.next < h.tot+int64(i-j) {
+					h.run(a[j:i], v.i)
+				} else {
+					h.tot += int64(i - j)
+				}
 				copy(a[j+1:i+1], a[j:i])
 				a[j] = v
 				inv += int64(i - j)
@@ -121,17 +126,39 @@ func mergeCountKeysHarvest(a, tmp []keyItem, h *harvest) int64 {
 			copy(dst[lo:i], src[lo:i])
 			copy(dst[e:hi], src[e:hi])
 			j, k := mid, i
-			for i < mid && j < e {
-				if src[i].k <= src[j].k {
-					dst[k] = src[i]
-					i++
-				} else {
-					h.run(src[i:mid], src[j].i)
-					dst[k] = src[j]
-					inv += int64(mid - i)
-					j++
+			if h.enumerate {
+				for i < mid && j < e {
+					if src[i].k <= src[j].k {
+						dst[k] = src[i]
+						i++
+					} else {
+						h.run(src[i:mid], src[j].i)
+						dst[k] = src[j]
+						inv += int64(mid - i)
+						j++
+					}
+					k++
 				}
-				k++
+			} else {
+				// branch-free as in mergeCountKeys; the rare run holding a
+				// draw is handed to h
+				for i < mid && j < e {
+					c := 0
+					if src[j].k < src[i].k {
+						c = 1
+					}
+					r := int64((mid - i) & -c)
+					if h.next < h.tot+r {
+						h.run(src[i:mid], src[j].i)
+					} else {
+						h.tot += r
+					}
+					dst[k] = src[i+(j-i)&-c]
+					inv += r
+					i += 1 - c
+					j += c
+					k++
+				}
 			}
 			k += copy(dst[k:], src[i:mid])
 			copy(dst[k:], src[j:e])
@@ -144,11 +171,44 @@ func mergeCountKeysHarvest(a, tmp []keyItem, h *harvest) int64 {
 	return inv
 }
 
+// insertionCountKeysHarvest stably sorts a by k with an insertion sort,
+// reporting every inversion run to h (nil: none), and returns the number
+// of inversions. It costs O(len(a) + inversions): the sort of a window's
+// upper cut from its lower cut, whose inversions are the window's few
+// pairs. After budget element moves it leaves the rest to a merge sort,
+// which counts and reports the inversions not met yet (those involving an
+// element not yet inserted) once each.
+func insertionCountKeysHarvest(a, tmp []keyItem, h *harvest, budget int) int64 {
+	var inv int64
+	for i := 1; i < len(a); i++ {
+		v := a[i]
+		j := i
+		for j > 0 && a[j-1].k > v.k {
+			j--
+		}
+		if j < i {
+			if h != nil {
+				h.run(a[j:i], v.i)
+			}
+			copy(a[j+1:i+1], a[j:i])
+			a[j] = v
+			inv += int64(i - j)
+			if budget -= i - j; budget < 0 {
+				if h != nil {
+					return inv + mergeCountKeysHarvest(a, tmp, h)
+				}
+				return inv + mergeCountKeys(a, tmp)
+			}
+		}
+	}
+	return inv
+}
+
 // fixChains corrects an enumeration for the near-tie chains that evalCut
-// re-sorted exactly: the pairs met inside a chain by the floating-point
-// sort are replaced by the chain's exact inversions. chains lists each
-// chain as positions of the base order, in the exact new order.
-func (h *harvest) fixChains(chains [][]int32, mark []int32, tmp []int32) {
+// re-sorted exactly: the pairs that the floating-point sort met inside a
+// chain (met of them) are replaced by the chain's exact inversions. chains
+// lists each chain as positions of the base order, in the exact new order.
+func (h *harvest) fixChains(chains [][]int32, met int64, mark []int32, tmp []int32) {
 	if !h.enumerate || !h.complete || len(chains) == 0 {
 		return
 	}
@@ -157,13 +217,16 @@ func (h *harvest) fixChains(chains [][]int32, mark []int32, tmp []int32) {
 			mark[h.base[p]] = int32(c + 1)
 		}
 	}
-	kept := h.items[:0]
-	for _, it := range h.items {
-		if ma := mark[it.r.a]; ma == 0 || ma != mark[it.r.b] {
-			kept = append(kept, it)
+	items := h.items
+	for q := 0; q < len(items) && met > 0; q++ {
+		if ma := mark[items[q].r.a]; ma != 0 && ma == mark[items[q].r.b] {
+			items[q] = items[len(items)-1] // the order of the list is free
+			items = items[:len(items)-1]
+			q--
+			met--
 		}
 	}
-	h.items = kept
+	h.items = items
 	for _, ch := range chains {
 		// the chain's inversions relative to the base positions, by an
 		// insertion sort of a copy

@@ -27,6 +27,7 @@ type cut struct {
 type senData struct {
 	t, y             []float64
 	x                []float64 // t − t[0], for floating-point keys
+	pts              []point   // (t, y)
 	maxAbsX, maxAbsY float64
 	blocks           []int // block b is points blocks[b]..blocks[b+1]-1
 	n                int
@@ -85,8 +86,10 @@ func newSenData(t, y []float64, blocks []int) *senData {
 	d := senPool.Get().(*senData)
 	d.t, d.y, d.blocks, d.n, d.pairs = t, y, blocks, n, 0
 	d.x = grow(d.x, n)
+	d.pts = grow(d.pts, n)
 	d.maxAbsX, d.maxAbsY = 0, 0
 	for i := range t {
+		d.pts[i] = point{t[i], y[i]}
 		d.x[i] = t[i] - t[0]
 		d.maxAbsX = max(d.maxAbsX, math.Abs(d.x[i]))
 		d.maxAbsY = max(d.maxAbsY, math.Abs(y[i]))
@@ -121,8 +124,12 @@ func (d *senData) dropOrders() {
 
 // slopeF is the floating-point estimate of a slope (relative error ≤ 3u).
 func (d *senData) slopeF(r slopeRef) float64 {
-	return (d.y[r.b] - d.y[r.a]) / (d.t[r.b] - d.t[r.a])
+	pa, pb := &d.pts[r.a], &d.pts[r.b]
+	return (pb.y - pa.y) / (pb.t - pa.t)
 }
+
+// point is one observation, t and y side by side for the pair loops.
+type point struct{ t, y float64 }
 
 // cmpSlopes compares two slopes exactly.
 func (d *senData) cmpSlopes(p, q slopeRef, fp, fq float64) int {
@@ -164,15 +171,16 @@ func (d *senData) bracket(k int64) (lo, hi cut) {
 
 // tryCut evaluates the cut at the slope of v (once) and records it. from
 // (may be nil: the nearest) is the evaluated cut whose order the
-// evaluation starts from; h (may be nil) gathers the pairs between them.
-// It reports whether the cut was evaluated now.
-func (d *senData) tryCut(v slopeRef, perm []int32, from *order, h *harvest) bool {
+// evaluation starts from, near the expected number of pairs between them
+// (0: unknown); h (may be nil) gathers those pairs. It reports whether the
+// cut was evaluated now.
+func (d *senData) tryCut(v slopeRef, perm []int32, from *order, h *harvest, near float64) bool {
 	for _, tb := range d.tieBlocks {
 		if tb.v == v {
 			return false
 		}
 	}
-	less, lessEq := d.evalCut(v, perm, from, h)
+	less, lessEq := d.evalCut(v, perm, from, h, near)
 	d.remember(v, less, perm)
 	d.tieBlocks = append(d.tieBlocks, tieBlock{v, less, lessEq})
 	d.cuts = append(d.cuts, cut{v: v, incl: false, count: less}, cut{v: v, incl: true, count: lessEq})
@@ -328,22 +336,25 @@ func (d *senData) selectRanks(ks []int64) []slopeRef {
 		for q, j := range at {
 			vs[q] = it[j].r
 		}
-		ends := make(map[int]float64, len(spans)) // at index of an upper bound → expected pairs
+		upper := make(map[int]bool, len(spans)) // at index of a window's upper bound
 		for _, sp := range spans {
 			if sp.li >= 0 && sp.ui < m && sp.li < sp.ui {
 				q, _ := slices.BinarySearch(at, sp.ui)
-				ends[q] = float64(sp.ui-sp.li) / float64(m) * float64(pop)
+				upper[q] = true
 			}
 		}
 		for q, v := range vs {
-			e, ok := ends[q]
-			if !ok || q == 0 {
-				d.tryCut(v, perm, nil, nil)
+			var from *order
+			if q > 0 {
+				from = d.findOrder(vs[q-1])
+			}
+			if from == nil {
+				d.tryCut(v, perm, nil, nil, 0)
 				continue
 			}
-			from := d.findOrder(vs[q-1])
-			if from == nil {
-				d.tryCut(v, perm, nil, nil)
+			e := float64(at[q]-at[q-1]) / float64(m) * float64(pop) // expected pairs between
+			if !upper[q] {
+				d.tryCut(v, perm, from, nil, e)
 				continue
 			}
 			h := d.newHarvest()
@@ -352,7 +363,7 @@ func (d *senData) selectRanks(ks []int64) []slopeRef {
 			} else {
 				h.enumerate, h.p = false, float64(d.sampleSize(e))/e
 			}
-			if !d.tryCut(v, perm, from, h) {
+			if !d.tryCut(v, perm, from, h, e) {
 				d.harvests = d.harvests[:len(d.harvests)-1]
 			}
 		}
