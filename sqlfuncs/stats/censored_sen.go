@@ -77,7 +77,22 @@ func AkritasTheilSen(t, y []float64, c []Censoring) (CensoredSenResult, error) {
 		}
 	}
 	// Steps by kind: both-sided, up-only (+1 up to s), down-only (−1 from s).
-	var two, up, down []float64
+	var nTwo, nUp, nDown int
+	for i := 0; i < n; i++ {
+		for j := i + 1; j < n; j++ {
+			switch pairKind(c[i], c[j]) {
+			case 2:
+				nTwo++
+			case 1:
+				nUp++
+			case -1:
+				nDown++
+			}
+		}
+	}
+	two := make([]float64, 0, nTwo)
+	up := make([]float64, 0, nUp)
+	down := make([]float64, 0, nDown)
 	for i := 0; i < n; i++ {
 		for j := i + 1; j < n; j++ {
 			s := (y[j] - y[i]) / (t[j] - t[i])
