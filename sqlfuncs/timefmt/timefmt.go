@@ -11,6 +11,10 @@
 //	2021-03-28                      a date: local midnight in loc
 //	1616895000                      unix seconds (an optional leading sign)
 //
+// Every time must lie in the years 0001 to 9999 of ISO 8601 in UTC, from
+// 0001-01-01T00:00:00Z (MinUnix) to 9999-12-31T23:59:59Z (MaxUnix), so that it
+// can be written back in the ISO form; a time outside is ErrOutOfRange.
+//
 // Zone-less local times are resolved in the given *time.Location using the Go
 // time zone database, so daylight-saving transitions are honoured. A local
 // time that does not exist (skipped by a spring-forward transition) or that
@@ -42,11 +46,27 @@ var (
 	ErrNonexistentLocal = errors.New("local time does not exist (daylight-saving gap)")
 	ErrAmbiguousLocal   = errors.New("local time is ambiguous (daylight-saving overlap)")
 	ErrSyntax           = errors.New("unrecognised time")
+	ErrOutOfRange       = errors.New("time outside the years 0001 to 9999 (UTC)")
+)
+
+// MinUnix and MaxUnix bound the times ParseTime accepts:
+// 0001-01-01T00:00:00Z and 9999-12-31T23:59:59Z.
+const (
+	MinUnix = -62135596800
+	MaxUnix = 253402300799
 )
 
 // ParseTime returns the unix seconds (UTC) of s. loc resolves zone-less
-// times; nil means UTC.
+// times; nil means UTC. The result lies in [MinUnix, MaxUnix].
 func ParseTime(s string, loc *time.Location) (int64, error) {
+	t, err := parseTime(s, loc)
+	if err == nil && (t < MinUnix || t > MaxUnix) {
+		return 0, fmt.Errorf("%q: %w", strings.TrimSpace(s), ErrOutOfRange)
+	}
+	return t, err
+}
+
+func parseTime(s string, loc *time.Location) (int64, error) {
 	s = strings.TrimSpace(s)
 	if s == "" {
 		return 0, fmt.Errorf("empty time: %w", ErrSyntax)

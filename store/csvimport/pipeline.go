@@ -110,10 +110,16 @@ func (im *readingsImporter) parse(r *csvRecord, h *csvHeader, c rowCols) parsedR
 		p.reason = "missing station"
 		return p
 	}
+	if p.reason = idProblem("station id", p.station); p.reason != "" {
+		return p
+	}
 	p.variable = im.opt.Variable
 	if c.variable >= 0 {
 		if p.variable = strings.TrimSpace(f[c.variable]); p.variable == "" {
 			p.reason = "missing variable"
+			return p
+		}
+		if p.reason = idProblem("variable", p.variable); p.reason != "" {
 			return p
 		}
 	}

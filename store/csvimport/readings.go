@@ -100,6 +100,9 @@ func ImportReadings(ctx context.Context, s *store.Store, path string, opt Readin
 	if opt.OnDuplicate, err = ParseOnDuplicate(string(opt.OnDuplicate)); err != nil {
 		return nil, err
 	}
+	if reason := idProblem("variable", opt.Variable); opt.Variable != "" && reason != "" {
+		return nil, fmt.Errorf("import %s: %s", path, reason)
+	}
 	if opt.Variable != "" && opt.VariableCol != "" {
 		return nil, fmt.Errorf("import %s: give a fixed variable or a variable column, not both", path)
 	}

@@ -168,6 +168,9 @@ func stationRow(ctx context.Context, b *importBatch, sel *sql.Stmt, r *csvRecord
 	if id == "" {
 		return "missing station id", nil
 	}
+	if reason := idProblem("station id", id); reason != "" {
+		return reason, nil
+	}
 	var in stationFields
 	if i := known["name"]; i >= 0 {
 		if v := strings.TrimSpace(f[i]); v != "" {

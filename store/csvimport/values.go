@@ -5,6 +5,8 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"unicode"
+	"unicode/utf8"
 )
 
 // parseValue parses a reading value. It returns a reject reason when the
@@ -79,4 +81,21 @@ func isDecimal(s string) bool {
 		}
 	}
 	return i == n
+}
+
+// idProblem returns a reject reason when an id or name that identifies a
+// station, or a variable name, could print like another: text that is not
+// valid UTF-8, or holds a control character (NUL, tab, line ends, …) or an
+// invisible format character (zero-width space, byte order mark, direction
+// marks: Unicode category Cf). what names the field ("station id").
+func idProblem(what, s string) string {
+	if !utf8.ValidString(s) {
+		return fmt.Sprintf("%s %q is not valid UTF-8", what, s)
+	}
+	for i, r := range s {
+		if unicode.IsControl(r) || unicode.Is(unicode.Cf, r) {
+			return fmt.Sprintf("%s %q holds the invisible character U+%04X at byte %d", what, s, r, i)
+		}
+	}
+	return ""
 }
