@@ -18,6 +18,8 @@ var (
 	// ErrGuard: the statement guard could not be installed on a
 	// connection (see guard.go).
 	ErrGuard = errors.New("cannot guard the store's connections")
+	// ErrHardLinks: the store file has more than one name (see LinkError).
+	ErrHardLinks = errors.New("store file has more than one hard link")
 )
 
 // SchemaError is returned by a read-only Open of a store whose schema
@@ -44,3 +46,18 @@ func (e *tableError) Error() string {
 }
 
 func (e *tableError) Unwrap() error { return ErrNoTable }
+
+// LinkError refuses a store file with several hard links: SQLite keeps its
+// write-ahead log and lock files under the name it was opened by, so two
+// names of one file would each have their own log and locks, and writers
+// through both would corrupt the store. It matches ErrHardLinks.
+type LinkError struct {
+	Path  string
+	Links uint64
+}
+
+func (e *LinkError) Error() string {
+	return fmt.Sprintf("open %s: the store file has %d hard links (names); SQLite keeps its log and locks per name, so writers through two names would corrupt it: keep one name (remove the other links) or work on a copy", e.Path, e.Links)
+}
+
+func (e *LinkError) Unwrap() error { return ErrHardLinks }

@@ -87,10 +87,12 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 	if err := sqlfuncs.Register(); err != nil {
 		return nil, err
 	}
-	if opt.ReadOnly {
-		if _, err := os.Stat(path); err != nil {
+	if st, err := os.Stat(path); err != nil {
+		if opt.ReadOnly {
 			return nil, fmt.Errorf("open %s: %w", path, ErrNoStore)
 		}
+	} else if n := linkCount(st); n > 1 {
+		return nil, &LinkError{Path: path, Links: n}
 	}
 	db, err := sqlfuncs.OpenDBWith(DSN(path, opt.ReadOnly), guardSetup(opt))
 	if err != nil {
@@ -101,20 +103,22 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 		return nil, fmt.Errorf("open %s: %w", path, err)
 	}
 	s := &Store{DB: db, Path: path, ReadOnly: opt.ReadOnly}
-	if !opt.ReadOnly {
+	// The schema version is read without the write lock, so opening a
+	// current store never waits for another writer; only a store with a
+	// migration due takes the write lock.
+	cur, latest, err := s.SchemaVersion(ctx)
+	if err != nil {
+		db.Close()
+		return nil, err
+	}
+	if cur < latest {
+		if opt.ReadOnly {
+			db.Close()
+			return nil, &SchemaError{Path: path, Current: cur, Latest: latest}
+		}
 		if _, err := s.Migrate(ctx); err != nil {
 			db.Close()
 			return nil, err
-		}
-	} else {
-		cur, latest, err := s.SchemaVersion(ctx)
-		if err != nil {
-			db.Close()
-			return nil, err
-		}
-		if cur < latest {
-			db.Close()
-			return nil, &SchemaError{Path: path, Current: cur, Latest: latest}
 		}
 	}
 	return s, nil
