@@ -201,6 +201,11 @@ func Create(ctx context.Context, path string, opt Options, force bool) (Summary,
 	if err != nil {
 		return Summary{}, err
 	}
+	if !empty {
+		if err := store.CheckNotInUse(ctx, path); err != nil {
+			return Summary{}, fmt.Errorf("demo: %w; refusing to replace it", err)
+		}
+	}
 	replacedDemo := false
 	if !empty && !force {
 		// An untouched demo store (only generated batches, no summary runs)
@@ -249,6 +254,13 @@ func Create(ctx context.Context, path string, opt Options, force bool) (Summary,
 	}
 	os.Remove(tmp + "-wal")
 	os.Remove(tmp + "-shm")
+	// Checked again just before the store is replaced: a writer that
+	// started while the demo was built keeps its store.
+	if !empty {
+		if err := store.CheckNotInUse(ctx, path); err != nil {
+			return sum, fmt.Errorf("demo: %w; refusing to replace it", err)
+		}
+	}
 	// Side files of the replaced store must not be applied to the new one.
 	os.Remove(path + "-wal")
 	os.Remove(path + "-shm")

@@ -8,6 +8,8 @@ import (
 	"path/filepath"
 	"syscall"
 	"time"
+
+	"trendsql/store"
 )
 
 // lockPoll is how often a waiting run retries the summarize lock.
@@ -22,7 +24,7 @@ func lockSummarize(ctx context.Context, path string, wait bool) (release func(),
 	if p, err := filepath.EvalSymlinks(path); err == nil {
 		path = p
 	}
-	f, err := os.OpenFile(path+".summarize-lock", os.O_CREATE|os.O_RDWR, 0o644)
+	f, err := os.OpenFile(path+store.SummarizeLockSuffix, os.O_CREATE|os.O_RDWR, 0o644)
 	if err != nil {
 		return nil, fmt.Errorf("summarize lock: %w", err)
 	}
