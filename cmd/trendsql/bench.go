@@ -3,9 +3,11 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"runtime/pprof"
 	"strings"
 	"time"
@@ -20,6 +22,7 @@ type benchOptions struct {
 	stations, readings, reps int
 	dir                      string
 	keep, quiet, direct      bool
+	force                    bool
 	format, jsonFile         string
 	cpuProfile               string
 	seed                     uint64
@@ -72,6 +75,7 @@ comparisons on a kept directory. --db is ignored.`,
 	fl.Uint64Var(&o.seed, "seed", 1, "generator seed")
 	fl.DurationVar(&o.timeout, "item-timeout", 10*time.Minute, "cancel a repetition that runs longer than this and mark the item timed out")
 	fl.BoolVar(&o.quiet, "quiet", false, "no progress lines on stderr")
+	fl.BoolVar(&o.force, "force", false, "overwrite existing files: readings.csv, bench.db… in --dir, the --json and --cpuprofile files")
 	fl.BoolVar(&o.direct, "direct", false, "also measure a direct load without validation (ReadingWriter only), to show what the importer's checks cost")
 	return c
 }
@@ -104,14 +108,15 @@ func runBench(ctx context.Context, e *env, o benchOptions) error {
 		Direct:       o.direct,
 		Summarize:    benchAnalyzer,
 		OnInsertPath: importGC,
+		Force:        o.force,
 	}
 	if !o.quiet {
 		opts.Log = e.errw
 	}
 	if o.cpuProfile != "" {
-		profile, err := os.Create(o.cpuProfile)
+		profile, err := createOutput(o.cpuProfile, o.force)
 		if err != nil {
-			return fmt.Errorf("bench: %w", err)
+			return fmt.Errorf("bench: --cpuprofile: %w", err)
 		}
 		defer profile.Close()
 		if err := pprof.StartCPUProfile(profile); err != nil {
@@ -119,15 +124,25 @@ func runBench(ctx context.Context, e *env, o benchOptions) error {
 		}
 		defer pprof.StopCPUProfile()
 	}
+	var jsonOut *os.File
+	if o.jsonFile != "" {
+		f, err := createOutput(o.jsonFile, o.force)
+		if err != nil {
+			return fmt.Errorf("bench: --json: %w", err)
+		}
+		defer f.Close()
+		jsonOut = f
+	}
 	rep, err := benchmark.Run(ctx, opts)
+	if errors.Is(err, benchmark.ErrFileExists) {
+		return fmt.Errorf("%w (use --force to overwrite, or another --dir)", err)
+	}
 	if !o.keep {
 		if tmp {
 			os.RemoveAll(dir)
 		} else if rep != nil {
-			for _, p := range []string{rep.CSV, rep.Store} {
-				for _, s := range []string{"", "-wal", "-shm", ".summarize-lock"} {
-					os.Remove(p + s)
-				}
+			for _, name := range benchmark.WorkFiles() {
+				os.Remove(filepath.Join(dir, name))
 			}
 		}
 	}
@@ -139,7 +154,10 @@ func runBench(ctx context.Context, e *env, o benchOptions) error {
 		if err != nil {
 			return err
 		}
-		if err := os.WriteFile(o.jsonFile, append(b, '\n'), 0o644); err != nil {
+		if _, err := jsonOut.Write(append(b, '\n')); err != nil {
+			return fmt.Errorf("bench: %w", err)
+		}
+		if err := jsonOut.Close(); err != nil {
 			return fmt.Errorf("bench: %w", err)
 		}
 	}
@@ -218,4 +236,18 @@ func humanRate(r float64) string {
 	default:
 		return fmt.Sprintf("%.0f", r)
 	}
+}
+
+// createOutput creates a file the command writes. An existing file is kept
+// (an error naming --force) unless force; then it is truncated.
+func createOutput(path string, force bool) (*os.File, error) {
+	flag := os.O_WRONLY | os.O_CREATE | os.O_EXCL
+	if force {
+		flag = os.O_WRONLY | os.O_CREATE | os.O_TRUNC
+	}
+	f, err := os.OpenFile(path, flag, 0o644)
+	if errors.Is(err, os.ErrExist) {
+		return nil, fmt.Errorf("%s exists; not overwritten without --force", path)
+	}
+	return f, err
 }

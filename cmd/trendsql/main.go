@@ -62,7 +62,10 @@ func Main(args []string, in io.Reader, out, errw io.Writer) int {
 const EnvCPUProfile = "TRENDSQL_CPUPROFILE"
 
 func startCPUProfile(path string) (func(), error) {
-	file, err := os.Create(path)
+	file, err := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
+	if errors.Is(err, os.ErrExist) {
+		return nil, fmt.Errorf("%s: %s exists; it is never overwritten (remove it or name a new file)", EnvCPUProfile, path)
+	}
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", EnvCPUProfile, err)
 	}

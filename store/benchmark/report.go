@@ -24,6 +24,10 @@ type Options struct {
 	OnInsertPath func(cLevel bool) (restore func())
 	// Log receives progress lines (nil: none).
 	Log io.Writer
+	// Force lets the run overwrite (and, with the caller's clean-up,
+	// delete) files of its names that are already in Dir; without it such
+	// a file stops the run before anything is written (ErrFileExists).
+	Force bool
 }
 
 // Item is one measured operation.

@@ -41,6 +41,14 @@ func Run(ctx context.Context, o Options) (*Report, error) {
 	if err := os.MkdirAll(o.Dir, 0o755); err != nil {
 		return nil, fmt.Errorf("bench: %w", err)
 	}
+	if !o.Force {
+		for _, name := range WorkFiles() {
+			p := filepath.Join(o.Dir, name)
+			if _, err := os.Lstat(p); err == nil {
+				return nil, fmt.Errorf("bench: %s: %w", p, ErrFileExists)
+			}
+		}
+	}
 	start := time.Now()
 	rep := &Report{
 		Started:      start.UTC().Format(time.RFC3339),
