@@ -61,25 +61,35 @@ func figureRows(s *Series, run *Run) []figRow {
 		add("censored readings", fmt.Sprintf("%.1f %%", 100*cs), note)
 	}
 	add("mean", num(r.f("mean")), u)
-	add("least-squares slope", num(r.f("slope_per_year")), perYear(u))
-	add("least-squares slope per decade", num(10*r.f("slope_per_year")), perDecade(u))
-	if v := r.f("pct_per_decade"); !math.IsNaN(v) {
-		add("relative slope", num(v), "% of the mean per decade")
+	if r.s("trend_model") == "" {
+		add("least-squares trend", "not fitted", "see the notes below")
+	} else {
+		add("least-squares slope", num(r.f("slope_per_year")), perYear(u))
+		add("least-squares slope per decade", num(10*r.f("slope_per_year")), perDecade(u))
+		if v := r.f("pct_per_decade"); !math.IsNaN(v) {
+			add("relative slope", num(v), "% of the mean per decade")
+		}
+		add("standard error of the slope, ordinary", num(r.f("slope_se")), perYear(u)+"; assumes independent errors")
+		add("standard error of the slope, Newey–West", num(r.f("hac_slope_se")), perYear(u)+lagsNote(r))
+		add("p, ordinary least squares", pval(r.f("slope_p")), "two-sided; too small when the errors are autocorrelated")
+		add("p, Newey–West", pval(r.f("hac_p")), "two-sided, autocorrelation-robust")
+		add("p, effective sample size", pval(r.f("n_eff_p")), "n_eff = "+num(r.f("n_eff")))
+		add("R²", num(r.f("r2")), "share of variance explained by trend and cycle")
 	}
-	add("standard error of the slope, ordinary", num(r.f("slope_se")), perYear(u)+"; assumes independent errors")
-	add("standard error of the slope, Newey–West", num(r.f("hac_slope_se")), perYear(u)+lagsNote(r))
-	add("p, ordinary least squares", pval(r.f("slope_p")), "two-sided; too small when the errors are autocorrelated")
-	add("p, Newey–West", pval(r.f("hac_p")), "two-sided, autocorrelation-robust")
-	add("p, effective sample size", pval(r.f("n_eff_p")), "n_eff = "+num(r.f("n_eff")))
-	add("R²", num(r.f("r2")), "share of variance explained by trend and cycle")
 	add("rank trend test", rankWords(r.s("mk_method")), "")
-	add("p, rank trend test", pval(r.f("mk_p")), "corrected for serial correlation as the method states")
+	add("p, rank trend test", pval(r.f("mk_p")), rankPNote(r.s("mk_method")))
 	add("q, FDR-adjusted", pval(r.f("trend_p_fdr")), fmt.Sprintf("Benjamini–Hochberg across the run's series; the trend flag uses q ≤ %g", run.Alpha))
-	add("Sen slope", num(r.f("sen_slope_per_year")), perYear(u))
-	add("Sen slope per decade", num(10*r.f("sen_slope_per_year")), perDecade(u))
+	sen := "Sen slope"
+	if strings.HasPrefix(r.s("mk_method"), "censored") {
+		sen = "Akritas–Theil–Sen slope"
+	}
+	add(sen, num(r.f("sen_slope_per_year")), perYear(u))
+	add(sen+" per decade", num(10*r.f("sen_slope_per_year")), perDecade(u))
 	conf := r.f("sen_confidence")
 	add("Sen slope interval", ci(r.f("sen_lower"), r.f("sen_upper")), fmt.Sprintf("%s; %g confidence", perYear(u), conf))
-	add("residual lag-1 sample autocorrelation", num(r.f("resid_acf1")), "")
+	if v := r.f("resid_acf1"); !math.IsNaN(v) {
+		add("residual lag-1 sample autocorrelation", num(v), "")
+	}
 	if lbl, ok := r.i("lb_lags"); ok {
 		add(fmt.Sprintf("Ljung–Box test, lags 1 to %d", lbl), "Q = "+num(r.f("lb_q"))+", p = "+pval(r.f("lb_p")), "")
 	}

@@ -82,7 +82,11 @@ func readingStyle() (draw.LineStyle, draw.GlyphStyle) {
 // readings marked.
 func readingsFigure(d *seriesPlotData, png bool) (*Figure, DrawInfo, error) {
 	s := d.s
-	p := newPlot("Readings and fitted trend", "", valueLabel(s))
+	title := "Readings and fitted trend"
+	if d.line == nil {
+		title = "Readings"
+	}
+	p := newPlot(title, "", valueLabel(s))
 	p.X.Tick.Marker = yearTicks{}
 	p.Y.Tick.Marker = plainTicks{}
 	info := DrawInfo{Readings: len(d.rd.T)}

@@ -119,14 +119,35 @@ func rankWords(method string) string {
 		return "seasonal Kendall test on per-season block means"
 	case "seasonal-kendall":
 		return "seasonal Kendall test"
+	case "censored-seasonal-kendall":
+		return "seasonal Kendall test for censored values (pairs whose order a reporting limit hides count as ties)"
+	case "censored-mann-kendall":
+		return "Mann–Kendall test for censored values (pairs whose order a reporting limit hides count as ties)"
 	case "":
 		return "no rank trend test"
 	}
 	return method
 }
 
+// rankPNote says what the rank test's p-value allows for.
+func rankPNote(method string) string {
+	switch {
+	case strings.Contains(method, "hamed-rao"):
+		return "two-sided; variance corrected for serial correlation (Hamed–Rao)"
+	case strings.Contains(method, "hirsch-slack"):
+		return "two-sided; per-season block means, with the covariance between seasons"
+	case strings.Contains(method, "block-means"):
+		return "two-sided; per-season block means"
+	case strings.HasPrefix(method, "censored"):
+		return "two-sided; not corrected for serial correlation"
+	}
+	return "two-sided"
+}
+
 func acfWords(basis string) string {
 	switch basis {
+	case "":
+		return "not computed"
 	case "time-grid":
 		return "on the regular time grid (missing slots left out of the sums)"
 	case "reading-order":
