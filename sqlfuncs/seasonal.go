@@ -41,7 +41,11 @@ package sqlfuncs
 //	lower, upper   = the sen_slope rank rule at 95 % confidence with N the
 //	                 number of within-season pairs and var_s as above (this
 //	                 project's choice, the direct analogue of the one-series
-//	                 interval; it is not checked against an outside library)
+//	                 interval; it is not checked against an outside library);
+//	                 it pairs with p
+//	lower_dependent, upper_dependent
+//	               = the same rule with var_s_dependent: the interval that
+//	                 pairs with p_dependent (null where that is null)
 //
 // Between-season dependence. The seasons of one cycle (for period P the
 // cycle of t is floor(t/P), counted from the epoch; for calendar-month the
@@ -63,7 +67,8 @@ package sqlfuncs
 // ("epoch-slices" or "calendar-month"), seasons, seasons_used (seasons with
 // ≥ 2 values), s, var_s, z, p, cycles, var_s_dependent, z_dependent,
 // p_dependent, dependent_note, n_pairs, slope_per_year, lower, upper,
-// confidence, per_season: [{season, n, s, var_s}, ...].
+// lower_dependent, upper_dependent, confidence,
+// per_season: [{season, n, s, var_s}, ...].
 //
 // Example (demo store; numbers depend on the demo data):
 //
@@ -77,14 +82,16 @@ package sqlfuncs
 // holds 2, 5 (S = 1, var 1), within-season slopes 0.5, 0.75, 1, 1.5 per day.
 // The three 2-day cycles hold (1, 2), (3, 5), (4, −): K_01 = 1, the mid-rank
 // of the missing cell is 1.5, cov(S_0, S_1) = (1 + 4·9.5 − 3·4·3)/3 = 1, so
-// var_s_dependent = 11/3 + 1 + 2·1:
+// var_s_dependent = 11/3 + 1 + 2·1 (with 4 pairs both intervals' ranks are
+// clamped to 1 and 4, the extreme slopes):
 //
 //	{"n":5,"period_s":172800,"season_definition":"epoch-slices","seasons":2,
 //	 "seasons_used":2,"s":4,"var_s":4.666666666666666,"z":1.3887301496588274,
 //	 "p":0.16491482255330134,"cycles":3,"var_s_dependent":6.666666666666666,
 //	 "z_dependent":1.161895003862225,"p_dependent":0.24527811680677292,
 //	 "dependent_note":null,"n_pairs":4,"slope_per_year":319.59375,
-//	 "lower":182.625,"upper":547.875,"confidence":0.95,"per_season":[
+//	 "lower":182.625,"upper":547.875,"lower_dependent":182.625,
+//	 "upper_dependent":547.875,"confidence":0.95,"per_season":[
 //	 {"season":0,"n":3,"s":3,"var_s":3.6666666666666665},
 //	 {"season":1,"n":2,"s":1,"var_s":1}]}
 
@@ -193,6 +200,16 @@ func seasonalKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	b.num("slope_per_year", res.Sen.Slope*spy)
 	b.num("lower", res.Sen.Lower*spy)
 	b.num("upper", res.Sen.Upper*spy)
+	lo, hi := math.NaN(), math.NaN()
+	if depErr == nil && dep.VarS > 0 {
+		sd, err := res.SenWithVar(conf, dep.VarS)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %v", fn, err)
+		}
+		lo, hi = sd.Lower, sd.Upper
+	}
+	b.num("lower_dependent", lo*spy)
+	b.num("upper_dependent", hi*spy)
 	b.num("confidence", conf)
 	var ps strings.Builder
 	ps.WriteByte('[')

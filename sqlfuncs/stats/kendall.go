@@ -17,6 +17,23 @@ package stats
 // of y in time order with a merge sort (Knight 1966): with D discordant
 // (strictly inverted) pairs and n2 tied pairs, S = n0 − n2 − 2D.
 //
+// Interval–test pairing. The Sen slope's rank interval (SenSlope) and the
+// test read the same pairwise signs. With N pairs, of which P have a
+// positive slope, Q a negative and T a zero slope (equal y), S = P − Q, and
+// with C = z_{1−α/2}·√Var(S) for the variance the test uses:
+//
+//	test rejects upwards   ⟺  S − 1 > C           ⟺  Q + T/2 < (N − C − 1)/2
+//	interval's lower > 0   ⟺  Q + T < M1 = round((N − C)/2)
+//
+// (and the same with P for a downward trend). So an interval computed from
+// the same variance as the test — SenSlopeWithVar with the Hamed–Rao
+// corrected variance, SeasonalResult.SenWithVar with the between-season
+// covariance variance — agrees with "p ≤ α" except when Q + T/2 (or
+// P + T/2) lies within half a rank, plus half a rank per zero slope, of
+// (N − C)/2: the continuity correction, the rounding of the ranks and zero
+// slopes counting whole in the interval but half in S. An interval from a
+// different variance than the test's can contradict it by any amount.
+//
 // These are sample statistics; Z and p are calibrated under the null model of
 // independent, identically distributed observations (no serial
 // correlation). HamedRao (hamedrao.go) corrects the variance for serial

@@ -13,16 +13,17 @@ package stats
 //	Z = (S − sgn S)/√Var(S)  (continuity correction),  p = 2·P(N(0,1) > |Z|)
 //
 // The seasons are treated as independent: no covariance between seasons is
-// added (the test of Hirsch, Slack & Smith 1982; Hirsch & Slack 1984 give a
-// covariance-corrected variant, not implemented here). A season with fewer
+// added (the test of Hirsch, Slack & Smith 1982; the covariance-corrected
+// variant of Hirsch & Slack 1984 is SeasonalDependent below). A season with fewer
 // than 2 values has no pairs: S_g = 0 and Var(S_g) = 0, so it contributes
 // nothing (it is still listed with its count).
 //
 // The seasonal Sen slope is the median of all within-season pairwise slopes
 // (y_b − y_a)/(t_b − t_a), a and b in the same season (Hirsch, Slack & Smith
 // 1982), selected exactly as in sen.go. Its interval uses the rank rule of
-// SenSlope with N = number of within-season pairs and Var(S) the summed
-// variance above.
+// SenSlope with N = number of within-season pairs and Var(S) the variance of
+// the test it is reported with: the summed variance above, or the
+// covariance-corrected Var_dep(S) below (SenWithVar).
 
 import (
 	"errors"
@@ -75,6 +76,10 @@ type SeasonalResult struct {
 	Pairs       int64 // within-season pairs
 	Sen         SenResult
 	PerSeason   []SeasonStat
+
+	// the values grouped by season (time order within each), for SenWithVar
+	gt, gy []float64
+	blocks []int
 }
 
 // SeasonalKendall runs the test on a series sorted by t (distinct t) with
@@ -127,6 +132,7 @@ func SeasonalKendall(t, y []float64, season []int, seasons int, confidence float
 	}
 	res.Z = MKZ(res.S, res.VarS)
 	res.P = NormalTwoSided(res.Z)
+	res.gt, res.gy, res.blocks = gt, gy, blocks
 	if res.Pairs == 0 {
 		res.Sen = SenResult{N: n, Slope: math.NaN(), Lower: math.NaN(), Upper: math.NaN()}
 		return res, nil
@@ -146,6 +152,29 @@ func SeasonalKendall(t, y []float64, season []int, seasons int, confidence float
 	}
 	res.Sen = sen
 	return res, nil
+}
+
+// SenWithVar returns the seasonal Sen slope with its interval at the given
+// confidence computed from varS instead of the summed variance: with
+// Var_dep(S) of SeasonalDependent the interval pairs with the
+// covariance-corrected test (same rank rule, N the within-season pairs).
+// Lower and Upper are NaN when varS is not positive or not a number.
+func (r SeasonalResult) SenWithVar(confidence, varS float64) (SenResult, error) {
+	if r.Pairs == 0 {
+		return SenResult{N: r.N, Slope: math.NaN(), Lower: math.NaN(), Upper: math.NaN()}, nil
+	}
+	conf := confidence
+	if !(varS > 0) {
+		conf = 0
+	}
+	sen, err := senSlopeBlocks(r.gt, r.gy, r.blocks, conf, varS, true)
+	if err != nil {
+		return sen, err
+	}
+	if conf == 0 {
+		sen.Lower, sen.Upper = math.NaN(), math.NaN()
+	}
+	return sen, nil
 }
 
 // SeasonalDependence is the between-season covariance correction of the

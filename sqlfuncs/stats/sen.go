@@ -105,8 +105,10 @@ func SenSlope(t, y []float64, confidence float64) (SenResult, error) {
 	return senSlopeBlocks(t, y, []int{0, len(t)}, confidence, 0, true)
 }
 
-// SenSlopeWithVar is SenSlope with the Mann–Kendall Var(S) of y supplied by
-// a caller that has computed it already (0: compute it here).
+// SenSlopeWithVar is SenSlope with the interval's Var(S) supplied by the
+// caller (0: the Mann–Kendall variance of y, computed here): the variance of
+// the test the interval is reported with, e.g. the Hamed–Rao corrected one
+// (interval–test pairing, kendall.go).
 func SenSlopeWithVar(t, y []float64, confidence, varS float64) (SenResult, error) {
 	return senSlopeBlocks(t, y, []int{0, len(t)}, confidence, varS, true)
 }

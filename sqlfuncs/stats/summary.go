@@ -25,11 +25,22 @@ package stats
 //	                        between-season covariance correction; blocks hold
 //	                        one value per season and cycle, so it applies),
 //	                        or var_s, z, p where it is undefined
-//	sen_* (no period)     = sen_slope(t, y, confidence)
-//	sen_* (with period)   = the seasonal Sen slope of that seasonal_kendall
-//	                        (interval at --confidence by the same rank rule;
-//	                        seasonal_kendall reports the 95 % interval, so
-//	                        the two agree at the default 0.95)
+//	sen_* (no period)     = sen_slope(t, y, confidence, 'variance=hamed-rao')
+//	                        when the stored mk_* are the corrected ones, else
+//	                        sen_slope(t, y, confidence): the interval is
+//	                        computed from the variance of the test stored
+//	                        beside it, so "mk_p ≤ α" and "the interval
+//	                        excludes 0" agree up to the discreteness stated
+//	                        at SenSlope; sen_interval_basis names it
+//	                        ('hamed-rao' or 'mann-kendall') and sen_var_s
+//	                        holds it
+//	sen_* (with period)   = the seasonal Sen slope of that seasonal_kendall,
+//	                        its interval at --confidence from the variance of
+//	                        the stored test: lower_dependent/upper_dependent
+//	                        (sen_interval_basis 'hirsch-slack') or
+//	                        lower/upper ('seasonal-kendall'); seasonal_kendall
+//	                        reports 95 % intervals, so the two agree at the
+//	                        default 0.95
 //	lb_*, series_correlograms
 //	                      = ljung_box / correlogram of the residuals
 //	                        y − trend_value(model, t) on the inferred time grid
@@ -182,38 +193,50 @@ func SummarizeSeries(t, y []float64, o SummaryOptions) (s SeriesSummary) {
 				}
 			}
 			if sk.Pairs > 0 {
-				s.SenSlopePerYear = fp(sk.Sen.Slope * timefmt.SecondsPerYear)
-				s.SenLower = fp(sk.Sen.Lower * timefmt.SecondsPerYear)
-				s.SenUpper = fp(sk.Sen.Upper * timefmt.SecondsPerYear)
+				// The interval pairs with the stored test's variance.
+				sen, basis, varTest := sk.Sen, "seasonal-kendall", sk.VarS
+				if s.MKMethod == "seasonal-kendall/block-means/hirsch-slack" {
+					basis, varTest = "hirsch-slack", dep.VarS
+					if sen, err = sk.SenWithVar(o.Confidence, dep.VarS); err != nil {
+						note("seasonal Sen interval: %v", err)
+					}
+				}
+				s.SenSlopePerYear = fp(sen.Slope * timefmt.SecondsPerYear)
+				s.SenLower = fp(sen.Lower * timefmt.SecondsPerYear)
+				s.SenUpper = fp(sen.Upper * timefmt.SecondsPerYear)
+				if s.SenLower != nil {
+					s.SenIntervalBasis, s.SenVarS = basis, fp(varTest)
+				}
 			}
 		}
 	} else {
-		// One Mann–Kendall pass and one Sen slope serve the test, the
-		// Hamed–Rao detrending and the Sen interval.
+		// The Sen median serves the Hamed–Rao detrending; the interval is
+		// then selected with the variance of the test that is stored.
 		mk, mkErr := MannKendall(y)
-		varS := 0.0
-		if mkErr == nil {
-			varS = mk.VarS
-		}
-		sen, senErr := SenSlopeWithVar(t, y, o.Confidence, varS)
+		med, senErr := senSlopeBlocks(t, y, []int{0, n}, 0, 0, false)
+		varTest, basis := math.NaN(), ""
 		if mkErr != nil {
 			note("Mann–Kendall: %v", mkErr)
 		} else {
 			s.MKMethod = "mann-kendall/hamed-rao"
 			sv := float64(mk.S)
 			s.MKS, s.MKTau = &sv, fp(mk.Tau)
-			// The detrending slope is the Sen slope computed above; if it
-			// failed, so would the correction's own (the same SenMedian).
+			varTest, basis = mk.VarS, "mann-kendall"
+			// If the median failed, so would the correction's own.
 			hr, err := HamedRaoResult{}, senErr
 			if senErr == nil {
-				hr, err = HamedRaoWith(t, y, mk, HamedRaoOptions{}, &sen)
+				hr, err = HamedRaoWith(t, y, mk, HamedRaoOptions{}, &med)
 			}
 			if err != nil {
 				note("Hamed–Rao correction: %v", err)
 			} else {
 				s.MKCorrectionFactor = fp(hr.Factor)
+				if hr.Undefined != "" {
+					note("Hamed–Rao correction undefined (%s); test and Sen interval use the uncorrected variance", hr.Undefined)
+				}
 				if hr.Factor >= 1 {
 					s.MKVarS, s.MKZ, s.MKP = fp(hr.VarS), fp(hr.Z), fp(hr.P)
+					varTest, basis = hr.VarS, "hamed-rao"
 				} else {
 					// Never more liberal than the uncorrected test.
 					s.MKVarS, s.MKZ, s.MKP = fp(mk.VarS), fp(mk.Z), fp(mk.P)
@@ -223,9 +246,17 @@ func SummarizeSeries(t, y []float64, o SummaryOptions) (s SeriesSummary) {
 		if senErr != nil {
 			note("Sen slope: %v", senErr)
 		} else {
-			s.SenSlopePerYear = fp(sen.Slope * timefmt.SecondsPerYear)
-			s.SenLower = fp(sen.Lower * timefmt.SecondsPerYear)
-			s.SenUpper = fp(sen.Upper * timefmt.SecondsPerYear)
+			s.SenSlopePerYear = fp(med.Slope * timefmt.SecondsPerYear)
+			if varTest >= 0 {
+				sen, err := SenSlopeWithVar(t, y, o.Confidence, varTest)
+				if err != nil {
+					note("Sen interval: %v", err)
+				} else {
+					s.SenLower = fp(sen.Lower * timefmt.SecondsPerYear)
+					s.SenUpper = fp(sen.Upper * timefmt.SecondsPerYear)
+					s.SenIntervalBasis, s.SenVarS = basis, fp(varTest)
+				}
+			}
 		}
 	}
 

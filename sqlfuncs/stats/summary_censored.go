@@ -51,7 +51,7 @@ func SummarizeCensoredSeries(t, y []float64, c []Censoring, o SummaryOptions) (s
 		s = SummarizeSeries(t, y, o)
 		// The rank figures below replace the uncensored ones.
 		s.MKMethod, s.MKS, s.MKVarS, s.MKZ, s.MKP, s.MKTau, s.MKCorrectionFactor = "", nil, nil, nil, nil, nil, nil
-		s.SenSlopePerYear, s.SenLower, s.SenUpper = nil, nil, nil
+		s.SenSlopePerYear, s.SenLower, s.SenUpper, s.SenIntervalBasis, s.SenVarS = nil, nil, nil, "", nil
 		s.PettittK, s.PettittTChange, s.PettittU, s.PettittP, s.StepChangeSuspected = nil, nil, nil, nil, nil
 	} else {
 		s = censoredCoverage(t, y, o)

@@ -62,6 +62,12 @@ type SeriesSummary struct {
 	SenSlopePerYear    *float64
 	SenLower, SenUpper *float64
 	SenConfidence      float64
+	// SenIntervalBasis names the variance the Sen interval was computed
+	// from — the one of the stored test: "mann-kendall", "hamed-rao",
+	// "seasonal-kendall" or "hirsch-slack" — and SenVarS is its value;
+	// empty and nil without an interval.
+	SenIntervalBasis string
+	SenVarS          *float64
 
 	ResidACF1   *float64
 	ACFBasis    string // "time-grid" or "reading-order"

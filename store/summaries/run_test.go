@@ -412,11 +412,22 @@ func TestSummaryFiguresEqualSQLFunctions(t *testing.T) {
 					})
 				})
 				t.Run(label+"/sen_slope", func(t *testing.T) {
-					sen := sqlJSON(t, db, `SELECT sen_slope(t, value, 0.95) FROM readings WHERE series_id = ?`, id)
-					checkFigures(t, row, "sen_slope(t, value, 0.95)", []figure{
+					// The interval comes from the variance of the stored
+					// test: the corrected one when the factor is ≥ 1.
+					mk := sqlJSON(t, db, `SELECT mann_kendall(t, value, 'correct=hamed-rao') FROM readings WHERE series_id = ?`, id)
+					call, basis := "sen_slope(t, value, 0.95)", "mann-kendall"
+					if f, ok := mk["correction_factor"].(float64); ok && f >= 1 {
+						call, basis = "sen_slope(t, value, 0.95, 'variance=hamed-rao')", "hamed-rao"
+					}
+					sen := sqlJSON(t, db, `SELECT `+call+` FROM readings WHERE series_id = ?`, id)
+					checkFigures(t, row, call, []figure{
 						{"sen_slope_per_year", sen["slope_per_year"], relExact}, {"sen_lower", sen["lower"], relExact},
 						{"sen_upper", sen["upper"], relExact}, {"sen_confidence", sen["confidence"], 0},
+						{"sen_var_s", sen["var_s"], relExact}, {"sen_var_s", mk[map[string]string{"hamed-rao": "var_s_corrected", "mann-kendall": "var_s"}[basis]], relExact},
 					})
+					if row["sen_interval_basis"] != basis {
+						t.Errorf("sen_interval_basis = %v, want %s", row["sen_interval_basis"], basis)
+					}
 				})
 				t.Run(label+"/pettitt", func(t *testing.T) {
 					p := sqlJSON(t, db, `SELECT pettitt(t, value) FROM readings WHERE series_id = ?`, id)
@@ -452,9 +463,12 @@ func TestSummaryFiguresEqualSQLFunctions(t *testing.T) {
 						{"mk_z", sk["z_dependent"], relExact}, {"mk_p", sk["p_dependent"], relP},
 						{"mk_tau", nil, 0}, {"mk_correction_factor", nil, 0},
 						{"sen_slope_per_year", sk["slope_per_year"], relMean},
-						{"sen_lower", sk["lower"], relMean}, {"sen_upper", sk["upper"], relMean},
-						{"sen_confidence", sk["confidence"], 0},
+						{"sen_lower", sk["lower_dependent"], relMean}, {"sen_upper", sk["upper_dependent"], relMean},
+						{"sen_confidence", sk["confidence"], 0}, {"sen_var_s", sk["var_s_dependent"], relExact},
 					})
+					if row["sen_interval_basis"] != "hirsch-slack" {
+						t.Errorf("sen_interval_basis = %v, want hirsch-slack (the interval of the stored Hirsch–Slack test)", row["sen_interval_basis"])
+					}
 					if asFloat(sk["seasons_used"]) < 12 {
 						t.Errorf("fixture: %v seasons used, want 12", sk["seasons_used"])
 					}
@@ -897,7 +911,14 @@ func TestSummarizeRunBookkeeping(t *testing.T) {
 	if n < 600 || n > 731 {
 		t.Fatalf("fixture: the window should hold about two years of daily readings, has %d", n)
 	}
-	sen := sqlJSON(t, db, `SELECT sen_slope(t, value, 0.9) `+window, fx.ids["daily"], since, until)
+	// The interval pairs with the stored test: the Hamed–Rao variance when
+	// its factor is ≥ 1 (the daily fixture is serially correlated).
+	mkw := sqlJSON(t, db, `SELECT mann_kendall(t, value, 'correct=hamed-rao') `+window, fx.ids["daily"], since, until)
+	senCall := `SELECT sen_slope(t, value, 0.9) `
+	if f, ok := mkw["correction_factor"].(float64); ok && f >= 1 {
+		senCall = `SELECT sen_slope(t, value, 0.9, 'variance=hamed-rao') `
+	}
+	sen := sqlJSON(t, db, senCall+window, fx.ids["daily"], since, until)
 	tf := sqlJSON(t, db, `SELECT trend_fit(t, value) `+window, fx.ids["daily"], since, until)
 	checkFigures(t, row, "SQL functions over 2020–2021 at confidence 0.9", []figure{
 		{"n", n, 0}, {"t_first", t0, 0}, {"t_last", t1, 0},

@@ -81,12 +81,12 @@ func writeRun(ctx context.Context, s *store.Store, res *Result, results []*serie
 		n_qualified, qualifier_counts, mean, unit,
 		trend_model, slope_per_year, slope_se, slope_p, hac_slope_se, hac_lags, hac_p, n_eff, n_eff_p, r2, pct_per_decade,
 		mk_method, mk_s, mk_var_s, mk_z, mk_p, mk_tau, mk_correction_factor,
-		sen_slope_per_year, sen_lower, sen_upper, sen_confidence, trend_p_fdr,
+		sen_slope_per_year, sen_lower, sen_upper, sen_confidence, sen_interval_basis, sen_var_s, trend_p_fdr,
 		resid_acf1, acf_basis, lb_lags, lb_df, lb_q, lb_p,
 		pettitt_k, pettitt_t_change, pettitt_time_change, pettitt_u, pettitt_p,
 		insufficient_data, trend_detected, residual_dependence, step_change_suspected,
 		censored_share, censoring_limits, highest_limit)
-		VALUES (?,?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?, ?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?, ?,?,?)`)
+		VALUES (?,?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?, ?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?,?,?,?, ?,?,?,?,?,?,?, ?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?, ?,?,?)`)
 	if err != nil {
 		return fmt.Errorf("summarize: prepare: %w", err)
 	}
@@ -134,7 +134,7 @@ func writeRun(ctx context.Context, s *store.Store, res *Result, results []*serie
 			m.NQualified, quals, sqlFloat(m.Mean), unit,
 			model, sqlFloat(m.SlopePerYear), sqlFloat(m.SlopeSE), sqlFloat(m.SlopeP), sqlFloat(m.HACSlopeSE), sqlInt(m.HACLags), sqlFloat(m.HACP), sqlFloat(m.NEff), sqlFloat(m.NEffP), sqlFloat(m.R2), sqlFloat(m.PctPerDecade),
 			mkMethod, sqlFloat(m.MKS), sqlFloat(m.MKVarS), sqlFloat(m.MKZ), sqlFloat(m.MKP), sqlFloat(m.MKTau), sqlFloat(m.MKCorrectionFactor),
-			sqlFloat(m.SenSlopePerYear), sqlFloat(m.SenLower), sqlFloat(m.SenUpper), senConf, sqlFloat(r.pFDR),
+			sqlFloat(m.SenSlopePerYear), sqlFloat(m.SenLower), sqlFloat(m.SenUpper), senConf, nullStr(m.SenIntervalBasis), sqlFloat(m.SenVarS), sqlFloat(r.pFDR),
 			sqlFloat(m.ResidACF1), nullStr(m.ACFBasis), sqlInt(m.LBLags), sqlInt(m.LBDF), sqlFloat(m.LBQ), sqlFloat(m.LBP),
 			sqlInt(m.PettittK), pChange, pTime, sqlFloat(m.PettittU), sqlFloat(m.PettittP),
 			boolInt(m.InsufficientData), sqlBool(r.trendDetected), sqlBool(m.ResidualDependence), sqlBool(m.StepChangeSuspected),
