@@ -12,6 +12,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"sort"
 	"strings"
 	"sync"
 	"testing"
@@ -122,12 +123,13 @@ type pageCheck struct {
 	problems []string // console errors and exceptions
 	charts   [][2]float64
 	png      []byte
+	after    string // value of the extra expression, run after the screenshot
 }
 
 // visit loads url in a new tab and waits for its load event, gathering
 // console errors, then measures the charts and takes a screenshot of the
 // top of the page.
-func (c *cdp) visit(ctx context.Context, url string, width, height int) (*pageCheck, error) {
+func (c *cdp) visit(ctx context.Context, url string, width, height int, extra string) (*pageCheck, error) {
 	var tgt struct {
 		TargetID string `json:"targetId"`
 	}
@@ -213,8 +215,26 @@ func (c *cdp) visit(ctx context.Context, url string, width, height int) (*pageCh
 	}
 	png, err := base64.StdEncoding.DecodeString(shot.Data)
 	pc.png = png
-	return pc, err
+	if err != nil || extra == "" {
+		return pc, err
+	}
+	if err := c.call(ctx, s, "Runtime.evaluate", map[string]any{"expression": extra, "returnByValue": true}, &ev); err != nil {
+		return nil, err
+	}
+	if ev.ExceptionDetails != nil {
+		return nil, fmt.Errorf("evaluating %q: %v", extra, ev.ExceptionDetails)
+	}
+	pc.after = ev.Result.Value
+	return pc, nil
 }
+
+// sortByN clicks the index table's "n" heading twice and returns the
+// column's values after each click.
+const sortByN = `(function(){
+var th=Array.from(document.querySelectorAll("#series-table th")).filter(function(h){return h.textContent.trim()==="n"})[0];
+function col(){return Array.from(document.querySelectorAll("#series-table tbody tr")).map(function(r){return +r.cells[th.cellIndex].getAttribute("data-v")})}
+th.click();var up=col();th.click();var down=col();
+return JSON.stringify([up,down]);})()`
 
 // problem describes a console error, an uncaught exception or an error log
 // entry ("" for anything else).
@@ -308,9 +328,9 @@ func TestReportInChromium(t *testing.T) {
 	if err := os.MkdirAll(outDir, 0o755); err != nil {
 		t.Fatal(err)
 	}
-	for _, pg := range []struct{ file, shot string }{{"index.html", "index.png"}, {res.Pages[id], "series-page.png"}} {
+	for _, pg := range []struct{ file, shot, extra string }{{"index.html", "index.png", sortByN}, {res.Pages[id], "series-page.png", ""}} {
 		abs, _ := filepath.Abs(filepath.Join(res.Dir, pg.file))
-		pc, err := c.visit(ctx, "file://"+abs, 1280, 1500)
+		pc, err := c.visit(ctx, "file://"+abs, 1280, 1500, pg.extra)
 		if err != nil {
 			t.Fatalf("%s: %v (chromium stderr: %s)", pg.file, err, tail(stderr.String()))
 		}
@@ -323,6 +343,21 @@ func TestReportInChromium(t *testing.T) {
 		for i, wh := range pc.charts {
 			if !(wh[0] > 0 && wh[1] > 0) {
 				t.Errorf("%s: chart %d has size %gx%g", pg.file, i+1, wh[0], wh[1])
+			}
+		}
+		if pg.extra != "" {
+			var cols [2][]float64
+			if err := json.Unmarshal([]byte(pc.after), &cols); err != nil {
+				t.Fatalf("sorting: %v (%q)", err, pc.after)
+			}
+			if len(cols[0]) != len(res.Pages) || !sort.Float64sAreSorted(cols[0]) {
+				t.Errorf("after one click on n the rows are %v, want %d rows ascending", cols[0], len(res.Pages))
+			}
+			for i := 1; i < len(cols[1]); i++ {
+				if cols[1][i] > cols[1][i-1] {
+					t.Errorf("after a second click on n the rows are %v, want descending", cols[1])
+					break
+				}
 			}
 		}
 		if !bytes.HasPrefix(pc.png, []byte("\x89PNG")) {
