@@ -6,6 +6,7 @@ import (
 	"errors"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 )
@@ -145,6 +146,38 @@ func TestOutputFolderSafety(t *testing.T) {
 	for i := 0; i < 2; i++ {
 		if _, err := Write(ctx, s.DB, Options{Dir: dir3, Selection: sel}); err != nil {
 			t.Fatalf("write %d: %v", i+1, err)
+		}
+	}
+}
+
+// Pages load nothing: no external scripts, style sheets, images, fonts or
+// frames, and every link is to another file of the report.
+func TestPagesAreSelfContained(t *testing.T) {
+	s := openDemo(t)
+	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{"VOR-M01", "VOR-W01"}}, PNG: true})
+	files := map[string]bool{}
+	for _, f := range res.Files {
+		files[f] = true
+	}
+	ref := regexp.MustCompile(`(?i)\b(src|href|xlink:href)\s*=\s*"([^"]*)"`)
+	for _, f := range res.Files {
+		if !strings.HasSuffix(f, ".html") {
+			continue
+		}
+		doc := readFile(t, filepath.Join(res.Dir, f))
+		low := strings.ToLower(doc)
+		for _, bad := range []string{"<link", "<iframe", "<img", "@import", "url(", "@font-face", "<object", "<embed"} {
+			if strings.Contains(low, bad) {
+				t.Errorf("%s contains %q", f, bad)
+			}
+		}
+		if k := strings.Count(low, "<script"); k != strings.Count(low, "<script>") {
+			t.Errorf("%s has a script element with attributes (an external script?)", f)
+		}
+		for _, m := range ref.FindAllStringSubmatch(doc, -1) {
+			if !files[m[2]] {
+				t.Errorf("%s refers to %q, which is not a file of the report", f, m[2])
+			}
 		}
 	}
 }
