@@ -33,6 +33,7 @@ var (
 	tolGreen  = color.RGBA{0x22, 0x88, 0x33, 0xFF}
 	tolPurple = color.RGBA{0xAA, 0x33, 0x77, 0xFF}
 	tolGrey   = color.RGBA{0xBB, 0xBB, 0xBB, 0xFF}
+	tolIndigo = color.RGBA{0x33, 0x22, 0x88, 0xFF} // from Tol's "muted" scheme (same note)
 	ink       = color.RGBA{0x2A, 0x2D, 0x34, 0xFF}
 	inkSoft   = color.RGBA{0x55, 0x5A, 0x64, 0xFF}
 )
@@ -43,6 +44,7 @@ var (
 	ColReadings = tolBlue   // readings line and isolated readings
 	ColTrend    = tolRed    // straight-line trend
 	ColSeasonal = tolPurple // trend plus seasonal cycle
+	ColSen      = tolIndigo // Sen slope line (dotted)
 	ColFlagged  = tolGreen  // qualifier-flagged readings
 	ColCensored = ink       // censored readings
 	ColZero     = inkSoft   // zero lines

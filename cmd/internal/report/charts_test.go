@@ -428,3 +428,44 @@ func TestSeriesMissingFromRunComputedNow(t *testing.T) {
 		}
 	}
 }
+
+// The dotted Sen line has the stored Sen slope and passes through the
+// median time and median value of the readings (medians taken here in SQL).
+func TestSenLineThroughMedians(t *testing.T) {
+	s := openDemo(t)
+	for _, st := range []string{"VOR-W01", censoredStation} {
+		res := writeReport(t, s, Options{Selection: Selection{Stations: []string{st}}})
+		var id int64
+		var slope float64
+		if err := s.DB.QueryRow(`SELECT series_id, sen_slope_per_year FROM series_summaries ss JOIN series s ON s.id = ss.series_id
+			WHERE run_id = ? AND station_id = ?`, res.Run.ID, st).Scan(&id, &slope); err != nil {
+			t.Fatal(err)
+		}
+		var n int
+		var t0, t1 float64
+		if err := s.DB.QueryRow(`SELECT count(*), min(t), max(t) FROM readings WHERE series_id = ?`, id).Scan(&n, &t0, &t1); err != nil {
+			t.Fatal(err)
+		}
+		median := func(col string) float64 {
+			var m float64
+			q := `SELECT avg(x) FROM (SELECT ` + col + ` AS x FROM readings WHERE series_id = ? ORDER BY x LIMIT 2 - ? % 2 OFFSET (? - 1) / 2)`
+			if err := s.DB.QueryRow(q, id, n, n).Scan(&m); err != nil {
+				t.Fatal(err)
+			}
+			return m
+		}
+		tm, ym := median("t"), median("value")
+		page := readFile(t, filepath.Join(res.Dir, res.Pages[id]))
+		f := figures(t, page)["fig-readings"]
+		line := longest(f.strokes(hexColor(ColSen)))
+		if line == nil || len(line) != 2 {
+			t.Fatalf("%s: Sen line %v", st, line)
+		}
+		for i, tt := range []float64{t0, t1} {
+			want := ym + slope*(tt-tm)/secondsPerYear
+			if !near(line[i][0], f.xMap.to(tt), drawTol) || !near(line[i][1], f.yMap.to(want), drawTol) {
+				t.Errorf("%s: Sen line end %d at (%g, %g) pt, want (%g, %g)", st, i, line[i][0], line[i][1], f.xMap.to(tt), f.yMap.to(want))
+			}
+		}
+	}
+}

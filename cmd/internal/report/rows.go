@@ -30,6 +30,9 @@ func readingsCaption(d *seriesPlotData, info DrawInfo) string {
 	} else if d.line != nil {
 		b.WriteString(" Solid: the fitted trend.")
 	}
+	if senLine(d) != nil {
+		fmt.Fprintf(&b, " Dotted: the %s drawn through the median time and the median reading.", senName(d.s))
+	}
 	return b.String()
 }
 

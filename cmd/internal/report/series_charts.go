@@ -115,6 +115,11 @@ func readingsFigure(d *seriesPlotData, png bool) (*Figure, DrawInfo, error) {
 		p.Add(tl)
 		legend("fitted trend", tl)
 	}
+	if sen := senLine(d); sen != nil {
+		sl := &lineRuns{runs: [][]xy{sen}, line: draw.LineStyle{Color: ColSen, Width: vg.Points(1.4), Dashes: []vg.Length{vg.Points(1.5), vg.Points(1.5)}}}
+		p.Add(sl)
+		legend(senName(d.s)+" through the medians", sl)
+	}
 	// Markers.
 	t := d.times()
 	var flagged, lower, upper, cens []xy
@@ -157,6 +162,39 @@ func readingsFigure(d *seriesPlotData, png bool) (*Figure, DrawInfo, error) {
 	headroom(p, 0.06*float64(nLeg+1))
 	f, err := render(p, "readings", "readings of "+s.Station.ID+" "+s.Variable+" with the fitted trend", wideW, readingsH, png)
 	return f, info, err
+}
+
+// senLine is the stored Sen slope drawn through the median time and the
+// median value of the readings (a common way to place it; the slope is the
+// run's, the intercept only positions the line), from the first reading to
+// the last. Nil without a slope.
+func senLine(d *seriesPlotData) []xy {
+	slope := d.s.Sum.f("sen_slope_per_year")
+	n := len(d.rd.T)
+	if math.IsNaN(slope) || n < 2 {
+		return nil
+	}
+	tm, ym := medianOf(d.times()), medianOf(d.rd.V)
+	t0, t1 := float64(d.rd.T[0]), float64(d.rd.T[n-1])
+	return []xy{{t0, ym + slope*(t0-tm)/secondsPerYear}, {t1, ym + slope*(t1-tm)/secondsPerYear}}
+}
+
+func senName(s *Series) string {
+	if strings.HasPrefix(s.Sum.s("mk_method"), "censored") {
+		return "Akritas–Theil–Sen slope"
+	}
+	return "Sen slope"
+}
+
+// medianOf is the sample median (mean of the two middle values for even n).
+func medianOf(x []float64) float64 {
+	c := append([]float64(nil), x...)
+	sort.Float64s(c)
+	n := len(c)
+	if n%2 == 1 {
+		return c[n/2]
+	}
+	return (c[n/2-1] + c[n/2]) / 2
 }
 
 // flagSummary lists the qualifier counts stored with the summary, or "".
