@@ -51,3 +51,30 @@ func TotalChanges(ctx context.Context, q Querier) (int64, error) {
 	err := q.QueryRowContext(ctx, `SELECT total_changes()`).Scan(&n)
 	return n, err
 }
+
+// StationIDs lists the ids of the stored stations in order.
+func StationIDs(ctx context.Context, q Querier) ([]string, error) {
+	return stringColumn(ctx, q, `SELECT id FROM stations ORDER BY id`)
+}
+
+// Variables lists the distinct variables of the stored series in order.
+func Variables(ctx context.Context, q Querier) ([]string, error) {
+	return stringColumn(ctx, q, `SELECT DISTINCT variable FROM series ORDER BY variable`)
+}
+
+func stringColumn(ctx context.Context, q Querier, query string) ([]string, error) {
+	rows, err := q.QueryContext(ctx, query)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []string
+	for rows.Next() {
+		var v string
+		if err := rows.Scan(&v); err != nil {
+			return nil, err
+		}
+		out = append(out, v)
+	}
+	return out, rows.Err()
+}

@@ -197,6 +197,7 @@ func TestDemoRefusesToOverwrite(t *testing.T) {
 	}
 	// A user's store with one station is refused too, and left as it was.
 	user := filepath.Join(t.TempDir(), "user.db")
+	initStore(t, user)
 	if _, e, c := runBin(t, "", "query", "--db", user, "--write", "INSERT INTO stations(id) VALUES ('MINE')"); c != 0 {
 		t.Fatalf("insert: exit %d: %s", c, e)
 	}

@@ -36,7 +36,9 @@ below the laboratory's reporting limit), 5 to 15 years of record, about a millio
 qualifier flags and site metadata. Then print a short tour of example queries
 with their results.
 
-The same seed always gives the same store. An existing store that holds data
+The store is --db, else ./demo.db ($TRENDSQL_DB does not apply here, so the
+demo never lands in the store of your own data); it carries a mark, and
+init and import warn when pointed at it. The same seed always gives the same store. An existing store that holds data
 is replaced only with --force, except an untouched demo store (only demo
 batches, no summary runs), which is rebuilt; a file that is not a trendsql
 store is never replaced.`,
@@ -49,9 +51,25 @@ store is never replaced.`,
 	return c
 }
 
+// DemoPath is the store demo builds without --db. It is never the default
+// store of the other commands, and $TRENDSQL_DB does not apply to demo, so
+// the invented basin cannot land in a user's own store by default.
+const DemoPath = "demo.db"
+
+// demoPath is --db, else DemoPath.
+func (e *env) demoPath() string {
+	if e.dbFlag != "" {
+		return e.dbFlag
+	}
+	return DemoPath
+}
+
 // runDemo builds the demo store and prints the tour.
 func runDemo(ctx context.Context, e *env, o demoOptions) error {
-	path := e.dbPath()
+	path := e.demoPath()
+	if err := demodata.Check(ctx, path, o.force); err != nil {
+		return wordDemoError(err)
+	}
 	fmt.Fprintf(e.errw, "building the demo store %s ...\n", path)
 	began := time.Now()
 	sum, err := demodata.Create(ctx, path, demodata.Options{Seed: o.seed}, o.force)
@@ -66,9 +84,9 @@ func runDemo(ctx context.Context, e *env, o demoOptions) error {
 	if o.noTour {
 		return nil
 	}
-	s, err := e.open(ctx, true)
+	s, err := store.Open(ctx, path, store.Options{ReadOnly: true})
 	if err != nil {
-		return err
+		return wordOpenError(err)
 	}
 	defer s.Close()
 	return runTour(ctx, s, e.out)

@@ -279,7 +279,7 @@ func importDelimiter(s string) (byte, error) {
 	return s[0], nil
 }
 
-// checkImportFile fails early, before a store is created, when the file
+// checkImportFile fails early, before the store is opened, when the file
 // cannot be read.
 func checkImportFile(path string) error {
 	if path == csvimport.StdinPath {
@@ -414,6 +414,7 @@ func runImport(ctx context.Context, e *env, path string, load func(*store.Store,
 		return err
 	}
 	defer s.Close()
+	e.warnIfDemo(ctx, s)
 	bar := newImportBar(e.errw, path)
 	summary, err := load(s, bar.update)
 	bar.done()

@@ -13,6 +13,7 @@ import (
 func TestImportCmdCensoredMissingOffset(t *testing.T) {
 	dir := t.TempDir()
 	db := filepath.Join(dir, "lab.db")
+	initStore(t, db)
 	file := filepath.Join(dir, "tp.csv")
 	text := "station,time,value,remark\n" +
 		"P1,2021-01-05 09:00,<5,\n" +
@@ -43,6 +44,7 @@ func TestImportCmdCensoredMissingOffset(t *testing.T) {
 
 	// Censoring turned off: the censored rows are rejected with the reason.
 	db2 := filepath.Join(dir, "off.db")
+	initStore(t, db2)
 	_, errs, code = importRunMain(t, "--db", db2, "import", "readings", "--variable", "tp", "--censor-col", "remark", "--reject-censored", file)
 	if code != 0 || !strings.Contains(errs, "3 stored, 3 rejected") {
 		t.Errorf("--reject-censored: exit %d, %q", code, errs)

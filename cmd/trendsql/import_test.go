@@ -34,6 +34,7 @@ func importStoreCheck(t *testing.T, db string) *store.Store {
 
 func TestImportCmdStationsAndReadings(t *testing.T) {
 	db := filepath.Join(t.TempDir(), "r.db")
+	initStore(t, db)
 	out, errs, code := importRunMain(t, "--db", db, "import", "stations", importFixture("stations.csv"))
 	if code != 0 || out != "" {
 		t.Fatalf("stations: code %d, stdout %q, stderr %q", code, out, errs)
@@ -100,6 +101,7 @@ func TestImportCmdStationsAndReadings(t *testing.T) {
 
 func TestImportCmdDelimiterDecimalCommaTZ(t *testing.T) {
 	db := filepath.Join(t.TempDir(), "r.db")
+	initStore(t, db)
 	_, errs, code := importRunMain(t, "--db", db, "import", "readings", "--variable", "temp", "--delimiter", ";",
 		"--decimal-comma", "--tz", "America/New_York", importFixture("decimal_comma.csv"))
 	if code != 0 || !strings.Contains(errs, "3 stored, 1 rejected") {
@@ -156,6 +158,7 @@ func TestImportCmdUsageErrors(t *testing.T) {
 	if _, err := os.Stat(db); !os.IsNotExist(err) {
 		t.Errorf("a failed flag check created the store (stat: %v)", err)
 	}
+	initStore(t, db)
 	if _, errs, code := importRunMain(t, "--db", db, "import", "readings", good); code != ExitFailed ||
 		!strings.Contains(errs, "readings_good.csv line 1: no variable") || strings.Count(errs, "\n") != 1 {
 		t.Errorf("no variable: exit %d, %q", code, errs)
@@ -168,6 +171,7 @@ func TestImportCmdUsageErrors(t *testing.T) {
 func TestImportCmdHeaderErrorsNameFlags(t *testing.T) {
 	dir := t.TempDir()
 	db := filepath.Join(dir, "r.db")
+	initStore(t, db)
 	write := func(name, text string) string {
 		p := filepath.Join(dir, name)
 		if err := os.WriteFile(p, []byte(text), 0o644); err != nil {
@@ -242,6 +246,8 @@ func TestImportCmdStdin(t *testing.T) {
 		t.Fatal(err)
 	}
 	dbStdin, dbFile := filepath.Join(dir, "stdin.db"), filepath.Join(dir, "file.db")
+	initStore(t, dbStdin)
+	initStore(t, dbFile)
 	errs, code := runIn(string(stations), "--db", dbStdin, "import", "stations", "-")
 	if code != 0 || !strings.HasPrefix(errs, "stdin → batch 1: 3 rows read, 3 new") {
 		t.Fatalf("stations from stdin: exit %d, %q", code, errs)
@@ -300,5 +306,15 @@ func TestImportCmdStdin(t *testing.T) {
 	errs, code = runIn("when,level\n2024-01-01,1\n", "--db", dbStdin, "import", "readings", "--variable", "level", "-")
 	if code != ExitFailed || !strings.Contains(errs, "stdin line 1") {
 		t.Errorf("bad stdin: exit %d, %q", code, errs)
+	}
+}
+
+// initStore creates a store at path with `trendsql init` (no other command
+// creates one).
+func initStore(t *testing.T, path string) {
+	t.Helper()
+	var out, errw bytes.Buffer
+	if code := Main([]string{"init", "--db", path}, strings.NewReader(""), &out, &errw); code != 0 {
+		t.Fatalf("init %s: exit %d: %s", path, code, errw.String())
 	}
 }

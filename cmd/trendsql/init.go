@@ -20,7 +20,7 @@ func newInitCmd(e *env) *cobra.Command {
 
 // runInit creates or migrates the store and reports its schema version.
 func runInit(ctx context.Context, e *env) error {
-	s, err := e.open(ctx, false)
+	s, err := e.create(ctx)
 	if err != nil {
 		return err
 	}
@@ -29,6 +29,7 @@ func runInit(ctx context.Context, e *env) error {
 	if err != nil {
 		return err
 	}
+	e.warnIfDemo(ctx, s)
 	fmt.Fprintf(e.errw, "store %s ready (schema version %d)\n", s.Path, cur)
 	return nil
 }

@@ -5,11 +5,13 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"os"
 	"strings"
 
 	"github.com/spf13/cobra"
 
 	"trendsql/store"
+	"trendsql/store/demodata"
 )
 
 // Exit codes (documented in README.md).
@@ -46,17 +48,41 @@ type env struct {
 
 func (e *env) dbPath() string { return store.ResolvePath(e.dbFlag) }
 
+// open opens the store at the selected path, which must exist: only init
+// and demo create a store, so a mistyped path fails instead of leaving an
+// empty store behind.
 func (e *env) open(ctx context.Context, readOnly bool) (*store.Store, error) {
-	s, err := store.Open(ctx, e.dbPath(), store.Options{ReadOnly: readOnly})
+	return e.openWith(ctx, store.Options{ReadOnly: readOnly})
+}
+
+func (e *env) openWith(ctx context.Context, opt store.Options) (*store.Store, error) {
+	path := e.dbPath()
+	if _, err := os.Stat(path); errors.Is(err, os.ErrNotExist) {
+		return nil, wordOpenError(fmt.Errorf("open %s: %w", path, store.ErrNoStore))
+	}
+	s, err := store.Open(ctx, path, opt)
 	return s, wordOpenError(err)
+}
+
+// create opens the store writable, creating it when it does not exist.
+func (e *env) create(ctx context.Context) (*store.Store, error) {
+	s, err := store.Open(ctx, e.dbPath(), store.Options{})
+	return s, wordOpenError(err)
+}
+
+// warnIfDemo warns on stderr when s is the demo store: its readings are
+// invented, and a user's own data belong in a store of their own.
+func (e *env) warnIfDemo(ctx context.Context, s *store.Store) {
+	if demo, err := demodata.IsDemo(ctx, s.DB); err == nil && demo {
+		fmt.Fprintf(e.errw, "warning: %s is the demo store built by `trendsql demo` (invented readings of an invented basin); keep your own data in a store of their own (`trendsql init --db FILE`)\n", s.Path)
+	}
 }
 
 // openForSQL opens the store for SQL typed by the user (query, shell):
 // read-only unless write; with write, the PRAGMAs that switch off a safety
 // of the store stay refused unless unsafePragmas.
 func (e *env) openForSQL(ctx context.Context, write, unsafePragmas bool) (*store.Store, error) {
-	s, err := store.Open(ctx, e.dbPath(), store.Options{ReadOnly: !write, UserSQL: write, AllowUnsafePragmas: unsafePragmas})
-	return s, wordOpenError(err)
+	return e.openWith(ctx, store.Options{ReadOnly: !write, UserSQL: write, AllowUnsafePragmas: unsafePragmas})
 }
 
 // commands holds the constructor of every subcommand. Each command's file
@@ -80,6 +106,10 @@ review govern decisions about water supply and flood risk.`,
 		SilenceUsage:  true,
 		SilenceErrors: true,
 	}
+	// --version prints what the version command prints.
+	root.Version = versionString()
+	root.SetVersionTemplate(versionLine() + "\n")
+	root.Flags().Bool("version", false, "print the trendsql version (as `trendsql version`)")
 	root.PersistentFlags().StringVar(&e.dbFlag, "db", "", "store path (default $"+store.EnvDB+", else ./"+store.DefaultPath+")")
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		if c.HasParent() {

@@ -140,6 +140,9 @@ func sqlError(all string, st statement, err error) error {
 	if store.IsNotAuthorized(err) {
 		msg += guardHint
 	}
+	if strings.Contains(msg, "attempt to write a readonly database") {
+		msg += readOnlyHint
+	}
 	if m := nearRE.FindStringSubmatch(msg); m != nil && m[1] != "" {
 		if k := strings.Index(st.text, m[1]); k >= 0 {
 			pos := st.offset + k
@@ -155,3 +158,6 @@ const unsafePragmasUsage = "with --write, also allow the PRAGMAs that switch off
 
 // guardHint explains a statement refused by the store's guard.
 const guardHint = ` (refused by trendsql: without --write the store allows no ATTACH, DETACH, VACUUM, PRAGMA that sets a value, or load_extension; with --write the PRAGMAs that switch off a safety of the store need --allow-unsafe-pragmas)`
+
+// readOnlyHint explains a write refused because the store is open read-only.
+const readOnlyHint = " (the store is open read-only: add --write to change it)"

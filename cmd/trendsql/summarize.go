@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"strings"
 	"time"
 
 	"github.com/schollz/progressbar/v3"
@@ -13,6 +14,7 @@ import (
 
 	"trendsql/sqlfuncs/stats"
 	"trendsql/sqlfuncs/timefmt"
+	"trendsql/store"
 	"trendsql/store/summaries"
 )
 
@@ -59,9 +61,11 @@ trend_detected rests on the rank-test p-value adjusted by Benjamini–Hochberg
 across all selected series; under --changed-only the unchanged series enter
 that adjustment with their stored p-values.
 
-Exit codes: 0 run stored; 1 run failed (recorded as failed); 2 usage error;
-3 nothing to do (e.g. --changed-only found no changes) or another run holds
-the store and --wait was not given.`,
+Exit codes: 0 run stored; 1 run failed (recorded as failed), or no store
+at --db; 2 usage error, including a --station or --variable the store does
+not know (the message names the closest known ones); 3 nothing to do
+(e.g. --changed-only found no changes) or another run holds the store and
+--wait was not given.`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error { return runSummarize(cmd.Context(), e, o) },
 	}
@@ -145,6 +149,9 @@ func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {
 		return err
 	}
 	defer s.Close()
+	if err := checkSelection(ctx, s, o); err != nil {
+		return err
+	}
 
 	var bar *progressbar.ProgressBar
 	if !o.quiet && isTerminalWriter(e.errw) {
@@ -190,4 +197,29 @@ func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {
 func isTerminalWriter(w any) bool {
 	f, ok := w.(*os.File)
 	return ok && term.IsTerminal(int(f.Fd()))
+}
+
+// checkSelection refuses (exit code 2) a --station or --variable that names
+// nothing in the store, so a typo in a scheduled job is not taken for
+// "nothing to do"; the message offers the closest known names.
+func checkSelection(ctx context.Context, s *store.Store, o summarizeOptions) error {
+	var msgs []string
+	if len(o.stations) > 0 {
+		ids, err := store.StationIDs(ctx, s.DB)
+		if err != nil {
+			return err
+		}
+		msgs = append(msgs, unknownNames("--station", "station", o.stations, ids)...)
+	}
+	if len(o.variables) > 0 {
+		vars, err := store.Variables(ctx, s.DB)
+		if err != nil {
+			return err
+		}
+		msgs = append(msgs, unknownNames("--variable", "variable", o.variables, vars)...)
+	}
+	if len(msgs) > 0 {
+		return usageErr("summarize: %s", strings.Join(msgs, "; "))
+	}
+	return nil
 }

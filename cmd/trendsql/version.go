@@ -35,8 +35,14 @@ func newVersionCmd(e *env) *cobra.Command {
 	}
 }
 
-// runVersion prints the version line: release, Go, SQLite driver, platform.
+// runVersion prints the version line.
 func runVersion(e *env) error {
+	_, err := fmt.Fprintln(e.out, versionLine())
+	return err
+}
+
+// versionLine is the release, Go, SQLite driver and platform.
+func versionLine() string {
 	sqliteVersion := "?"
 	if bi, ok := debug.ReadBuildInfo(); ok {
 		for _, d := range bi.Deps {
@@ -45,6 +51,5 @@ func runVersion(e *env) error {
 			}
 		}
 	}
-	_, err := fmt.Fprintf(e.out, "trendsql %s (%s, modernc.org/sqlite %s, %s/%s)\n", versionString(), runtime.Version(), sqliteVersion, runtime.GOOS, runtime.GOARCH)
-	return err
+	return fmt.Sprintf("trendsql %s (%s, modernc.org/sqlite %s, %s/%s)", versionString(), runtime.Version(), sqliteVersion, runtime.GOOS, runtime.GOARCH)
 }

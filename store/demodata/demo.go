@@ -197,24 +197,9 @@ func Build(ctx context.Context, s *store.Store, opt Options) (Summary, error) {
 // stations, readings or import batches is replaced only when force is set; a
 // file that is not a trendsql store is never replaced.
 func Create(ctx context.Context, path string, opt Options, force bool) (Summary, error) {
-	empty, err := storeIsEmpty(ctx, path)
+	empty, replacedDemo, err := check(ctx, path, force)
 	if err != nil {
 		return Summary{}, err
-	}
-	if !empty {
-		if err := store.CheckNotInUse(ctx, path); err != nil {
-			return Summary{}, fmt.Errorf("demo: %w; refusing to replace it", err)
-		}
-	}
-	replacedDemo := false
-	if !empty && !force {
-		// An untouched demo store (only generated batches, no summary runs)
-		// holds nothing a user made: rebuilding it is safe, so running the
-		// README's first command twice works.
-		if demoOnly, _ := storeIsUntouchedDemo(ctx, path); !demoOnly {
-			return Summary{}, fmt.Errorf("demo: %s: %w; refusing to overwrite it", path, ErrStoreNotEmpty)
-		}
-		replacedDemo = true
 	}
 	dir, base := filepath.Split(path)
 	if dir == "" {
@@ -270,6 +255,43 @@ func Create(ctx context.Context, path string, opt Options, force bool) (Summary,
 	ok = true
 	sum.ReplacedDemo = replacedDemo
 	return sum, nil
+}
+
+// Check returns the refusal Create would return for path, or nil when
+// Create would build the demo store there; it changes nothing.
+func Check(ctx context.Context, path string, force bool) error {
+	_, _, err := check(ctx, path, force)
+	return err
+}
+
+// check is Check, and reports whether path holds no store data (empty) and
+// whether it is an untouched demo store that Create would replace.
+func check(ctx context.Context, path string, force bool) (empty, replacesDemo bool, err error) {
+	empty, err = storeIsEmpty(ctx, path)
+	if err != nil || empty {
+		return empty, false, err
+	}
+	if err := store.CheckNotInUse(ctx, path); err != nil {
+		return false, false, fmt.Errorf("demo: %w; refusing to replace it", err)
+	}
+	if force {
+		return false, false, nil
+	}
+	// An untouched demo store (only generated batches, no summary runs)
+	// holds nothing a user made: rebuilding it is safe, so running the
+	// README's first command twice works.
+	if demoOnly, _ := storeIsUntouchedDemo(ctx, path); !demoOnly {
+		return false, false, fmt.Errorf("demo: %s: %w; refusing to overwrite it", path, ErrStoreNotEmpty)
+	}
+	return false, true, nil
+}
+
+// IsDemo reports whether a store holds the demo build: its mark is the
+// import batch the demo records with source Source, which no import writes.
+func IsDemo(ctx context.Context, q store.Querier) (bool, error) {
+	var n int
+	err := q.QueryRowContext(ctx, `SELECT EXISTS (SELECT 1 FROM import_batches WHERE source = ?)`, Source).Scan(&n)
+	return n == 1, err
 }
 
 // storeIsUntouchedDemo reports whether the store at path holds only what an

@@ -1,0 +1,129 @@
+package main
+
+// In-process tests of what the commands say: a store is created only by
+// init and demo, selections name unknown stations and variables, the demo
+// store is recognised, and read-only refusals say how to write.
+
+import (
+	"bytes"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// runIn runs the CLI in this process with stdin and returns stdout,
+// stderr and the exit code.
+func runIn(stdin string, args ...string) (string, string, int) {
+	var out, errw bytes.Buffer
+	code := Main(args, strings.NewReader(stdin), &out, &errw)
+	return out.String(), errw.String(), code
+}
+
+func TestOnlyInitAndDemoCreateAStore(t *testing.T) {
+	dir := t.TempDir()
+	csvFile := filepath.Join(dir, "r.csv")
+	if err := os.WriteFile(csvFile, []byte("station,time,value\nA,2021-01-01,1\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	missing := filepath.Join(dir, "typo.db")
+	for _, args := range [][]string{
+		{"summarize"},
+		{"import", "readings", "--variable", "x", csvFile},
+		{"import", "stations", csvFile},
+		{"query", "--write", "SELECT 1"},
+		{"query", "SELECT 1"},
+		{"shell", "--write"},
+	} {
+		_, errs, code := runIn("", append([]string{"--db", missing}, args...)...)
+		if code != ExitFailed || !strings.Contains(errs, missing) || !strings.Contains(errs, "trendsql init") {
+			t.Errorf("%v on a missing store: exit %d, stderr %q; want exit 1 naming the path and init", args, code, errs)
+		}
+		if _, err := os.Stat(missing); err == nil {
+			t.Fatalf("%v created %s", args, missing)
+		}
+	}
+	if _, errs, code := runIn("", "--db", missing, "init"); code != 0 || !strings.Contains(errs, "ready") {
+		t.Fatalf("init: exit %d, %q", code, errs)
+	}
+	if _, err := os.Stat(missing); err != nil {
+		t.Errorf("init did not create the store: %v", err)
+	}
+}
+
+func TestSummarizeUnknownSelectionIsUsageError(t *testing.T) {
+	db := demoCopy(t)
+	_, errs, code := runIn("", "--db", db, "summarize", "--station", "VOR-W99")
+	if code != ExitUsage || !strings.Contains(errs, "--station VOR-W99: no such station (closest: VOR-W09") {
+		t.Errorf("unknown station: exit %d, stderr %q", code, errs)
+	}
+	_, errs, code = runIn("", "--db", db, "summarize", "--variable", "groundwater_levle", "--station", "VOR-W01")
+	if code != ExitUsage || !strings.Contains(errs, "--variable groundwater_levle: no such variable (closest: groundwater_level)") {
+		t.Errorf("misspelt variable: exit %d, stderr %q", code, errs)
+	}
+	if strings.Count(errs, "\n") != 1 {
+		t.Errorf("want one line, got %q", errs)
+	}
+	// Known names that match nothing together stay "nothing to do".
+	_, errs, code = runIn("", "--db", db, "summarize", "--variable", "nitrate_n", "--station", "VOR-G01")
+	if code != ExitNothing || !strings.Contains(errs, "no series match") {
+		t.Errorf("known names, no series: exit %d, stderr %q", code, errs)
+	}
+	if n := queryInt(t, readOnly(t, db), `SELECT count(*) FROM summary_runs`); n != 0 {
+		t.Errorf("refused selections recorded %d runs", n)
+	}
+}
+
+func TestDemoStoreIsMarkedAndRecognised(t *testing.T) {
+	t.Setenv("TRENDSQL_DB", filepath.Join(t.TempDir(), "mine.db"))
+	if p := (&env{}).demoPath(); p != DemoPath {
+		t.Errorf("demo without --db builds %q, want %q whatever TRENDSQL_DB says", p, DemoPath)
+	}
+	db := demoCopy(t)
+	_, errs, code := runIn("", "--db", db, "init")
+	if code != 0 || !strings.Contains(errs, "warning: "+db+" is the demo store") {
+		t.Errorf("init on the demo store: exit %d, stderr %q; want a warning", code, errs)
+	}
+	file := filepath.Join(t.TempDir(), "r.csv")
+	if err := os.WriteFile(file, []byte("station,time,value\nMY-1,2021-01-01,1\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, errs, code = runIn("", "--db", db, "import", "readings", "--variable", "stage", "--unit", "m", file)
+	if code != 0 || !strings.Contains(errs, "is the demo store") {
+		t.Errorf("import into the demo store: exit %d, stderr %q; want a warning", code, errs)
+	}
+	// A store of one's own draws no warning.
+	own := filepath.Join(t.TempDir(), "own.db")
+	if _, errs, _ := runIn("", "--db", own, "init"); strings.Contains(errs, "warning") {
+		t.Errorf("init of a new store warns: %q", errs)
+	}
+	// The demo refuses a user's store before announcing a build.
+	if _, errs, code := runIn("", "--db", own, "query", "--write", "INSERT INTO stations(id) VALUES ('MINE')"); code != 0 {
+		t.Fatal(errs)
+	}
+	_, errs, code = runIn("", "--db", own, "demo", "--no-tour")
+	if code != ExitFailed || strings.Contains(errs, "building") || !strings.Contains(errs, "refusing") {
+		t.Errorf("demo over a user store: exit %d, stderr %q; want a refusal and no announcement", code, errs)
+	}
+}
+
+func TestReadOnlyRefusalSaysWrite(t *testing.T) {
+	db := filepath.Join(t.TempDir(), "ro.db")
+	initStore(t, db)
+	_, errs, code := runIn("", "--db", db, "query", "INSERT INTO stations(id) VALUES ('S1')")
+	if code != ExitFailed || !strings.Contains(errs, "add --write") {
+		t.Errorf("write without --write: exit %d, stderr %q", code, errs)
+	}
+	_, errs, _ = runIn("INSERT INTO stations(id) VALUES ('S1');\n", "--db", db, "shell")
+	if !strings.Contains(errs, "add --write") {
+		t.Errorf("shell write without --write: stderr %q", errs)
+	}
+}
+
+func TestVersionFlag(t *testing.T) {
+	byFlag, _, code := runIn("", "--version")
+	byCmd, _, code2 := runIn("", "version")
+	if code != 0 || code2 != 0 || byFlag != byCmd || !strings.HasPrefix(byFlag, "trendsql ") {
+		t.Errorf("--version %q (exit %d), version %q (exit %d)", byFlag, code, byCmd, code2)
+	}
+}
