@@ -208,7 +208,7 @@ func (a *censoredAgg) WindowValue(ctx *sqlite.FunctionContext) (v driver.Value, 
 	for i, p := range perm {
 		r.T[i], r.Y[i], r.C[i] = a.t[p], a.y[p], a.c[p]
 		if i > 0 && r.T[i] == r.T[i-1] {
-			return nil, fmt.Errorf("%s: two rows have the same time %s (t = %v); each time may appear once per group", a.spec.doc.Name, timefmt.FormatUTC(int64(r.T[i])), r.T[i])
+			return nil, fmt.Errorf("%s: two rows have the same time %s (t = %s); each time may appear once per group, so a group holds one series", a.spec.doc.Name, timefmt.FormatUTC(int64(r.T[i])), strconv.FormatFloat(r.T[i], 'f', -1, 64))
 		}
 	}
 	return a.spec.compute(r, a.opts)

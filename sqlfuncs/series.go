@@ -27,6 +27,7 @@ import (
 	"fmt"
 	"slices"
 	"sort"
+	"strconv"
 	"sync"
 
 	"modernc.org/sqlite"
@@ -292,7 +293,7 @@ func (a *seriesAgg) frame() (Rows, error) {
 	}
 	for i := 1; i < len(t); i++ {
 		if t[i] == t[i-1] {
-			return Rows{}, fmt.Errorf("%s: two rows have the same time %s (t = %v); each time may appear once per group", a.name(), timefmt.FormatUTC(int64(t[i])), t[i])
+			return Rows{}, fmt.Errorf("%s: two rows have the same time %s (t = %s); each time may appear once per group, so a group holds one series", a.name(), timefmt.FormatUTC(int64(t[i])), strconv.FormatFloat(t[i], 'f', -1, 64))
 		}
 	}
 	var missing []float64

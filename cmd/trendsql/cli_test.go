@@ -147,7 +147,7 @@ func TestDemoBuildsStoreAndPrintsTour(t *testing.T) {
 	if strings.Contains(demoStdout, "step failed") {
 		t.Errorf("a tour step failed:\n%s", demoStdout)
 	}
-	if n := strings.Count(demoStdout, " rows)\n") + strings.Count(demoStdout, "(1 row)\n"); n != len(steps) {
+	if n := strings.Count(demoStdout, "\n→ "); n != len(steps) {
 		t.Errorf("tour printed %d result tables for %d steps", n, len(steps))
 	}
 	lines := strings.Split(strings.TrimSpace(demoStdout), "\n")
@@ -236,7 +236,7 @@ func TestQueryTableFormat(t *testing.T) {
 	if len([]rune(lines[2])) != len([]rune(lines[3])) {
 		t.Errorf("rows not aligned:\n%s\n%s", lines[2], lines[3])
 	}
-	if lines[4] != "(2 rows)" {
+	if lines[4] != "→ 2 rows" {
 		t.Errorf("count line %q", lines[4])
 	}
 }
@@ -328,7 +328,7 @@ func TestFunctionsAndVersion(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("functions: exit %d: %s", code, errOut)
 	}
-	if !strings.Contains(out, "SIGNATURE") || !strings.Contains(out, "regr_slope(y, x)") {
+	if f := strings.Fields(strings.SplitN(out, "\n", 2)[0]); strings.Join(f, " ") != "name signature kind summary" || !strings.Contains(out, "regr_slope(y, x)") {
 		t.Errorf("functions output lacks the header or regr_slope:\n%s", out)
 	}
 	out, _, code = runBin(t, "", "functions", "--format", "json")

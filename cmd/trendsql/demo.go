@@ -126,7 +126,7 @@ func runTour(ctx context.Context, s *store.Store, out io.Writer) error {
 			fmt.Fprintf(out, "    %s\n", line)
 		}
 		fmt.Fprintln(out)
-		if err := runStatements(ctx, s, st.SQL, FormatTable, out); err != nil {
+		if err := runStatements(ctx, s, st.SQL, out, outputOptions{format: FormatTable, width: terminalWidth(out)}, nil); err != nil {
 			fmt.Fprintf(out, "(this step failed: %v)\n", err)
 			failed = append(failed, fmt.Errorf("tour step %d: %w", i+1, err))
 		}

@@ -4,17 +4,13 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"io"
 	"math"
 	"os"
-	"path/filepath"
 	"runtime/debug"
 	"strconv"
 	"strings"
-	"time"
 	_ "time/tzdata" // --tz works without a system zoneinfo
 
-	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/cobra"
 
 	"trendsql/sqlfuncs/timefmt"
@@ -23,9 +19,6 @@ import (
 )
 
 func init() { register(newImportCmd) }
-
-// importBarDelay is how long an import runs before a progress bar appears.
-const importBarDelay = 2 * time.Second
 
 // importOptions are the flags and the file of `import stations` and
 // `import readings`.
@@ -298,50 +291,6 @@ func checkImportFile(path string) error {
 	return nil
 }
 
-// importBar draws a progress bar on a terminal once an import has run for
-// importBarDelay; elsewhere it does nothing.
-type importBar struct {
-	w     io.Writer
-	tty   bool
-	name  string
-	start time.Time
-	bar   *progressbar.ProgressBar
-}
-
-func newImportBar(w io.Writer, path string) *importBar {
-	return &importBar{w: w, tty: isTerminalWriter(w), name: filepath.Base(path), start: time.Now()}
-}
-
-func (b *importBar) update(p csvimport.Progress) {
-	if !b.tty || p.TotalBytes <= 0 {
-		return
-	}
-	if b.bar == nil {
-		if time.Since(b.start) < importBarDelay {
-			return
-		}
-		b.bar = progressbar.NewOptions64(p.TotalBytes,
-			progressbar.OptionSetWriter(b.w),
-			progressbar.OptionSetDescription(b.name),
-			progressbar.OptionShowBytes(true),
-			progressbar.OptionSetWidth(30),
-			progressbar.OptionThrottle(200*time.Millisecond),
-			progressbar.OptionSetPredictTime(true),
-			progressbar.OptionClearOnFinish(),
-		)
-	}
-	b.bar.Set64(p.Bytes)
-}
-
-// done removes the bar so the summary or error starts on a clean line.
-func (b *importBar) done() {
-	if b.bar != nil {
-		b.bar.Finish()
-		b.bar.Clear()
-		b.bar = nil
-	}
-}
-
 func importCount(n int64, one, many string) string {
 	if n == 1 {
 		return fmt.Sprintf("%d %s", n, one)
@@ -415,7 +364,7 @@ func runImport(ctx context.Context, e *env, path string, load func(*store.Store,
 	}
 	defer s.Close()
 	e.warnIfDemo(ctx, s)
-	bar := newImportBar(e.errw, path)
+	bar := newImportProgress(e.errw, path)
 	summary, err := load(s, bar.update)
 	bar.done()
 	if err != nil {

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"database/sql"
 	"encoding/csv"
 	"encoding/json"
@@ -12,180 +13,342 @@ import (
 	"unicode/utf8"
 )
 
-// Output formats for query results.
+// Output formats for results (query, shell, functions).
 const (
-	FormatTable = "table"
-	FormatCSV   = "csv"
-	FormatJSON  = "json"
+	FormatTable  = "table"  // aligned columns under a rule
+	FormatCSV    = "csv"    // RFC 4180, a header line, NULL as an empty field
+	FormatJSON   = "json"   // one array of objects, column order kept
+	FormatFields = "fields" // one field per line, rows one after another: for wide results
 )
 
-// nullMark is how the table format shows SQL NULL, distinct from any text.
+// formatNames lists the formats for flag help and messages.
+const formatNames = "table, csv, json or fields"
+
+// nullMark is how the table and fields formats show SQL NULL, distinct
+// from any text.
 const nullMark = "∅"
 
-// maxCell is the widest a table cell is drawn; longer text is cut with "…".
-const maxCell = 60
+// cutMark ends a table cell cut to fit the terminal.
+const cutMark = "…"
 
-func validFormat(f string) bool { return f == FormatTable || f == FormatCSV || f == FormatJSON }
+func validFormat(f string) bool {
+	return f == FormatTable || f == FormatCSV || f == FormatJSON || f == FormatFields
+}
 
-// writeRows renders a result set in the chosen format and returns the row count.
-func writeRows(w io.Writer, rows *sql.Rows, format string) (int, error) {
+// outputOptions says how results are rendered.
+type outputOptions struct {
+	format string
+	// width is the terminal width the table format fits its rows to,
+	// cutting the widest cells (marked with cutMark); 0 means no limit and
+	// no cell is ever cut (output to a pipe or a file).
+	width int
+	// nestJSON puts text values that are JSON objects or arrays (the JSON
+	// results of the SQL functions) into the json format as JSON, not as
+	// strings.
+	nestJSON bool
+}
+
+// rowSource is a result set: *sql.Rows, or rows built in memory.
+type rowSource interface {
+	Columns() ([]string, error)
+	Next() bool
+	Scan(dest ...any) error
+	Err() error
+}
+
+var _ rowSource = (*sql.Rows)(nil)
+
+// writeRows renders a result set and returns the row count. A statement
+// without result columns prints nothing.
+func writeRows(w io.Writer, rows rowSource, o outputOptions) (int, error) {
 	cols, err := rows.Columns()
 	if err != nil {
 		return 0, err
+	}
+	if len(cols) == 0 {
+		for rows.Next() {
+		}
+		return 0, rows.Err()
 	}
 	vals := make([]any, len(cols))
 	ptrs := make([]any, len(cols))
 	for i := range vals {
 		ptrs[i] = &vals[i]
 	}
-	var n int
-	switch format {
-	case FormatCSV:
-		cw := csv.NewWriter(w)
-		if len(cols) > 0 {
-			cw.Write(cols)
+	next := func() (bool, error) {
+		if !rows.Next() {
+			return false, rows.Err()
 		}
-		rec := make([]string, len(cols))
-		for rows.Next() {
-			if err := rows.Scan(ptrs...); err != nil {
-				return n, err
-			}
-			for i, v := range vals {
-				rec[i] = fullText(v, true)
-			}
-			cw.Write(rec)
-			n++
-		}
-		cw.Flush()
-		if err := cw.Error(); err != nil {
-			return n, err
-		}
-	case FormatJSON:
-		// One JSON array of objects; column order kept.
-		fmt.Fprint(w, "[")
-		for rows.Next() {
-			if err := rows.Scan(ptrs...); err != nil {
-				return n, err
-			}
-			if n > 0 {
-				fmt.Fprint(w, ",")
-			}
-			fmt.Fprint(w, "\n  {")
-			for i, c := range cols {
-				if i > 0 {
-					fmt.Fprint(w, ", ")
-				}
-				k, _ := json.Marshal(c)
-				fmt.Fprintf(w, "%s: %s", k, jsonValue(vals[i]))
-			}
-			fmt.Fprint(w, "}")
-			n++
-		}
-		if n > 0 {
-			fmt.Fprint(w, "\n")
-		}
-		fmt.Fprintln(w, "]")
-	default:
-		// Widths come from the first tableBuffer rows; later rows stream
-		// with those widths (longer cells are cut with "…"), so a huge
-		// result does not have to fit in memory.
-		var table [][]string
-		var numeric = make([]bool, len(cols))
-		for i := range numeric {
-			numeric[i] = true
-		}
-		var width []int
-		for rows.Next() {
-			if err := rows.Scan(ptrs...); err != nil {
-				return n, err
-			}
-			rec := make([]string, len(cols))
-			for i, v := range vals {
-				rec[i] = tableCell(v)
-				switch v.(type) {
-				case int64, float64, nil:
-				default:
-					if width == nil {
-						numeric[i] = false
-					}
-				}
-			}
-			n++
-			if width != nil {
-				drawRow(w, rec, width, numeric, false)
-				continue
-			}
-			table = append(table, rec)
-			if len(table) == tableBuffer {
-				width = drawTable(w, cols, table, numeric)
-				table = nil
-			}
-		}
-		if err := rows.Err(); err != nil {
-			return n, err
-		}
-		if len(cols) > 0 {
-			if width == nil {
-				drawTable(w, cols, table, numeric)
-			}
-			fmt.Fprintf(w, "(%d row%s)\n", n, plural(n))
-		}
+		return true, rows.Scan(ptrs...)
 	}
-	return n, rows.Err()
+	switch o.format {
+	case FormatCSV:
+		return writeCSV(w, cols, vals, next)
+	case FormatJSON:
+		return writeJSON(w, cols, vals, next, o.nestJSON)
+	case FormatFields:
+		return writeFields(w, cols, vals, next)
+	default:
+		return writeTable(w, cols, vals, next, o.width)
+	}
 }
 
-func plural(n int) string {
-	if n == 1 {
-		return ""
+func writeCSV(w io.Writer, cols []string, vals []any, next func() (bool, error)) (int, error) {
+	cw := csv.NewWriter(w)
+	cw.Write(cols)
+	rec := make([]string, len(cols))
+	n := 0
+	for {
+		ok, err := next()
+		if err != nil || !ok {
+			cw.Flush()
+			if err == nil {
+				err = cw.Error()
+			}
+			return n, err
+		}
+		for i, v := range vals {
+			rec[i] = fullText(v, true)
+		}
+		cw.Write(rec)
+		n++
 	}
-	return "s"
+}
+
+func writeJSON(w io.Writer, cols []string, vals []any, next func() (bool, error), nest bool) (int, error) {
+	keys := make([]string, len(cols))
+	for i, c := range cols {
+		k, _ := json.Marshal(c)
+		keys[i] = string(k)
+	}
+	var b strings.Builder
+	b.WriteString("[")
+	n := 0
+	for {
+		ok, err := next()
+		if err != nil {
+			return n, err
+		}
+		if !ok {
+			break
+		}
+		if n > 0 {
+			b.WriteString(",")
+		}
+		b.WriteString("\n  {")
+		for i := range cols {
+			if i > 0 {
+				b.WriteString(", ")
+			}
+			b.WriteString(keys[i] + ": " + jsonValue(vals[i], nest))
+		}
+		b.WriteString("}")
+		n++
+		if b.Len() > 1<<16 {
+			if _, err := io.WriteString(w, b.String()); err != nil {
+				return n, err
+			}
+			b.Reset()
+		}
+	}
+	if n > 0 {
+		b.WriteString("\n")
+	}
+	b.WriteString("]\n")
+	_, err := io.WriteString(w, b.String())
+	return n, err
+}
+
+// writeFields prints each row as one "name  value" line per column under a
+// numbered heading: wide results read top to bottom instead of running off
+// the screen. Values are never cut; line ends inside a value are shown
+// as ⏎.
+func writeFields(w io.Writer, cols []string, vals []any, next func() (bool, error)) (int, error) {
+	nameWidth := 0
+	for _, c := range cols {
+		nameWidth = max(nameWidth, utf8.RuneCountInString(c))
+	}
+	n := 0
+	for {
+		ok, err := next()
+		if err != nil {
+			return n, err
+		}
+		if !ok {
+			break
+		}
+		n++
+		var b strings.Builder
+		fmt.Fprintf(&b, "── row %d\n", n)
+		for i, c := range cols {
+			b.WriteString(c + strings.Repeat(" ", nameWidth-utf8.RuneCountInString(c)) + "  " + displayText(vals[i]) + "\n")
+		}
+		if _, err := io.WriteString(w, b.String()); err != nil {
+			return n, err
+		}
+	}
+	_, err := io.WriteString(w, rowCount(n, false)+"\n")
+	return n, err
 }
 
 // tableBuffer is how many rows the table format reads before fixing the
 // column widths.
 const tableBuffer = 5000
 
-// drawTable prints the header, rule and rows, and returns the column widths.
-func drawTable(w io.Writer, cols []string, table [][]string, numeric []bool) []int {
-	width := make([]int, len(cols))
-	for i, c := range cols {
-		width[i] = utf8.RuneCountInString(c)
+// minCutWidth is the narrowest a cell is cut to when fitting a terminal.
+const minCutWidth = 8
+
+// writeTable prints aligned columns: widths come from the first tableBuffer
+// rows; later rows stream with those widths (a longer later cell overflows
+// its column, and is cut only under a terminal width), so a huge result
+// does not have to fit in memory.
+func writeTable(w io.Writer, cols []string, vals []any, next func() (bool, error), width int) (int, error) {
+	t := &table{w: w, cols: cols, numeric: make([]bool, len(cols)), maxWidth: width}
+	for i := range t.numeric {
+		t.numeric[i] = true
 	}
-	for _, r := range table {
-		for i, c := range r {
-			if l := utf8.RuneCountInString(c); l > width[i] {
-				width[i] = l
+	var buffered [][]string
+	n := 0
+	for {
+		ok, err := next()
+		if err != nil {
+			return n, err
+		}
+		if !ok {
+			break
+		}
+		rec := make([]string, len(cols))
+		for i, v := range vals {
+			rec[i] = displayText(v)
+			switch v.(type) {
+			case int64, float64, nil:
+			default:
+				if t.width == nil {
+					t.numeric[i] = false
+				}
 			}
 		}
+		n++
+		if t.width != nil {
+			t.row(rec, false)
+			continue
+		}
+		buffered = append(buffered, rec)
+		if len(buffered) == tableBuffer {
+			t.start(buffered)
+			buffered = nil
+		}
 	}
-	drawRow(w, cols, width, numeric, true)
-	rule := make([]string, len(cols))
-	for i := range cols {
-		rule[i] = strings.Repeat("─", width[i])
+	if t.width == nil {
+		t.start(buffered)
 	}
-	drawRow(w, rule, width, numeric, true)
-	for _, r := range table {
-		drawRow(w, r, width, numeric, false)
-	}
-	return width
+	_, err := io.WriteString(w, rowCount(n, t.cut)+"\n")
+	return n, err
 }
 
-// drawRow prints one row padded to width; numbers are right-aligned.
-func drawRow(w io.Writer, r []string, width []int, numeric []bool, header bool) {
+// rowCount is the line under a table or field list.
+func rowCount(n int, cut bool) string {
+	s := "→ " + plural(n, "row", "rows")
+	if n == 0 {
+		s = "→ no rows"
+	}
+	if cut {
+		s += " (cells ending in " + cutMark + " are cut to fit the terminal; --format csv or fields, or --out FILE, shows them whole)"
+	}
+	return s
+}
+
+// plural words a count: "1 row", "2 rows".
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return strconv.Itoa(n) + " " + many
+}
+
+// table draws rows with fixed column widths.
+type table struct {
+	w        io.Writer
+	cols     []string
+	numeric  []bool
+	maxWidth int   // terminal width to fit, 0 = none
+	width    []int // column widths, set by start
+	cut      bool  // a cell was cut
+}
+
+// drawTable prints a complete table (header, rule and rows) without a row
+// count, fitted to no terminal: the layout of the bench report.
+func drawTable(w io.Writer, cols []string, rows [][]string, numeric []bool) {
+	t := &table{w: w, cols: cols, numeric: numeric}
+	t.start(rows)
+}
+
+// start fixes the widths from the buffered rows and prints the header, the
+// rule and those rows.
+func (t *table) start(rows [][]string) {
+	t.width = make([]int, len(t.cols))
+	for i, c := range t.cols {
+		t.width[i] = utf8.RuneCountInString(c)
+	}
+	for _, r := range rows {
+		for i, c := range r {
+			t.width[i] = max(t.width[i], utf8.RuneCountInString(c))
+		}
+	}
+	if t.maxWidth > 0 {
+		t.fit()
+	}
+	t.row(t.cols, true)
+	rule := make([]string, len(t.cols))
+	for i := range t.cols {
+		rule[i] = strings.Repeat("─", t.width[i])
+	}
+	t.row(rule, true)
+	for _, r := range rows {
+		t.row(r, false)
+	}
+}
+
+// fit narrows the widest columns, one character at a time, until a row
+// fits maxWidth or every column is at minCutWidth.
+func (t *table) fit() {
+	total := 2 * (len(t.width) - 1)
+	for _, x := range t.width {
+		total += x
+	}
+	for total > t.maxWidth {
+		widest := 0
+		for i, x := range t.width {
+			if x > t.width[widest] {
+				widest = i
+			}
+		}
+		if t.width[widest] <= minCutWidth {
+			return
+		}
+		t.width[widest]--
+		total--
+	}
+}
+
+// row prints one row padded to the widths; numbers are right-aligned. Under
+// a terminal width a longer cell is cut and ends in cutMark.
+func (t *table) row(r []string, header bool) {
 	var b strings.Builder
 	for i, c := range r {
 		if i > 0 {
 			b.WriteString("  ")
 		}
 		l := utf8.RuneCountInString(c)
-		if l > width[i] {
+		if l > t.width[i] && t.maxWidth > 0 {
 			rs := []rune(c)
-			c = string(rs[:width[i]-1]) + "…"
-			l = width[i]
+			c = string(rs[:t.width[i]-1]) + cutMark
+			l = t.width[i]
+			t.cut = true
 		}
-		pad := strings.Repeat(" ", width[i]-l)
+		pad := strings.Repeat(" ", max(0, t.width[i]-l))
 		switch {
-		case numeric[i] && !header:
+		case t.numeric[i] && !header:
 			b.WriteString(pad + c)
 		case i == len(r)-1:
 			b.WriteString(c)
@@ -193,24 +356,19 @@ func drawRow(w io.Writer, r []string, width []int, numeric []bool, header bool) 
 			b.WriteString(c + pad)
 		}
 	}
-	fmt.Fprintln(w, strings.TrimRight(b.String(), " "))
+	fmt.Fprintln(t.w, strings.TrimRight(b.String(), " "))
 }
 
-// tableCell renders a value for the table format.
-func tableCell(v any) string {
+// displayText renders a value for the table and fields formats: NULL as
+// nullMark, floats to 10 significant digits, line ends as ⏎.
+func displayText(v any) string {
 	switch x := v.(type) {
 	case nil:
 		return nullMark
 	case float64:
 		return strconv.FormatFloat(x, 'g', 10, 64)
 	}
-	s := fullText(v, false)
-	s = strings.ReplaceAll(s, "\n", "⏎")
-	if utf8.RuneCountInString(s) > maxCell {
-		r := []rune(s)
-		s = string(r[:maxCell-1]) + "…"
-	}
-	return s
+	return strings.ReplaceAll(fullText(v, false), "\n", "⏎")
 }
 
 // fullText renders a value at full precision; NULL is empty in CSV.
@@ -234,7 +392,9 @@ func fullText(v any, csvNull bool) string {
 	}
 }
 
-func jsonValue(v any) string {
+// jsonValue renders a value for the json format. With nest, text holding a
+// JSON object or array is written as that JSON.
+func jsonValue(v any, nest bool) string {
 	switch x := v.(type) {
 	case nil:
 		return "null"
@@ -247,6 +407,17 @@ func jsonValue(v any) string {
 		return strconv.FormatInt(x, 10)
 	case []byte:
 		b, _ := json.Marshal(fmt.Sprintf("%x", x))
+		return string(b)
+	case string:
+		if nest {
+			if t := strings.TrimSpace(x); (strings.HasPrefix(t, "{") || strings.HasPrefix(t, "[")) && json.Valid([]byte(t)) {
+				var compact bytes.Buffer
+				if err := json.Compact(&compact, []byte(t)); err == nil {
+					return compact.String()
+				}
+			}
+		}
+		b, _ := json.Marshal(x)
 		return string(b)
 	default:
 		b, _ := json.Marshal(fmt.Sprint(x))

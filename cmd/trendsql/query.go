@@ -2,16 +2,76 @@ package main
 
 import (
 	"context"
+	"database/sql"
+	"fmt"
 	"io"
+	"os"
+	"strings"
 
 	"github.com/spf13/cobra"
 
 	"trendsql/store"
 )
 
+// resultFlags are the output flags query and functions share.
+type resultFlags struct {
+	format    string
+	formatSet bool // --format was given (else --out's extension decides)
+	out       string
+	force     bool
+	nestJSON  bool
+}
+
+func addResultFlags(c *cobra.Command, r *resultFlags) {
+	c.Flags().StringVar(&r.format, "format", FormatTable, "output format: "+formatNames+" (one field per line, for wide rows)")
+	c.Flags().StringVar(&r.out, "out", "", "write the results to this file instead of standard output; the format follows --format, else the extension (.csv, .json, .txt)")
+	c.Flags().BoolVar(&r.force, "force", false, "replace an existing --out file")
+	c.Flags().BoolVar(&r.nestJSON, "nest-json", false, "in json output, put the JSON results of trendsql's functions in as JSON objects rather than strings")
+}
+
+// resolve checks the flags and returns the output options and the writer
+// for the results, with a function that finishes the output (moving a
+// complete --out file into place, or removing it after a failure).
+func (r resultFlags) resolve(cmdName string, e *env) (outputOptions, io.Writer, func(ok bool) error, error) {
+	noop := func(bool) error { return nil }
+	format := r.format
+	if r.out != "" {
+		format = formatForFile(r.out, r.format, r.formatSet)
+		if format == "" {
+			return outputOptions{}, nil, noop, usageErr("%s: cannot tell the format of --out %s from its extension: give --format (%s)", cmdName, r.out, formatNames)
+		}
+	}
+	if !validFormat(format) {
+		return outputOptions{}, nil, noop, usageErr("%s: --format must be %s, got %q", cmdName, formatNames, format)
+	}
+	if r.force && r.out == "" {
+		return outputOptions{}, nil, noop, usageErr("%s: --force only applies with --out", cmdName)
+	}
+	o := outputOptions{format: format, nestJSON: r.nestJSON}
+	if r.out == "" {
+		o.width = terminalWidth(e.out)
+		return o, e.out, noop, nil
+	}
+	f, err := createResultFile(r.out, r.force)
+	if err != nil {
+		return o, nil, noop, fmt.Errorf("%s: --out: %w", cmdName, err)
+	}
+	return o, f, func(ok bool) error {
+		if !ok {
+			f.abort()
+			return nil
+		}
+		if err := f.commit(); err != nil {
+			return fmt.Errorf("%s: --out: %w", cmdName, err)
+		}
+		return nil
+	}, nil
+}
+
 type queryOptions struct {
-	sql           string
-	format        string
+	sql           string // the statements; "-" reads them from standard input
+	file          string // read the statements from this file instead
+	results       resultFlags
 	write         bool
 	unsafePragmas bool
 }
@@ -21,62 +81,150 @@ func init() { register(newQueryCmd) }
 func newQueryCmd(e *env) *cobra.Command {
 	o := queryOptions{}
 	c := &cobra.Command{
-		Use:   `query "SQL"`,
+		Use:   `query "SQL" | query --file FILE.sql | query -`,
 		Short: "Run SQL against the store (read-only unless --write)",
 		Long: `Run one or more SQL statements against the store and print the result of the
-last one. The store is opened read-only unless --write is given. Every trendsql
-SQL function is available (see 'trendsql functions').`,
-		Args: exactArgs(1),
+last one. The statements come from the argument, from --file, or from
+standard input when the argument is "-". The store is opened read-only
+unless --write is given; with --write, the number of rows each statement
+inserted, updated or deleted goes to stderr, so stdout stays data. Every
+trendsql SQL function is available (see 'trendsql functions').
+
+On a terminal the table format fits the rows to the terminal width, cutting
+the widest cells with "…"; piped, written with --out, or in csv, json or
+fields format, nothing is cut.`,
+		Example: `  trendsql query "SELECT id, name FROM stations"
+  trendsql query --file nightly-checks.sql --out checks.csv
+  echo "SELECT count(*) FROM readings" | trendsql query -
+  trendsql query --format fields "SELECT * FROM latest_series_summaries LIMIT 2"
+  trendsql query --format json --nest-json "SELECT station_id, trend_fit(t, value) AS fit FROM readings_view GROUP BY series_id"`,
+		Args: func(cmd *cobra.Command, args []string) error {
+			if o.file != "" {
+				if len(args) != 0 {
+					return usageErr("query: give the SQL as an argument or with --file, not both")
+				}
+				return nil
+			}
+			return exactArgs(1)(cmd, args)
+		},
 		RunE: func(cmd *cobra.Command, args []string) error {
-			o.sql = args[0]
+			if len(args) == 1 {
+				o.sql = args[0]
+			}
+			o.results.formatSet = cmd.Flags().Changed("format")
 			return runQuery(cmd.Context(), e, o)
 		},
 	}
-	c.Flags().StringVar(&o.format, "format", FormatTable, "output format: table, csv or json")
+	addResultFlags(c, &o.results)
+	c.Flags().StringVar(&o.file, "file", "", "read the SQL statements from this file")
 	c.Flags().BoolVar(&o.write, "write", false, "open the store writable so statements may change it")
 	c.Flags().BoolVar(&o.unsafePragmas, "allow-unsafe-pragmas", false, unsafePragmasUsage)
 	return c
 }
 
-// runQuery opens the store and runs the statements of o.sql.
+// runQuery reads the statements, opens the store and runs them.
 func runQuery(ctx context.Context, e *env, o queryOptions) error {
-	if !validFormat(o.format) {
-		return usageErr("query: --format must be table, csv or json, got %q", o.format)
+	text := o.sql
+	switch {
+	case o.file != "":
+		b, err := os.ReadFile(o.file)
+		if err != nil {
+			return fmt.Errorf("query: --file: %w", err)
+		}
+		text = string(b)
+	case o.sql == "-":
+		b, err := io.ReadAll(e.in)
+		if err != nil {
+			return fmt.Errorf("query: reading standard input: %w", err)
+		}
+		text = string(b)
 	}
 	if o.unsafePragmas && !o.write {
 		return usageErr("query: --allow-unsafe-pragmas needs --write")
 	}
-	s, err := e.openForSQL(ctx, o.write, o.unsafePragmas)
+	if len(splitStatements(text)) == 0 {
+		return usageErr("query: no SQL statement given")
+	}
+	opt, w, finish, err := o.results.resolve("query", e)
 	if err != nil {
 		return err
 	}
+	s, err := e.openForSQL(ctx, o.write, o.unsafePragmas)
+	if err != nil {
+		finish(false)
+		return err
+	}
 	defer s.Close()
-	return runStatements(ctx, s, o.sql, o.format, e.out)
+	var changes io.Writer
+	if o.write {
+		changes = e.errw
+	}
+	err = runStatements(ctx, s, text, w, opt, changes)
+	if ferr := finish(err == nil); err == nil {
+		err = ferr
+	}
+	return err
 }
 
-// runStatements runs user SQL; statements before the last are executed, the
-// last one's rows are printed.
-func runStatements(ctx context.Context, s *store.Store, sqlText, format string, out io.Writer) error {
+// runStatements runs user SQL on one connection; statements before the
+// last are executed, the last one's rows are written to out. With changes
+// set, each statement that inserted, updated or deleted rows reports the
+// count there.
+func runStatements(ctx context.Context, s *store.Store, sqlText string, out io.Writer, opt outputOptions, changes io.Writer) error {
 	stmts := splitStatements(sqlText)
 	if len(stmts) == 0 {
 		return usageErr("query: no SQL statement given")
 	}
+	conn, err := s.DB.Conn(ctx)
+	if err != nil {
+		return err
+	}
+	defer conn.Close()
 	for i, st := range stmts {
+		var before int64
+		if changes != nil {
+			before, _ = store.TotalChanges(ctx, conn)
+		}
 		if i < len(stmts)-1 {
-			if _, err := s.DB.ExecContext(ctx, st.text); err != nil {
+			if _, err := conn.ExecContext(ctx, st.text); err != nil {
 				return sqlError(sqlText, st, err)
 			}
-			continue
+		} else {
+			var rows *sql.Rows
+			rows, err = conn.QueryContext(ctx, st.text)
+			if err != nil {
+				return sqlError(sqlText, st, err)
+			}
+			_, err = writeRows(out, rows, opt)
+			rows.Close()
+			if err != nil {
+				return sqlError(sqlText, st, err)
+			}
 		}
-		rows, err := s.DB.QueryContext(ctx, st.text)
-		if err != nil {
-			return sqlError(sqlText, st, err)
-		}
-		_, err = writeRows(out, rows, format)
-		rows.Close()
-		if err != nil {
-			return sqlError(sqlText, st, err)
+		if changes != nil {
+			reportChanges(ctx, conn, changes, i+1, len(stmts), st.text, before)
 		}
 	}
 	return nil
+}
+
+// reportChanges prints the rows a statement changed, for statements that
+// change data (INSERT, UPDATE, DELETE, REPLACE, or any that changed rows),
+// and reports whether it printed.
+func reportChanges(ctx context.Context, conn *sql.Conn, w io.Writer, n, of int, text string, before int64) bool {
+	after, err := store.TotalChanges(ctx, conn)
+	if err != nil {
+		return false
+	}
+	verb := strings.ToUpper(strings.Fields(text + " ")[0])
+	dml := verb == "INSERT" || verb == "UPDATE" || verb == "DELETE" || verb == "REPLACE"
+	if after == before && !dml {
+		return false
+	}
+	label := "statement"
+	if of > 1 {
+		label = fmt.Sprintf("statement %d", n)
+	}
+	fmt.Fprintf(w, "%s (%s): %s changed\n", label, verb, plural(int(after-before), "row", "rows"))
+	return true
 }

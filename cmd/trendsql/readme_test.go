@@ -101,7 +101,7 @@ func TestReadmeExamples(t *testing.T) {
 	for i := len(examples) - 1; i >= 0; i-- {
 		ex := examples[i]
 		var got bytes.Buffer
-		if err := runStatements(context.Background(), s, ex.sql, FormatTable, &got); err != nil {
+		if err := runStatements(context.Background(), s, ex.sql, &got, outputOptions{format: FormatTable}, nil); err != nil {
 			t.Errorf("README example %d failed: %v\n%s", i+1, err, ex.sql)
 			continue
 		}

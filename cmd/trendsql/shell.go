@@ -15,7 +15,6 @@ import (
 	"github.com/chzyer/readline"
 	"github.com/spf13/cobra"
 
-	"trendsql/sqlfuncs"
 	"trendsql/store"
 )
 
@@ -25,7 +24,9 @@ const shellHelp = `Statements end with ';' and may span several lines.
 Shell commands (one per line, not ended by ';'):
   :tables             list the tables and views of the store
   :columns NAME       list the columns of a table or view (NAME or schema.NAME)
-  :format [FORMAT]    show or set the result format: table, csv or json
+  :format [FORMAT]    show or set the result format: table, csv, json or fields
+  :out FILE           send the next results to FILE (format from its extension
+                      .csv, .json or .txt, else the current one); :out alone cancels
   :functions [TEXT]   list trendsql's SQL functions (only those mentioning TEXT)
   :help               show this list
   :quit               leave the shell (Ctrl-D does too)`
@@ -44,7 +45,8 @@ func newShellCmd(e *env) *cobra.Command {
 		Use:   "shell",
 		Short: "Interactive SQL on the store, with line editing and history (read-only unless --write)",
 		Long: `Run SQL statements against the store interactively. Statements end with ';'
-and may span several lines; results are printed as a table (or CSV or JSON).
+and may span several lines; results are printed as a table (or CSV, JSON or
+one field per line), or sent to a file with :out.
 Lines starting with ':' are shell commands; ':help' lists them.
 
 When standard input is not a terminal, statements are read from it without
@@ -59,7 +61,7 @@ The store is opened read-only unless --write is given.`,
 	}
 	c.Flags().BoolVar(&o.write, "write", false, "open the store writable so statements may change it")
 	c.Flags().BoolVar(&o.unsafePragmas, "allow-unsafe-pragmas", false, unsafePragmasUsage)
-	c.Flags().StringVar(&o.format, "format", FormatTable, "initial result format: table, csv or json")
+	c.Flags().StringVar(&o.format, "format", FormatTable, "initial result format: "+formatNames)
 	return c
 }
 
@@ -67,7 +69,7 @@ The store is opened read-only unless --write is given.`,
 // and history on a terminal, without prompts otherwise.
 func runShell(ctx context.Context, e *env, o shellOptions) error {
 	if !validFormat(o.format) {
-		return usageErr("shell: --format must be table, csv or json, got %q", o.format)
+		return usageErr("shell: --format must be %s, got %q", formatNames, o.format)
 	}
 	if o.unsafePragmas && !o.write {
 		return usageErr("shell: --allow-unsafe-pragmas needs --write")
@@ -97,6 +99,7 @@ type shell struct {
 	store     *store.Store
 	out, errw io.Writer
 	format    string
+	outFile   string // :out: the next results go to this file
 	tty       bool
 	ran       int // statements and commands run
 	failed    int // of which failed
@@ -277,8 +280,9 @@ func (sh *shell) run(ctx context.Context, text string, firstLine int) {
 }
 
 func (sh *shell) runOne(ctx context.Context, text string, st statement) error {
+	writable := !sh.store.ReadOnly
 	var before int64
-	if sh.tty {
+	if writable {
 		before, _ = store.TotalChanges(ctx, sh.conn)
 	}
 	rows, err := sh.conn.QueryContext(ctx, st.text)
@@ -298,18 +302,56 @@ func (sh *shell) runOne(ctx context.Context, text string, st statement) error {
 			return sqlError(text, st, err)
 		}
 		rows.Close()
-		if sh.tty {
-			if after, err := store.TotalChanges(ctx, sh.conn); err == nil && after > before {
-				fmt.Fprintf(sh.out, "ok, %d row%s changed\n", after-before, plural(int(after-before)))
-			} else {
-				fmt.Fprintln(sh.out, "ok")
-			}
+		reported := writable && reportChanges(ctx, sh.conn, sh.errw, 0, 1, st.text, before)
+		if sh.tty && !reported {
+			fmt.Fprintln(sh.out, "ok")
 		}
 		return nil
 	}
-	if _, err := writeRows(sh.out, rows, sh.format); err != nil {
+	if sh.outFile != "" {
+		err = sh.writeToFile(rows)
+	} else {
+		_, err = writeRows(sh.out, rows, sh.output())
+	}
+	if err != nil {
 		return sqlError(text, st, err)
 	}
+	rows.Close()
+	if writable {
+		reportChanges(ctx, sh.conn, sh.errw, 0, 1, st.text, before)
+	}
+	return nil
+}
+
+// output is how results go to the screen: the current format, fitted to
+// the terminal's width when there is one.
+func (sh *shell) output() outputOptions {
+	return outputOptions{format: sh.format, width: terminalWidth(sh.out)}
+}
+
+// writeToFile sends one result set to the file named by :out, in the
+// format its extension names (else the current format), and goes back to
+// the screen for the next results.
+func (sh *shell) writeToFile(rows rowSource) error {
+	path := sh.outFile
+	sh.outFile = ""
+	format := formatForFile(path, sh.format, false)
+	if format == "" {
+		format = sh.format
+	}
+	f, err := createResultFile(path, false)
+	if err != nil {
+		return fmt.Errorf(":out: %w", err)
+	}
+	n, err := writeRows(f, rows, outputOptions{format: format})
+	if err != nil {
+		f.abort()
+		return err
+	}
+	if err := f.commit(); err != nil {
+		return fmt.Errorf(":out: %w", err)
+	}
+	fmt.Fprintf(sh.errw, "%s written to %s (%s)\n", plural(n, "row", "rows"), path, format)
 	return nil
 }
 
@@ -353,7 +395,7 @@ func (sh *shell) dispatch(line string) error {
 			return err
 		}
 		defer rows.Close()
-		_, err = writeRows(sh.out, rows, sh.format)
+		_, err = writeRows(sh.out, rows, sh.output())
 		return err
 	case ":columns":
 		if err := wantArgs(1, 1); err != nil {
@@ -365,8 +407,20 @@ func (sh *shell) dispatch(line string) error {
 			return fmt.Errorf(":columns: %w", err)
 		}
 		defer rows.Close()
-		_, err = writeRows(sh.out, rows, sh.format)
+		_, err = writeRows(sh.out, rows, sh.output())
 		return err
+	case ":out":
+		if err := wantArgs(0, 1); err != nil {
+			return err
+		}
+		if len(args) == 0 {
+			sh.outFile = ""
+			return nil
+		}
+		if _, err := os.Stat(args[0]); err == nil {
+			return fmt.Errorf(":out: %s exists; choose another file", args[0])
+		}
+		sh.outFile = args[0]
 	case ":format":
 		if err := wantArgs(0, 1); err != nil {
 			return err
@@ -377,22 +431,17 @@ func (sh *shell) dispatch(line string) error {
 		}
 		f := strings.ToLower(args[0])
 		if !validFormat(f) {
-			return fmt.Errorf(":format: expected table, csv or json, got %q", args[0])
+			return fmt.Errorf(":format: expected %s, got %q", formatNames, args[0])
 		}
 		sh.format = f
 	case ":functions":
-		var docs []sqlfuncs.Doc
-		pat := strings.ToLower(strings.Join(args, " "))
-		for _, d := range sqlfuncs.List() {
-			if pat == "" || strings.Contains(strings.ToLower(d.Name+" "+d.Summary), pat) {
-				docs = append(docs, d)
-			}
-		}
-		if len(docs) == 0 && pat != "" {
-			fmt.Fprintf(sh.out, "(no SQL function mentions %q)\n", pat)
+		rows := functionRows(strings.Join(args, " "))
+		if len(rows.rows) == 0 && len(args) > 0 {
+			fmt.Fprintf(sh.out, "(no SQL function mentions %q)\n", strings.Join(args, " "))
 			return nil
 		}
-		writeFunctionList(&env{out: sh.out}, docs)
+		_, err := writeRows(sh.out, rows, sh.output())
+		return err
 	default:
 		return fmt.Errorf("unknown shell command %s (:help lists them)", fields[0])
 	}

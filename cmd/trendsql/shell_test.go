@@ -72,7 +72,9 @@ func TestMainUsageErrors(t *testing.T) {
 		{"demo", "--seed", "not-a-number"},
 		{"shell", "--format", "yaml"},
 		{"shell", "extra-argument"},
-		{"functions", "--format", "csv"},
+		{"functions", "--format", "xml"},
+		{"functions", "--out", "list.unknown-extension"},
+		{"query", "--file", "q.sql", "SELECT 1"},
 		{"version", "extra"},
 		{"no-such-command"},
 	}
@@ -114,7 +116,7 @@ func TestShellInProcess(t *testing.T) {
 	if strings.Contains(o, "not reached") {
 		t.Error(":quit did not stop the shell")
 	}
-	for _, want := range []string{`expected table, csv or json, got "xml"`, `no table or view named "nowhere"`, `no table or view named "stations" in schema "temp"`} {
+	for _, want := range []string{`expected table, csv, json or fields, got "xml"`, `no table or view named "nowhere"`, `no table or view named "stations" in schema "temp"`} {
 		if !strings.Contains(errw.String(), want) {
 			t.Errorf("stderr lacks %q:\n%s", want, errw.String())
 		}

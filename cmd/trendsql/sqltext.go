@@ -143,6 +143,9 @@ func sqlError(all string, st statement, err error) error {
 	if strings.Contains(msg, "attempt to write a readonly database") {
 		msg += readOnlyHint
 	}
+	if strings.Contains(msg, "have the same time") && multiSeriesViewRE.MatchString(st.text) {
+		msg += multiSeriesHint
+	}
 	if m := nearRE.FindStringSubmatch(msg); m != nil && m[1] != "" {
 		if k := strings.Index(st.text, m[1]); k >= 0 {
 			pos := st.offset + k
@@ -161,3 +164,11 @@ const guardHint = ` (refused by trendsql: without --write the store allows no AT
 
 // readOnlyHint explains a write refused because the store is open read-only.
 const readOnlyHint = " (the store is open read-only: add --write to change it)"
+
+// multiSeriesViewRE finds the store's view that holds the readings of
+// every series.
+var multiSeriesViewRE = regexp.MustCompile(`(?i)\breadings_view\b`)
+
+// multiSeriesHint explains a tie in times when the rows came from a view of
+// several series.
+const multiSeriesHint = "; the rows come from readings_view, which holds every series, so the two rows may belong to different series: group by series (GROUP BY series_id, or PARTITION BY series_id in a window)"
