@@ -1,7 +1,8 @@
-/* Declarations shared by ext.c (the SQLite side of the extension) and the
- * Go side (ext.go). Go never calls SQLite directly: in an extension every
- * SQLite routine is reached through the sqlite3_api pointer, whose macros
- * only C can expand, so ext.c wraps the few calls Go needs. */
+/* Declarations shared by ext.c and table.c (the SQLite side of the
+ * extension) and ext.go (the Go side). Go never calls SQLite directly: in an
+ * extension every SQLite routine is reached through the sqlite3_api
+ * pointer, whose macros only C can expand, so ext.c wraps the few calls Go
+ * needs. */
 #ifndef TRENDSQL_EXT_H
 #define TRENDSQL_EXT_H
 
