@@ -5,7 +5,9 @@
 # usage: testdata/bench/extension.sh DIR LIB [REPS]
 #
 # DIR is a directory kept by `trendsql bench --keep --dir DIR` (its store
-# bench.db); LIB the library built with
+# bench.db, at the schema version of TRENDSQL: a store made by an older
+# build is migrated with `trendsql init --db DIR/bench.db`); LIB the
+# library built with
 #   go build -tags trendsqlext -buildmode=c-shared -o trendsql.so ./cmd/trendsqlext
 # Each repetition (default 5) starts one sqlite3 shell that loads LIB and
 # runs every statement with `.timer on` (output discarded), so the times are
