@@ -372,7 +372,7 @@ func init() {
 		if err != nil {
 			return nil, err
 		}
-		return m.value(t), nil
+		return finiteResult("trend_value", m.value(t), t)
 	})
 
 	defineScalar(Doc{
@@ -396,6 +396,16 @@ func init() {
 		if err != nil {
 			return nil, err
 		}
-		return y - m.value(t), nil
+		return finiteResult("trend_residual", y-m.value(t), t)
 	})
+}
+
+// finiteResult returns v, or an error when it is not finite: the model's
+// value at t lies beyond the range of float64 (the model or t is far outside
+// the data the model was fitted to).
+func finiteResult(fn string, v, t float64) (driver.Value, error) {
+	if math.IsInf(v, 0) || math.IsNaN(v) {
+		return nil, fmt.Errorf("%s: the result at t = %g is beyond the range of floating-point numbers (is t far outside the fitted data?)", fn, t)
+	}
+	return v, nil
 }
