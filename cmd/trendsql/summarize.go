@@ -184,6 +184,9 @@ func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {
 		}
 		return err
 	}
+	if note := parameterChangeNote(res.RunID, res); note != "" {
+		fmt.Fprintln(e.errw, "trendsql: "+note)
+	}
 	fmt.Fprintf(e.errw, "summarize run %d: %d series computed, %d unchanged skipped, %d with notes, %d with a trend at FDR %.2g; %s\n",
 		res.RunID, res.Computed, res.Skipped, res.Noted, res.Trending, o.alpha, res.Elapsed.Round(time.Millisecond))
 	if isTerminalWriter(e.errw) {

@@ -170,18 +170,24 @@ func (e *GridError) suggestion() string {
 	return "; " + strings.Join(parts, ", ")
 }
 
-func (e *GridError) Error() string {
+func (e *GridError) Error() string { return e.message(e.suggestion()) }
+
+// Diagnosis is the error without its suggestions (which name the step=
+// option of the SQL lag functions), for contexts without that option.
+func (e *GridError) Diagnosis() string { return e.message("") }
+
+func (e *GridError) message(suggestion string) string {
 	st := FormatStep(e.Step)
 	switch e.Kind {
 	case "off-grid":
 		return fmt.Sprintf("reading at %s is %.3g steps from the nearest slot of the %s grid anchored at the first reading (more than allowed)%s",
-			fmtTime(e.T1), e.Offset, st, e.suggestion())
+			fmtTime(e.T1), e.Offset, st, suggestion)
 	case "collision":
 		return fmt.Sprintf("readings at %s and %s fall in the same slot of the %s grid anchored at the first reading%s",
-			fmtTime(e.T1), fmtTime(e.T2), st, e.suggestion())
+			fmtTime(e.T1), fmtTime(e.T2), st, suggestion)
 	case "too-many-slots":
 		return fmt.Sprintf("step %s would need more than %d grid slots between %s and %s%s",
-			st, MaxGridSlots, fmtTime(e.T1), fmtTime(e.T2), e.suggestion())
+			st, MaxGridSlots, fmtTime(e.T1), fmtTime(e.T2), suggestion)
 	case "unsorted":
 		return fmt.Sprintf("times must be strictly increasing (at %s)", fmtTime(e.T1))
 	default:
@@ -372,22 +378,24 @@ func RegularizeWithMissing(t, y, missing []float64, step float64) (Grid, []float
 }
 
 // FormatStep renders a step in seconds as a duration text that
-// timefmt.ParseDuration reads back exactly: the first of y, w, d, h, min
-// giving a value ≥ 1 with at most four decimals (or a whole number of
-// quarters of a year), else seconds. E.g. 1y, 0.25y, 30.4375d, 1w, 15min.
+// timefmt.ParseDuration reads back exactly, in natural units: the first of
+// y, w (at most four decimals), d, h, min (at most six decimals) giving a
+// value ≥ 1 (or a whole number of quarters of a year), else seconds. E.g.
+// 1y, 0.25y, 30.4375d, 1w, 15.21875d (not 365.25h), 1.5h, 15min.
 func FormatStep(sec float64) string {
 	units := []struct {
-		name string
-		v    float64
-	}{{"y", YearStep}, {"w", 7 * 86400}, {"d", 86400}, {"h", 3600}, {"min", 60}}
+		name  string
+		v     float64
+		scale float64 // 10^decimals allowed
+	}{{"y", YearStep, 1e4}, {"w", 7 * 86400, 1e4}, {"d", 86400, 1e6}, {"h", 3600, 1e6}, {"min", 60, 1e6}}
 	for _, u := range units {
 		v := sec / u.v
-		r := math.Round(v * 1e4)
-		if math.Abs(v*1e4-r) > 1e-6 {
+		r := math.Round(v * u.scale)
+		if math.Abs(v*u.scale-r) > 1e-6 {
 			continue
 		}
 		if v >= 1 || (u.name == "y" && math.Abs(v*4-math.Round(v*4)) < 1e-9 && v > 0) {
-			return strconv.FormatFloat(r/1e4, 'f', -1, 64) + u.name
+			return strconv.FormatFloat(r/u.scale, 'f', -1, 64) + u.name
 		}
 	}
 	return strconv.FormatFloat(sec, 'f', -1, 64) + "s"

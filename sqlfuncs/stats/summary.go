@@ -75,6 +75,7 @@ package stats
 // the Benjamini–Hochberg adjusted mk_p (AdjustBH, applied by store/summaries).
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"sort"
@@ -297,7 +298,14 @@ func residualDiagnostics(s *SeriesSummary, t, y []float64, model *TrendModel, gr
 	} else {
 		s.ACFBasis = "reading-order"
 		x = resid
-		note("times do not fit a regular grid (%v); residual ACF uses lags in readings", gridErr)
+		// The grid error's suggestions name the SQL functions' step=
+		// option, which summarize does not have: only the diagnosis.
+		why := gridErr.Error()
+		var ge *GridError
+		if errors.As(gridErr, &ge) {
+			why = ge.Diagnosis()
+		}
+		note("times do not fit a regular grid (%s); residual ACF uses lags in readings", why)
 	}
 	lb := o.LBLags
 	if lb <= 0 {

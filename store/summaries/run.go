@@ -60,6 +60,12 @@ type Result struct {
 	Insufficient int
 	Trending     int
 	Elapsed      time.Duration
+	// PreviousRun is the latest earlier successful run on the same
+	// selection (0: none), and Changes the model parameters in which this
+	// run differs from it: latest_series_summaries then shows this run's
+	// parameter set (migration 0005).
+	PreviousRun int64
+	Changes     []ParameterChange
 }
 
 // runParameters is what makes two runs comparable for ChangedOnly; it is
@@ -139,6 +145,9 @@ func Run(ctx context.Context, s *store.Store, o Options) (*Result, error) {
 		}
 	}
 	res := &Result{Selected: len(selected), Skipped: len(selected) - len(todo)}
+	if res.PreviousRun, res.Changes, err = compareWithPrevious(ctx, s.DB, params); err != nil {
+		return nil, err
+	}
 	if len(todo) == 0 {
 		res.Elapsed = time.Since(start)
 		return res, ErrNothingToDo
