@@ -864,7 +864,7 @@ func TestCSVReader(t *testing.T) {
 }
 
 func TestParseValue(t *testing.T) {
-	for in, want := range map[string]float64{"1": 1, "-2.5": -2.5, "+.5": 0.5, "3.": 3, "1e3": 1000, "1E-2": 0.01, " 7 ": 7, "1e-400": 0} {
+	for in, want := range map[string]float64{"1": 1, "-2.5": -2.5, "+.5": 0.5, "3.": 3, "1e3": 1000, "1E-2": 0.01, " 7 ": 7, "0e-400": 0, "0.000e5": 0, "5e-324": 5e-324} {
 		if v, r := parseValue(in, false); r != "" || v != want {
 			t.Errorf("parseValue(%q) = %v, %q; want %v", in, v, r, want)
 		}
@@ -874,7 +874,7 @@ func TestParseValue(t *testing.T) {
 			t.Errorf("parseValue(%q, comma) = %v, %q; want %v", in, v, r, want)
 		}
 	}
-	for _, in := range []string{"", "NA", "n/a", "NaN", "nan", "inf", "-Inf", "Infinity", "1e999", "-1e999", "0x10", "1_000", "1.2.3", "e5", ".", "-", "1e", "1e+", "12,5", "1 2", "TRUE", "１"} {
+	for _, in := range []string{"", "NA", "n/a", "NaN", "nan", "inf", "-Inf", "Infinity", "1e999", "-1e999", "1e-400", "-2.5e-330", "0,0001e-400", "0x10", "1_000", "1.2.3", "e5", ".", "-", "1e", "1e+", "12,5", "1 2", "TRUE", "１"} {
 		if v, r := parseValue(in, false); r == "" {
 			t.Errorf("parseValue(%q) = %v, want a reject", in, v)
 		}

@@ -10,7 +10,8 @@ import (
 )
 
 // parseValue parses a reading value. It returns a reject reason when the
-// text is not a finite decimal number.
+// text is not a finite decimal number, or is a non-zero number too small
+// for float64 (it would be stored as 0).
 func parseValue(raw string, decimalComma bool) (float64, string) {
 	s := strings.TrimSpace(raw)
 	if s == "" {
@@ -40,6 +41,9 @@ func parseValue(raw string, decimalComma bool) (float64, string) {
 	v, err := strconv.ParseFloat(num, 64)
 	if err != nil || math.IsInf(v, 0) {
 		return 0, fmt.Sprintf("value %q is out of range (would be infinite)", s)
+	}
+	if v == 0 && strings.ContainsAny(strings.SplitN(strings.ToLower(num), "e", 2)[0], "123456789") {
+		return 0, fmt.Sprintf("value %q is out of range (too small: it would be stored as 0)", s)
 	}
 	return v, ""
 }
