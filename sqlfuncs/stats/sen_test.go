@@ -411,7 +411,7 @@ func TestSortFloatsMatchesSort(t *testing.T) {
 				case 0:
 					s[i] = rng.NormFloat64() * 1e3
 				case 1: // few levels, many ties, both zeros
-					s[i] = []float64{-2.5, -0.0, 0, 1.25, 7}[rng.IntN(5)]
+					s[i] = []float64{-2.5, math.Copysign(0, -1), 0, 1.25, 7}[rng.IntN(5)]
 				default:
 					s[i] = []float64{math.Inf(-1), -1e300, -5e-324, 5e-324, 1e-310, 3, 1e300, math.Inf(1)}[rng.IntN(8)] * float64(1+rng.IntN(3))
 				}

@@ -34,12 +34,6 @@ var wqSites = []wqSite{
 // wqLimitChange is when the reporting limit fell from 10 to 5 µg/L.
 var wqLimitChange = time.Date(2020, 1, 1, 0, 0, 0, 0, time.UTC).Unix()
 
-// wqReading is a demo reading with its censoring mark.
-type wqReading struct {
-	demoReading
-	censored bool
-}
-
 // phosphorus generates the phosphorus series of station st (nil when the
 // station is not sampled). It draws from its own stream, so the other
 // series of the scenario do not change.
