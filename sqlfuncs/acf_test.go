@@ -617,7 +617,7 @@ func nullFloat(t *testing.T, db *sql.DB, q string, args ...any) (sql.NullFloat64
 	return v, err
 }
 
-// TestLagTraps covers the edge cases of the issue: constant series, n = 1
+// TestLagTraps covers the lag functions' edge cases: constant series, n = 1
 // and 2, lag ≥ n, all NULL, ties in time, reverse order, NaN from an
 // expression, off-grid readings, large time offsets, bad options.
 func TestLagTraps(t *testing.T) {

@@ -12,7 +12,7 @@ package sqlfuncs_test
 //	TRENDSQL_BENCH_N       comma-separated series lengths for
 //	                       BenchmarkSQLSeriesLength (default "1000,10000")
 //
-// The configuration, 1000 series × 10000 rows, is
+// The full-size configuration, 1000 series × 10000 rows, is
 // TRENDSQL_BENCH_ROWS=10000000 TRENDSQL_BENCH_SERIES=1000 (too big for CI;
 // CI runs these with -benchtime=1x only to prove they still run).
 //

@@ -8,8 +8,8 @@ package sqlfuncs
 // NULL y are skipped and tied times are errors, as in every series
 // aggregate; no rows gives NULL. Going through a series aggregate lets the
 // rows reach Go through the zero-allocation adapter (fastpath_series.go)
-// instead of one boxed database/sql value per column and row, which was most
-// of the cost of a summary run. Not listed by `trendsql functions`.
+// rather than as one boxed database/sql value per column and row. Not
+// listed by `trendsql functions`.
 
 import (
 	"database/sql/driver"

@@ -330,9 +330,8 @@ func (a *seriesAgg) Final(ctx *sqlite.FunctionContext) { a.recycle() }
 // groups of one query usually have similar lengths, so a reused buffer
 // rarely grows, and a scan over many series allocates (and collects) almost
 // nothing per row. The free list holds them strongly: a sync.Pool drops its
-// contents at every garbage collection, and with series of 100,000
-// readings a collection came about once per group, so every other group
-// grew its buffers afresh (82 bytes allocated per row instead of 0.1).
+// contents at every garbage collection, which with long series can come
+// about once per group, so the next group would grow its buffers afresh.
 var floatFree struct {
 	sync.Mutex
 	bufs  [][]float64

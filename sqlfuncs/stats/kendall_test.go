@@ -190,11 +190,7 @@ func TestSenReference(t *testing.T) {
 		}
 	}
 	// Nile with x = year number (scipy.stats.theilslopes(volume, year)).
-	yr := py.Nile.Year
-	tt := make([]float64, len(yr))
-	for i, v := range yr {
-		tt[i] = v
-	}
+	tt := append([]float64(nil), py.Nile.Year...)
 	res, err := SenSlope(tt, py.Nile.Volume, 0.95)
 	if err != nil {
 		t.Fatal(err)
