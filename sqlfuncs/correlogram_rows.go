@@ -12,6 +12,9 @@ package sqlfuncs
 //	ljung_box_q  REAL     cumulative Ljung–Box Q over lags 1..h
 //	ljung_box_p  REAL     its χ² upper-tail p-value with h − fitdf df
 //
+// Definitions and divisors of these figures: sqlfuncs/stats/acf.go (γ̂, ρ̂,
+// α̂) and sqlfuncs/stats/ljungbox.go (Q and its p-value).
+//
 // A figure that is undefined in the JSON (null) is SQL NULL. A NULL argument
 // gives no rows; text that is not a correlogram JSON is an error naming the
 // function. Rows come in increasing lag order.

@@ -26,22 +26,13 @@ package sqlfuncs
 // in one slot is an error. Slots without a pair are missing.
 //
 // Lag sign: POSITIVE LAG = x LEADS y: lag h pairs x at slot i with y at
-// slot i + h. With x̄, ȳ the means over the slots with a pair and m(h) the
-// number of slot pairs h apart with both present,
-//
-//	c_xy(h) = Σ (x_i − x̄)(y_{i+h} − ȳ) / (m(h) + |h|)   (divisor n when no
-//	                                                    slot is missing)
-//	r_xy(h) = c_xy(h) / √(c_xx(0) · c_yy(0)), clamped to [−1, 1]
-//
-// Without missing slots this is the divisor-n estimator (common practice;
-// Brockwell & Davis, Introduction to Time Series and Forecasting, 2nd ed.,
-// 2002, §7.2) and equals statsmodels.tsa.stattools.ccf(y, x,
-// adjusted=False)[h] for h ≥ 0 and ccf(x, y, adjusted=False)[−h] for h < 0
-// (statsmodels 0.13.5). It equals R's ccf(y, x, na.action = na.pass) at lag
-// h (R 4.2.2), also with missing slots. CAUTION: R's ccf(x, y) at lag k
-// pairs x[t+k] with y[t], so its sign is opposite to this function's.
-// These are sample statistics; reading r_xy(h) as an estimate of a lagged
-// correlation presumes a jointly stationary model.
+// slot i + h. The value is the sample cross-covariance c_xy(h) (divisor
+// m(h) + |h|, i.e. n when no slot is missing) and cross-correlation r_xy(h);
+// formulas, divisor and the statsmodels/R equivalents are in
+// sqlfuncs/stats/crosscorr.go (stats.CrossPrepare, stats.CrossAt). CAUTION: R's ccf(x, y) at
+// lag k pairs x[t+k] with y[t], so its sign is opposite to this function's;
+// R's ccf(y, x) matches it. These are sample statistics; reading r_xy(h) as
+// an estimate of a lagged correlation presumes a jointly stationary model.
 //
 // cross_correlogram JSON keys: n (slots with a pair), n_slots,
 // missing_slots, step_s, step, step_inferred, t_first, mean_x, mean_y,

@@ -12,13 +12,9 @@ package sqlfuncs
 // with the same t are an error naming the time. Fewer than 2 rows → NULL.
 // Also a window function with any frame.
 //
-// Formula (stats/pettitt.go; Pettitt 1979, Applied Statistics
-// 28(2):126–135). With the values in time order and r_i their ranks (ties
-// get average ranks),
-//
-//	U_k = Σ_{i≤k} Σ_{j>k} sgn(y_i − y_j) = 2·Σ_{i≤k} r_i − k(n+1),  1 ≤ k < n
-//	K   = max_k |U_k|, first attained at k
-//	p   ≈ 2·exp(−6K²/(n³ + n²)), capped at 1 (approximate; Pettitt 1979)
+// Statistic, p-value approximation and source: stats.Pettitt
+// (sqlfuncs/stats/pettitt.go). K = max_k |U_k| over the splits 1 ≤ k < n,
+// first attained at k; p is approximate.
 //
 // The change lies between the k-th and (k+1)-th values in time order:
 // t_change is the time of the k-th value (the last one before the change)

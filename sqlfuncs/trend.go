@@ -17,7 +17,7 @@ package sqlfuncs
 //	harmonics=1..50   sine/cosine pairs of that period (default 1 if period
 //	                  is given; needs period)
 //	hac_lags=L        Newey–West truncation lag, L ≥ 0 (default
-//	                  floor(4·(n/100)^(2/9)))
+//	                  floor(4·(n/100)^(2/9)), stats.DefaultHACLags)
 //
 // Unknown or repeated keys are errors. The spec must be the same on every
 // row of a group.
@@ -34,47 +34,31 @@ package sqlfuncs
 // matrix is rank-deficient"), not a silent NULL. Both aggregates are also
 // window functions with any frame.
 //
-// Model (see stats/trend.go for the full definitions):
-//
-//	y ≈ c_0 + Σ_{k=1}^{d} c_k x^k + Σ_{k=1}^{K} (a_k sin 2πk u + b_k cos 2πk u)
-//	x = (t − t_center)/31 557 600 s (years of 365.25 d), t_center = mean of t
-//	u = fmod(t, period)/period (phase origin: the unix epoch, so a stored
-//	    model can be evaluated at any t)
-//
-// solved by Householder QR on the column-scaled design (Golub & Van Loan,
-// Matrix Computations, 4th ed., 2013, §5.3), never the normal equations.
+// Model and formulas: stats.FitTrend and stats.TrendModel (sqlfuncs/stats/
+// trend.go; the QR solve and the Newey–West covariance in stats/ols.go). In
+// short, y is fitted by least squares on a polynomial in centred time,
+// x = (t − mean t) in years of 365.25 d, plus sine/cosine pairs of the
+// period with their phase taken from the unix epoch (so a stored model can
+// be evaluated at any t).
 //
 // trend_fit's JSON keys, always in this order (NaN or infinite values are
-// written as null):
+// written as null); the field of stats.TrendModel that holds each one
+// defines it:
 //
 //	n, t_first, t_last, t_center   rows used; first/last/mean time (unix s)
 //	degree, period_s, harmonics    the model (period_s null without harmonics)
 //	terms                          ["const","t","t^2",…,"sin1","cos1",…]
-//	coef, se                       coefficients in term order and classical
-//	                               standard errors σ̂·√diag((XᵀX)⁻¹)
-//	slope_per_year, slope_se       c_1 = derivative of the polynomial at
-//	                               t_center (y-units per year) and its se;
+//	coef, se                       coefficients in term order, classical se
+//	slope_per_year, slope_se       c_1, the derivative of the polynomial at
+//	                               t_center (y-units per year), and its se;
 //	                               null for degree 0
-//	slope_p                        two-sided p of c_1, Student t, df_resid df
-//	r2                             1 − SSR/Σ(y−ȳ)²; null for a constant y
-//	sigma                          √(SSR/(n−p)) (divisor n−p)
-//	df_resid                       n − p
-//	resid_acf1                     lag-1 sample ACF of the residuals in time
-//	                               order, mean removed, divisor n
-//	hac_lags, hac_slope_se, hac_p  Newey & West (1987), Econometrica
-//	                               55(3):703–708: Bartlett weights
-//	                               1 − j/(L+1), lags counted in rows, times
-//	                               the small-sample factor n/(n−p); p from
-//	                               Student t with df_resid df. Matches
-//	                               statsmodels 0.13.5 OLS(...).fit(
-//	                               cov_type='HAC', cov_kwds={'maxlags': L,
-//	                               'use_correction': True}, use_t=True)
-//	n_eff, n_eff_p                 n(1−ρ̂₁)/(1+ρ̂₁) with ρ̂₁ = resid_acf1
-//	                               (n_eff = n when ρ̂₁ ≤ 0), and the slope p
-//	                               with se·√((n−p)/(n_eff−p)) and Student t
-//	                               with n_eff−p df (Santer et al. 2000, J.
-//	                               Geophys. Res. 105(D6):7337–7356); null
-//	                               when n_eff ≤ p
+//	slope_p                        two-sided p of c_1 (Student t)
+//	r2, sigma, df_resid            fit quality; r2 null for a constant y
+//	resid_acf1                     lag-1 sample ACF of the residuals
+//	hac_lags, hac_slope_se, hac_p  Newey–West (HAC) se and p of c_1
+//	n_eff, n_eff_p                 AR(1) effective sample size and the slope
+//	                               p that uses it; n_eff_p null when
+//	                               n_eff ≤ p
 //
 // For a constant y every coefficient but c_0 is exactly 0, se and sigma are
 // 0, slope_p/hac_p are null (0/0) and r2, resid_acf1, n_eff are null.
@@ -87,9 +71,8 @@ package sqlfuncs
 // meant for (roughly) regularly sampled series.
 //
 // trend_slope(t, y) is the shortcut for trend_fit(t, y) ->> 'slope_per_year'
-// (same NULL rules, same ties error); it keeps the (t, y) buffer like
-// trend_fit so ties are detected, but computes only the two centred sums
-// Σx(y−ȳ)/Σx².
+// (same NULL rules, same ties error; stats.TrendSlope); it keeps the (t, y)
+// buffer like trend_fit so ties are detected.
 //
 // trend_value(model, t) evaluates a model produced by trend_fit at any t,
 // so residuals are y − trend_value(m, t) in plain SQL (trend_residual is

@@ -12,7 +12,8 @@ package stats
 //	r_xy(h) = c_xy(h) / √(c_xx(0)·c_yy(0)),     clamped to [−1, 1]
 //
 // and c_xy(−h) pairs x_{i+h} with y_i. Without missing slots the divisor is
-// n (not n − |h|; common practice, Brockwell & Davis 2002 §7.2), which is
+// n (not n − |h|; common practice, Brockwell & Davis, Introduction to Time
+// Series and Forecasting, 2nd ed., 2002, §7.2), which is
 // statsmodels.tsa.stattools.ccf(y, x, adjusted=False)[h] for h ≥ 0 and
 // ccf(x, y, adjusted=False)[|h|] for h < 0 (statsmodels 0.13.5 puts the
 // first argument ahead). With missing slots it is R's

@@ -6,15 +6,15 @@ package stats
 // returns on the same rows:
 //
 //	trend_model, slope_*, hac_*, n_eff*, r2 = trend_fit(t, y, 'period=P,harmonics=K')
-//	                                          (or 'degree=1' without --period)
+//	                                          (or 'degree=1' when PeriodS = 0)
 //	mk_* (no period)      = mann_kendall(t, y, 'correct=hamed-rao'): the
 //	                        corrected var_s, z and p are stored when the
 //	                        correction_factor is ≥ 1, else the uncorrected
 //	                        var_s, z and p (the factor is stored either way).
 //	                        A factor below 1 comes from negative rank
-//	                        autocorrelations, often chance ones at long lags
-//	                        (on a demo series three such lags turn p = 0.245
-//	                        into 1e-17); the summary uses the correction only
+//	                        autocorrelations, often chance ones at long lags,
+//	                        and can shrink p by many orders of magnitude;
+//	                        the summary uses the correction only
 //	                        to guard against positive serial dependence and
 //	                        never lets it make the test more liberal than the
 //	                        test for independent values.
@@ -35,7 +35,7 @@ package stats
 //	                        ('hamed-rao' or 'mann-kendall') and sen_var_s
 //	                        holds it
 //	sen_* (with period)   = the seasonal Sen slope of that seasonal_kendall,
-//	                        its interval at --confidence from the variance of
+//	                        its interval at o.Confidence from the variance of
 //	                        the stored test: lower_dependent/upper_dependent
 //	                        (sen_interval_basis 'hirsch-slack') or
 //	                        lower/upper ('seasonal-kendall'); seasonal_kendall
@@ -63,11 +63,12 @@ package stats
 // h = 10 and h ≤ T/5 rule of thumb of Hyndman & Athanasopoulos, "Forecasting:
 // Principles and Practice"). Degrees of freedom = lags: fitdf counts
 // estimated ARMA coefficients (Ljung & Box 1978), and the deterministic
-// trend regression has none. The minimum record (--min-n, default 10)
-// follows the common rule that the normal approximation of the Mann–Kendall
-// S is adequate from about n = 10 (recalled from memory: Gilbert 1987,
-// "Statistical Methods for Environmental Pollution Monitoring", §16.4); with
-// a seasonal period the record must also span at least two periods.
+// trend regression has none. The minimum record (o.MinN; 10 by default in
+// `trendsql summarize`) follows the common rule that the normal
+// approximation of the Mann–Kendall S is adequate from about n = 10
+// (recalled from memory: Gilbert 1987, "Statistical Methods for
+// Environmental Pollution Monitoring", §16.4); with a seasonal period the
+// record must also span at least two periods.
 //
 // Flags: residual_dependence = lb_p < alpha; step_change_suspected =
 // pettitt_p < alpha (a gradual trend also makes the Pettitt p small: read it
