@@ -1,6 +1,8 @@
 package sqlfuncs
 
-// SQL:2003 regression aggregates.
+// SQL:2003 regression aggregates, each also a window function with any
+// frame. Their numerics live here rather than in package stats: the state
+// is the aggregate's own running sums, updated row by row.
 //
 //	regr_count(y, x)     INTEGER  number of rows where both y and x are non-NULL
 //	regr_avgx(y, x)      REAL     mean of x over those rows
