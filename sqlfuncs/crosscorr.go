@@ -29,10 +29,11 @@ package sqlfuncs
 // slot i + h. The value is the sample cross-covariance c_xy(h) (divisor
 // m(h) + |h|, i.e. n when no slot is missing) and cross-correlation r_xy(h);
 // formulas, divisor and the statsmodels/R equivalents are in
-// sqlfuncs/stats/crosscorr.go (stats.CrossPrepare, stats.CrossAt). CAUTION: R's ccf(x, y) at
-// lag k pairs x[t+k] with y[t], so its sign is opposite to this function's;
-// R's ccf(y, x) matches it. These are sample statistics; reading r_xy(h) as
-// an estimate of a lagged correlation presumes a jointly stationary model.
+// sqlfuncs/stats/crosscorr.go (stats.CrossPrepare, stats.CrossAt).
+// CAUTION: R's ccf(x, y) at lag k pairs x[t+k] with y[t], so its sign is
+// opposite to this function's; R's ccf(y, x) matches it. These are sample
+// statistics; reading r_xy(h) as an estimate of a lagged correlation
+// presumes a jointly stationary model.
 //
 // cross_correlogram JSON keys: n (slots with a pair), n_slots,
 // missing_slots, step_s, step, step_inferred, t_first, mean_x, mean_y,
