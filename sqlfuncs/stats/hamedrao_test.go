@@ -52,10 +52,9 @@ func optNaN(p *float64) float64 {
 
 // The exact-rational reference decides every tie of the Sen-detrended
 // values; the factor, kept lags and corrected figures must agree (factor
-// and variance to 1e-9 relative; p to 1e-7 relative, as elsewhere). Before
-// the ranks were decided exactly, decimal_7 gave a factor of 1 instead of
-// 0.0857 and decimal_7b 0.143 instead of 1; all_equal_9 and linear_int_9
-// gave 1 instead of an undefined factor.
+// and variance to 1e-9 relative; p to 1e-7 relative, as elsewhere). Ranks
+// decided in floating point get decimal_7, decimal_7b, all_equal_9 and
+// linear_int_9 wrong, so these cases guard the exact ordering.
 func TestHamedRaoExactRationalReference(t *testing.T) {
 	for _, c := range loadHamedRaoExact(t) {
 		mk, err := MannKendall(c.Y)
