@@ -646,3 +646,26 @@ func TestCompareNoticesDifferences(t *testing.T) {
 		t.Error("counts 5349 and 5350 reported equal")
 	}
 }
+
+// An SQLite older than 3.25.0 (no window functions) is refused at load
+// time with a message naming both versions; the host's API is stood in for
+// by testdata/oldsqlite.c.
+func TestRefusesOldSQLite(t *testing.T) {
+	f := setup(t)
+	cc := os.Getenv("CC")
+	if cc == "" {
+		cc = "gcc"
+	}
+	prog := filepath.Join(f.dir, "oldsqlite")
+	if _, err := run(".", nil, cc, "-o", prog, "testdata/oldsqlite.c", "-ldl"); err != nil {
+		t.Fatal(err)
+	}
+	out, err := run(".", nil, prog, f.lib)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := "1 trendsql: this SQLite is 3.24.0; the extension needs 3.25.0 or later (window functions)"
+	if strings.TrimSpace(out) != want {
+		t.Errorf("loading into SQLite 3.24.0: %q, want %q", strings.TrimSpace(out), want)
+	}
+}
