@@ -109,50 +109,60 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest, nea
 		default:
 			inv += mergeCountKeys(items, d.items[d.n+lo:d.n+hi])
 		}
-		seg := perm[lo:hi] // positions in base, then points
-		for i := range items {
-			seg[i] = items[i].i
-		}
-		// exact re-sort of near-tie chains
-		for i := 0; i < len(items); {
-			j := i + 1
-			for j < len(items) && items[j].k-items[j-1].k <= g {
-				j++
+		// One pass writes the points in the new order; a run of neighbours
+		// whose keys are closer than g (a near-tie chain) is re-sorted
+		// exactly first.
+		seg := perm[lo:hi]
+		cs := 0
+		for i := 1; i <= len(items); i++ {
+			if i < len(items) && items[i].k-items[i-1].k <= g {
+				continue
 			}
-			if j-i > 1 {
-				chain := seg[i:j]
-				w := d.work[:len(chain)]
-				copy(w, chain)
-				before := countInversions(w, d.tmp)
+			if i-cs == 1 {
+				seg[cs] = base[items[cs].i]
+				cs = i
+				continue
+			}
+			chain := seg[cs:i] // positions in base, then points
+			for q := range chain {
+				chain[q] = items[cs+q].i
+			}
+			before := d.chainInversions(chain)
+			if len(chain) <= 16 {
+				for q := 1; q < len(chain); q++ { // insertion sort
+					for r := q; r > 0 && byPoint(chain[r-1], chain[r]) > 0; r-- {
+						chain[r-1], chain[r] = chain[r], chain[r-1]
+					}
+				}
+			} else {
 				slices.SortFunc(chain, byPoint)
-				copy(w, chain)
-				after := countInversions(w, d.tmp)
-				inv += after - before
-				if h != nil && (before != 0 || after != 0) {
-					// the harvest's pairs inside this chain need correcting
-					chains = append(chains, [2]int{len(chainPos), len(chainPos) + len(chain)})
-					chainPos = append(chainPos, chain...)
-					chainMet += before
+			}
+			after := d.chainInversions(chain)
+			inv += after - before
+			if h != nil && (before != 0 || after != 0) {
+				// the harvest's pairs inside this chain need correcting
+				chains = append(chains, [2]int{len(chainPos), len(chainPos) + len(chain)})
+				chainPos = append(chainPos, chain...)
+				chainMet += before
+			}
+			for k := 1; k < len(chain); {
+				// count exact ties
+				l := k
+				for l < len(chain) && d.cmpPts(base[chain[l-1]], base[chain[l]], v) == 0 {
+					l++
 				}
-				for k := 1; k < len(chain); {
-					// count exact ties
-					l := k
-					for l < len(chain) && d.cmpPts(base[chain[l-1]], base[chain[l]], v) == 0 {
-						l++
-					}
-					if l > k {
-						gsz := int64(l - k + 1)
-						lessEq += gsz * (gsz - 1) / 2
-						k = l
-					} else {
-						k++
-					}
+				if l > k {
+					gsz := int64(l - k + 1)
+					lessEq += gsz * (gsz - 1) / 2
+					k = l
+				} else {
+					k++
 				}
 			}
-			i = j
-		}
-		for i, p := range seg {
-			seg[i] = base[p]
+			for q, p := range chain {
+				chain[q] = base[p]
+			}
+			cs = i
 		}
 	}
 	less = baseLess + dir*inv
@@ -177,6 +187,25 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest, nea
 	}
 	d.chains, d.chainPos = chains, chainPos
 	return
+}
+
+// chainInversions counts the pairs out of order in a (short lists
+// directly, long ones by countInversions on a copy).
+func (d *senData) chainInversions(a []int32) int64 {
+	if len(a) > 16 {
+		w := d.work[:len(a)]
+		copy(w, a)
+		return countInversions(w, d.tmp)
+	}
+	var inv int64
+	for i := 1; i < len(a); i++ {
+		for j := 0; j < i; j++ {
+			if a[j] > a[i] {
+				inv++
+			}
+		}
+	}
+	return inv
 }
 
 // identity returns the time order 0..n−1 (the order of the cut at −∞).
