@@ -189,7 +189,8 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64, medi
 	return res, nil
 }
 
-// sortFloats sorts s ascending (no NaN; −0 before +0) with the pooled
+// sortFloats sorts s ascending (no NaN; zeros of either sign are equal and
+// may come in any order among themselves) with the pooled
 // scratch: a least-significant-digit radix sort, 11 bits per pass, of the
 // order-preserving integer image of each value (sign bit set for
 // non-negative values, all bits flipped for negative ones). Passes whose
