@@ -63,7 +63,6 @@ package sqlfuncs
 import (
 	"database/sql/driver"
 	"fmt"
-	"math"
 	"slices"
 	"sort"
 	"strconv"
@@ -287,38 +286,9 @@ func censoredMannKendallValue(r censoredRows, opts []driver.Value) (driver.Value
 
 func censoredSeasonalValue(r censoredRows, opts []driver.Value) (driver.Value, error) {
 	const fn = "censored_seasonal_kendall"
-	var period float64
-	calendar := false
-	switch v := opts[0].(type) {
-	case int64:
-		period = float64(v)
-	case float64:
-		period = v
-	case string:
-		if strings.EqualFold(strings.TrimSpace(v), "calendar-month") {
-			calendar = true
-		} else {
-			d, err := timefmt.ParseDuration(v)
-			if err != nil {
-				return nil, fmt.Errorf("%s: argument period: %v", fn, err)
-			}
-			period = d
-		}
-	default:
-		return nil, fmt.Errorf("%s: argument period must be a duration such as '1y' or 'calendar-month', got %s", fn, describe(opts[0]))
-	}
-	if !calendar && !(period > 0 && !math.IsInf(period, 0)) {
-		return nil, fmt.Errorf("%s: argument period = %s must be a positive duration", fn, describe(opts[0]))
-	}
-	seasons := int64(12)
-	if len(opts) > 1 && opts[1] != nil {
-		var err error
-		if seasons, err = argInt(fn, "seasons", opts[1], 1, 1000); err != nil {
-			return nil, err
-		}
-		if calendar && seasons != 12 {
-			return nil, fmt.Errorf("%s: period 'calendar-month' has 12 seasons, got seasons = %d", fn, seasons)
-		}
+	period, calendar, seasons, err := seasonArgs(fn, opts)
+	if err != nil {
+		return nil, err
 	}
 	recensor := false
 	if len(opts) > 2 {

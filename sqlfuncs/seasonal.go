@@ -109,38 +109,9 @@ import (
 
 func seasonalKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	const fn = "seasonal_kendall"
-	var period float64
-	calendar := false
-	switch v := opts[0].(type) {
-	case int64:
-		period = float64(v)
-	case float64:
-		period = v
-	case string:
-		if strings.EqualFold(strings.TrimSpace(v), "calendar-month") {
-			calendar = true
-		} else {
-			d, err := timefmt.ParseDuration(v)
-			if err != nil {
-				return nil, fmt.Errorf("%s: argument period: %v", fn, err)
-			}
-			period = d
-		}
-	default:
-		return nil, fmt.Errorf("%s: argument period must be a duration such as '1y' or 'calendar-month', got %s", fn, describe(opts[0]))
-	}
-	if !calendar && !(period > 0 && !math.IsInf(period, 0)) {
-		return nil, fmt.Errorf("%s: argument period = %s must be a positive duration", fn, describe(opts[0]))
-	}
-	seasons := int64(12)
-	if len(opts) > 1 && opts[1] != nil {
-		var err error
-		if seasons, err = argInt(fn, "seasons", opts[1], 1, 1000); err != nil {
-			return nil, err
-		}
-		if calendar && seasons != 12 {
-			return nil, fmt.Errorf("%s: period 'calendar-month' has 12 seasons, got seasons = %d", fn, seasons)
-		}
+	period, calendar, seasons, err := seasonArgs(fn, opts)
+	if err != nil {
+		return nil, err
 	}
 	if r.Len() < 2 {
 		return nil, nil
@@ -232,4 +203,43 @@ func init() {
 		argNames: []string{"t", "y", "period", "seasons"}, values: 1, minOptions: 1, maxOptions: 2,
 		compute: seasonalKendallValue,
 	})
+}
+
+// seasonArgs reads the period and seasons arguments shared by
+// seasonal_kendall and censored_seasonal_kendall: period is a number of
+// seconds, a duration text such as '1y', or 'calendar-month' (calendar is
+// then true and period 0); seasons defaults to 12 and must be 12 for
+// 'calendar-month'. Errors name fn and the argument.
+func seasonArgs(fn string, opts []driver.Value) (period float64, calendar bool, seasons int64, err error) {
+	switch v := opts[0].(type) {
+	case int64:
+		period = float64(v)
+	case float64:
+		period = v
+	case string:
+		if strings.EqualFold(strings.TrimSpace(v), "calendar-month") {
+			calendar = true
+		} else {
+			d, perr := timefmt.ParseDuration(v)
+			if perr != nil {
+				return 0, false, 0, fmt.Errorf("%s: argument period: %v", fn, perr)
+			}
+			period = d
+		}
+	default:
+		return 0, false, 0, fmt.Errorf("%s: argument period must be a duration such as '1y' or 'calendar-month', got %s", fn, describe(opts[0]))
+	}
+	if !calendar && !(period > 0 && !math.IsInf(period, 0)) {
+		return 0, false, 0, fmt.Errorf("%s: argument period = %s must be a positive duration", fn, describe(opts[0]))
+	}
+	seasons = 12
+	if len(opts) > 1 && opts[1] != nil {
+		if seasons, err = argInt(fn, "seasons", opts[1], 1, 1000); err != nil {
+			return 0, false, 0, err
+		}
+		if calendar && seasons != 12 {
+			return 0, false, 0, fmt.Errorf("%s: period 'calendar-month' has 12 seasons, got seasons = %d", fn, seasons)
+		}
+	}
+	return period, calendar, seasons, nil
 }
