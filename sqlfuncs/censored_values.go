@@ -14,6 +14,9 @@ package sqlfuncs
 //	trend_fit(t, CASE WHEN censored = '<' THEN value_number / 2 ELSE value_number END)
 //
 // (value_number is the stored number: the limit for a censored reading).
+// On the readings table itself value is that number; the store refuses user
+// statements that hand it to these functions without reading the mark
+// (store/censorguard.go), using IgnoresCensoring below.
 
 import (
 	"fmt"
@@ -45,6 +48,24 @@ func parseCensoredText(s string) (float64, stats.Censoring, bool) {
 	}
 	return v, c, true
 }
+
+// ignoresCensoring names the functions that take a plain value and do not
+// handle censoring: they read a number as a measured value.
+var ignoresCensoring = map[string]bool{
+	"trend_fit": true, "trend_slope": true, "trend_residual": true,
+	"sample_acvf": true, "sample_acf": true, "correlogram": true,
+	"ljung_box": true, "ljung_box_p": true, "box_pierce": true, "box_pierce_p": true,
+	"cross_corr": true, "cross_correlogram": true,
+	"mann_kendall": true, "seasonal_kendall": true, "sen_slope": true, "sen_slope_per_year": true,
+	"pettitt":    true,
+	"regr_slope": true, "regr_intercept": true, "regr_r2": true, "regr_avgx": true, "regr_avgy": true,
+	"regr_sxx": true, "regr_syy": true, "regr_sxy": true, "covar_pop": true, "covar_samp": true, "corr": true,
+}
+
+// IgnoresCensoring reports whether the SQL function name (any case) is one
+// of trendsql's functions that take a plain value and do not handle
+// censoring (every value function except the censored_* family).
+func IgnoresCensoring(name string) bool { return ignoresCensoring[strings.ToLower(name)] }
 
 const censoredAlternatives = "censored_mann_kendall, censored_seasonal_kendall or censored_sen_slope"
 

@@ -18,6 +18,10 @@ var (
 	// ErrGuard: the statement guard could not be installed on a
 	// connection (see guard.go).
 	ErrGuard = errors.New("cannot guard the store's connections")
+	// ErrCensoredRead: a statement of user SQL would hand the stored
+	// limits of censored readings to a function that does not handle
+	// censoring (see CensoredReadError).
+	ErrCensoredRead = errors.New("statement uses censored readings as measured values")
 	// ErrHardLinks: the store file has more than one name (see LinkError).
 	ErrHardLinks = errors.New("store file has more than one hard link")
 )

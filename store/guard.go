@@ -105,14 +105,21 @@ func userWriteAuthorizer(action sqlite.AuthorizerActionCode, arg1, arg2, _, _ st
 }
 
 // guardSetup returns the per-connection setup that installs the guard
-// chosen by opt, or nil when no guard applies.
-func guardSetup(opt Options) func(context.Context, driver.Conn) error {
-	var fn sqlite.AuthorizerFn
+// chosen by opt, or nil when no guard applies. Every guarded connection
+// also records what its statements read and call for PrepareUser
+// (censorguard.go), registered in ws; with AllowUnsafePragmas that record
+// is all the authorizer does.
+func guardSetup(opt Options, ws *watches) func(context.Context, driver.Conn) error {
+	var policy sqlite.AuthorizerFn
 	switch {
 	case opt.ReadOnly:
-		fn = readOnlyAuthorizer
+		policy = readOnlyAuthorizer
 	case opt.UserSQL && !opt.AllowUnsafePragmas:
-		fn = userWriteAuthorizer
+		policy = userWriteAuthorizer
+	case opt.UserSQL:
+		policy = func(sqlite.AuthorizerActionCode, string, string, string, string) sqlite.AuthorizerReturnCode {
+			return sqlite.AuthorizerOK
+		}
 	default:
 		return nil
 	}
@@ -121,7 +128,11 @@ func guardSetup(opt Options) func(context.Context, driver.Conn) error {
 		if !ok {
 			return fmt.Errorf("%w: the sqlite driver offers no authorizer", ErrGuard)
 		}
-		return r.RegisterAuthorizer(fn)
+		w := ws.add(conn)
+		return r.RegisterAuthorizer(func(action sqlite.AuthorizerActionCode, arg1, arg2, db, view string) sqlite.AuthorizerReturnCode {
+			w.observe(action, arg1, arg2, db, view)
+			return policy(action, arg1, arg2, db, view)
+		})
 	}
 }
 

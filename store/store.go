@@ -50,7 +50,8 @@ type Options struct {
 	// other file.
 	ReadOnly bool
 	// UserSQL marks a writable store that runs SQL typed by a user: the
-	// PRAGMAs that switch off a safety of the store are refused.
+	// PRAGMAs that switch off a safety of the store are refused. Stores
+	// opened with ReadOnly or UserSQL check censoring in PrepareUser.
 	UserSQL bool
 	// AllowUnsafePragmas lifts that refusal (expert use).
 	AllowUnsafePragmas bool
@@ -61,6 +62,7 @@ type Store struct {
 	DB       *sql.DB
 	Path     string
 	ReadOnly bool
+	watches  *watches
 }
 
 // DSN builds the driver connection string for path.
@@ -94,7 +96,8 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 	} else if n := linkCount(st); n > 1 {
 		return nil, &LinkError{Path: path, Links: n}
 	}
-	db, err := sqlfuncs.OpenDBWith(DSN(path, opt.ReadOnly), guardSetup(opt))
+	ws := &watches{}
+	db, err := sqlfuncs.OpenDBWith(DSN(path, opt.ReadOnly), guardSetup(opt, ws))
 	if err != nil {
 		return nil, fmt.Errorf("open %s: %w", path, err)
 	}
@@ -102,7 +105,7 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 		db.Close()
 		return nil, fmt.Errorf("open %s: %w", path, err)
 	}
-	s := &Store{DB: db, Path: path, ReadOnly: opt.ReadOnly}
+	s := &Store{DB: db, Path: path, ReadOnly: opt.ReadOnly, watches: ws}
 	// The schema version is read without the write lock, so opening a
 	// current store never waits for another writer; only a store with a
 	// migration due takes the write lock.

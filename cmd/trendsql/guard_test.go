@@ -90,3 +90,43 @@ func TestQueryAndShellReadOnlyGuard(t *testing.T) {
 		t.Errorf("readings at the end: %q, want 1", n)
 	}
 }
+
+// TestQueryAndShellCensoredRead: once the store holds a censored reading,
+// query and shell refuse trend_fit on readings.value with the store's
+// message (the count and the alternatives), not SQLite's bare "not
+// authorized"; an explicit censored filter runs.
+func TestQueryAndShellCensoredRead(t *testing.T) {
+	db := guardStore(t)
+	var out, errw bytes.Buffer
+	add := `INSERT INTO readings(series_id, t, value, censored) SELECT id, 1600086400, 5, '<' FROM series;
+INSERT INTO readings(series_id, t, value) SELECT id, 1600172800, 3.5 FROM series;
+INSERT INTO readings(series_id, t, value) SELECT id, 1600259200, 4.5 FROM series`
+	if code := Main([]string{"query", "--write", "--db", db, add}, strings.NewReader(""), &out, &errw); code != 0 {
+		t.Fatalf("insert: %s", errw.String())
+	}
+	const refused = "SELECT trend_slope(t, value) FROM readings"
+	const filtered = "SELECT trend_slope(t, value) AS s FROM readings WHERE censored IS NULL"
+	for _, args := range [][]string{{"query", "--db", db, refused}, {"query", "--write", "--db", db, refused}} {
+		out.Reset()
+		errw.Reset()
+		code := Main(args, strings.NewReader(""), &out, &errw)
+		msg := errw.String()
+		if code != ExitFailed || !strings.Contains(msg, "trend_slope does not handle censoring") || !strings.Contains(msg, "1 censored readings") ||
+			!strings.Contains(msg, "censored_sen_slope") || strings.Contains(msg, "not authorized") {
+			t.Errorf("%v: exit %d, stderr %q; want the censoring refusal", args, code, msg)
+		}
+	}
+	out.Reset()
+	errw.Reset()
+	code := Main([]string{"shell", "--db", db}, strings.NewReader(refused+";\n"), &out, &errw)
+	if code != ExitFailed || !strings.Contains(errw.String(), "trend_slope does not handle censoring") {
+		t.Errorf("shell: exit %d, stderr %q; want the censoring refusal", code, errw.String())
+	}
+	out.Reset()
+	errw.Reset()
+	// Uncensored readings 1.5, 3.5, 4.5 on days 0, 2, 3 lie on 1.5 + day:
+	// slope 1 per day = 365.25 per year (1 y = 365.25 d).
+	if code := Main([]string{"query", "--format", "csv", "--db", db, filtered}, strings.NewReader(""), &out, &errw); code != 0 || strings.TrimSpace(out.String()) != "s\n365.25" {
+		t.Errorf("filtered: exit %d, stdout %q, stderr %q; want s = 365.25", code, out.String(), errw.String())
+	}
+}

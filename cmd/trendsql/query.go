@@ -185,18 +185,26 @@ func runStatements(ctx context.Context, s *store.Store, sqlText string, out io.W
 		if changes != nil {
 			before, _ = store.TotalChanges(ctx, conn)
 		}
+		prepared, err := s.PrepareUser(ctx, conn, st.text)
+		if err != nil {
+			return sqlError(sqlText, st, err)
+		}
 		if i < len(stmts)-1 {
-			if _, err := conn.ExecContext(ctx, st.text); err != nil {
+			_, err = prepared.ExecContext(ctx)
+			prepared.Close()
+			if err != nil {
 				return sqlError(sqlText, st, err)
 			}
 		} else {
 			var rows *sql.Rows
-			rows, err = conn.QueryContext(ctx, st.text)
+			rows, err = prepared.QueryContext(ctx)
 			if err != nil {
+				prepared.Close()
 				return sqlError(sqlText, st, err)
 			}
 			_, err = writeRows(out, rows, opt)
 			rows.Close()
+			prepared.Close()
 			if err != nil {
 				return sqlError(sqlText, st, err)
 			}

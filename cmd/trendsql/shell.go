@@ -285,7 +285,12 @@ func (sh *shell) runOne(ctx context.Context, text string, st statement) error {
 	if writable {
 		before, _ = store.TotalChanges(ctx, sh.conn)
 	}
-	rows, err := sh.conn.QueryContext(ctx, st.text)
+	prepared, err := sh.store.PrepareUser(ctx, sh.conn, st.text)
+	if err != nil {
+		return sqlError(text, st, err)
+	}
+	defer prepared.Close()
+	rows, err := prepared.QueryContext(ctx)
 	if err != nil {
 		return sqlError(text, st, err)
 	}

@@ -56,7 +56,7 @@ ORDER BY month;`,
        json_extract(st.metadata, '$.land_use') AS land_use,
        round(regr_slope(r.value, r.t) * 31557600, 3) AS m_per_year,
        count(*) AS readings
-FROM readings r
+FROM readings_view r
 JOIN series s    ON s.id = r.series_id
 JOIN stations st ON st.id = s.station_id
 WHERE s.variable = 'groundwater_level'
@@ -70,7 +70,7 @@ LIMIT 8;`,
 		Explain: "Site metadata joins like any column: mean straight-line slope of the well levels by land use.",
 		SQL: `WITH slopes AS (
   SELECT s.station_id, regr_slope(r.value, r.t) * 31557600 AS m_per_year
-  FROM readings r JOIN series s ON s.id = r.series_id
+  FROM readings_view r JOIN series s ON s.id = r.series_id
   WHERE s.variable = 'groundwater_level'
   GROUP BY s.id)
 SELECT json_extract(st.metadata, '$.land_use') AS land_use,
@@ -88,7 +88,7 @@ ORDER BY mean_m_per_year;`,
   SELECT s.station_id,
          regr_slope(r.value, r.t) * 31557600                 AS straight_line,
          trend_fit(r.t, r.value, 'period=1y, harmonics=2')   AS fit
-  FROM readings r JOIN series s ON s.id = r.series_id
+  FROM readings_view r JOIN series s ON s.id = r.series_id
   WHERE s.variable = 'groundwater_level'
   GROUP BY s.id)
 SELECT f.station_id,
@@ -108,13 +108,13 @@ LIMIT 8;`,
 		Explain: "Dependence left in those residuals: lag-1 sample ACF and Ljung–Box over 10 daily lags (small p = evidence of dependence).",
 		SQL: `WITH models AS (
   SELECT series_id, trend_fit(t, value, 'period=1y, harmonics=2') AS model
-  FROM readings
+  FROM readings_view
   WHERE series_id IN (SELECT id FROM series
                       WHERE station_id IN ('VOR-W03', 'VOR-W09', 'VOR-W16', 'VOR-W20'))
   GROUP BY series_id),
 resid AS (
   SELECT r.series_id, r.t, trend_residual(m.model, r.t, r.value) AS e
-  FROM readings r JOIN models m USING (series_id)),
+  FROM readings_view r JOIN models m USING (series_id)),
 lb AS (
   SELECT series_id,
          sample_acf(t, e, 1)          AS acf1,
@@ -135,7 +135,7 @@ ORDER BY s.station_id;`,
   SELECT s.station_id, s.variable, s.unit,
          mann_kendall(r.t, r.value) AS mk,
          sen_slope(r.t, r.value)    AS sen
-  FROM readings r JOIN series s ON s.id = r.series_id
+  FROM readings_view r JOIN series s ON s.id = r.series_id
   WHERE s.station_id IN ('VOR-M02', 'VOR-M03', 'VOR-M05', 'VOR-M07')
   GROUP BY s.id)
 SELECT station_id, variable, unit,
@@ -154,7 +154,7 @@ ORDER BY station_id, variable;`,
 		SQL: `WITH w AS (
   SELECT r.t, r.value,
          unixepoch(json_extract(st.metadata, '$.sensor_replaced')) AS swap
-  FROM readings r
+  FROM readings_view r
   JOIN series s    ON s.id = r.series_id
   JOIN stations st ON st.id = s.station_id
   WHERE st.id = 'VOR-W09')
@@ -169,7 +169,7 @@ ORDER BY min(t);`,
 	{
 		Explain: "Pettitt's change-point test on VOR-W09's deseasonalised levels, beside the replacement date on record.",
 		SQL: `WITH w AS (
-  SELECT r.t, r.value FROM readings r JOIN series s ON s.id = r.series_id
+  SELECT r.t, r.value FROM readings_view r JOIN series s ON s.id = r.series_id
   WHERE s.station_id = 'VOR-W09'),
 m AS (
   SELECT trend_fit(t, value, 'degree=0, period=1y, harmonics=2') AS model FROM w),
