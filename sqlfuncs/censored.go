@@ -5,7 +5,7 @@ package sqlfuncs
 //	censored_mann_kendall(t, y, mark [, options])                aggregate/window → TEXT (JSON) or NULL
 //	censored_seasonal_kendall(t, y, mark, period [, seasons [, options]])
 //	                                                             aggregate/window → TEXT (JSON) or NULL
-//	censored_sen_slope(t, y, mark)                               aggregate/window → TEXT (JSON) or NULL
+//	censored_sen_slope(t, y, mark [, confidence])                aggregate/window → TEXT (JSON) or NULL
 //
 // Arguments. t and y as for mann_kendall (args.go); for a censored value y
 // is the limit, or the value as reported, TEXT '<5' or '>2000' (the form
@@ -13,7 +13,8 @@ package sqlfuncs
 // value is below y, a reporting limit), '>' (above y, a measuring limit),
 // '' or NULL (uncensored); INTEGER −1, 1 and 0 mean the same. Any other mark
 // is an error naming the function and the value. period and seasons as for
-// seasonal_kendall. options: TEXT "key=value, ..." with
+// seasonal_kendall. confidence: as for sen_slope (default 0.95; NULL means
+// the default). options: TEXT "key=value, ..." with
 //
 //	recensor=none|highest   highest: re-censor every value below the highest
 //	                        reporting limit at that limit before testing
@@ -35,7 +36,11 @@ package sqlfuncs
 // = s/√(n0·ordered pairs). The slope is the Akritas–Theil–Sen estimate
 // (Akritas, Murphy & LaValley 1995), equal to the Sen slope without
 // censoring; it needs n ≤ 5000 and is null when S(β) does not change sign
-// (e.g. every value censored).
+// (e.g. every value censored). Its interval inverts the censored test: the
+// slopes β with |S(β)| ≤ z·√var_s, var_s that of censored_mann_kendall(t, y,
+// mark); without censoring its ends are the slopes of ranks ⌈(N − C)/2⌉ and
+// ⌊(N + C)/2⌋ + 1, which sen_slope rounds to the nearest rank instead (so
+// sen_slope's interval is the same or one slope wider at each end).
 //
 // JSON keys. censored_mann_kendall: n, censored, censored_share, limits
 // (distinct reporting limits), highest_limit, recensored_at (null unless
@@ -47,7 +52,10 @@ package sqlfuncs
 // [{season, n, censored, s, var_s}] (seasons independent; no
 // between-season covariance). censored_sen_slope: n, censored,
 // censored_share, slope_per_year, sup_positive_per_year (sup{β: S(β) > 0}),
-// inf_negative_per_year (inf{β: S(β) < 0}), method ("akritas-theil-sen").
+// inf_negative_per_year (inf{β: S(β) < 0}), lower and upper (the interval
+// per year; null when it is unbounded on that side — few values or much
+// censoring — or var_s is 0), confidence, var_s, method
+// ("akritas-theil-sen").
 // Undefined values are null.
 //
 // Example (demo store):
@@ -346,12 +354,16 @@ func censoredSeasonalValue(r censoredRows, opts []driver.Value) (driver.Value, e
 	return b.String(), nil
 }
 
-func censoredSenValue(r censoredRows, _ []driver.Value) (driver.Value, error) {
+func censoredSenValue(r censoredRows, opts []driver.Value) (driver.Value, error) {
 	const fn = "censored_sen_slope"
+	conf, err := senConfidence(fn, opts)
+	if err != nil {
+		return nil, err
+	}
 	if len(r.T) < 2 {
 		return nil, nil
 	}
-	res, err := stats.AkritasTheilSen(r.T, r.Y, r.C)
+	res, err := stats.AkritasTheilSenInterval(r.T, r.Y, r.C, conf)
 	if err != nil {
 		return nil, fmt.Errorf("%s: %v", fn, err)
 	}
@@ -364,6 +376,10 @@ func censoredSenValue(r censoredRows, _ []driver.Value) (driver.Value, error) {
 	b.num("slope_per_year", res.Slope*spy)
 	b.num("sup_positive_per_year", res.Lower*spy)
 	b.num("inf_negative_per_year", res.Upper*spy)
+	b.num("lower", res.CILower*spy)
+	b.num("upper", res.CIUpper*spy)
+	b.num("confidence", res.Confidence)
+	b.num("var_s", res.VarS)
 	b.str("method", "akritas-theil-sen")
 	return b.String(), nil
 }
@@ -388,8 +404,8 @@ func init() {
 		minOptions: 1, maxOptions: 3, compute: censoredSeasonalValue,
 	})
 	defineCensored(censoredSpec{
-		doc: Doc{Name: "censored_sen_slope", Signature: "censored_sen_slope(t, y, mark)", Kind: Aggregate,
-			Summary: "JSON {n, censored, slope_per_year, ...}: Akritas–Theil–Sen slope for values with reporting limits (the Sen slope without censoring)"},
-		compute: censoredSenValue,
+		doc: Doc{Name: "censored_sen_slope", Signature: "censored_sen_slope(t, y, mark [, confidence])", Kind: Aggregate,
+			Summary: "JSON {n, censored, slope_per_year, lower, upper, ...}: Akritas–Theil–Sen slope for values with reporting limits (the Sen slope without censoring) with the interval inverting the censored Kendall test (default confidence 0.95)"},
+		maxOptions: 1, compute: censoredSenValue,
 	})
 }

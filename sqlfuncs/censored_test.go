@@ -194,7 +194,8 @@ func TestCensoredSQLMarksOptionsErrors(t *testing.T) {
 		`SELECT censored_mann_kendall(t, y, x, 'recensor=lowest') FROM kobs WHERE g = 'multi'`: `option recensor="lowest"`,
 		`SELECT censored_mann_kendall(t, y, x) FROM kobs WHERE g = 'dup'`:                      `two rows have the same time 1970-01-02T00:00:00Z`,
 		`SELECT censored_seasonal_kendall(t, y, x, 'soon') FROM kobs WHERE g = 'multi'`:        `censored_seasonal_kendall: argument period`,
-		`SELECT censored_sen_slope(t, y, x, 1) FROM kobs WHERE g = 'multi'`:                    `censored_sen_slope: wrong number of arguments`,
+		`SELECT censored_sen_slope(t, y, x, 0.9, 1) FROM kobs WHERE g = 'multi'`:               `censored_sen_slope: wrong number of arguments`,
+		`SELECT censored_sen_slope(t, y, x, 1) FROM kobs WHERE g = 'multi'`:                    `censored_sen_slope: argument confidence = 1 must be strictly between 0 and 1`,
 	} {
 		var v any
 		err := db.QueryRow(q).Scan(&v)
@@ -267,5 +268,53 @@ func TestCensoredValuesRefused(t *testing.T) {
 	}
 	if err := db.QueryRow(`SELECT censored_mann_kendall(t, y, '>') FROM kobs WHERE g = 'lab'`).Scan(&v); err == nil || !strings.Contains(err.Error(), `value "<2" and mark ">" disagree`) {
 		t.Errorf("disagreeing mark: %v %v", v, err)
+	}
+}
+
+// TestCensoredSenIntervalSQL: the interval keys of censored_sen_slope are
+// stats.AkritasTheilSenInterval's ends per year (checked there against a
+// brute force and scipy.stats.theilslopes), with the confidence argument
+// and its default; an unbounded end is null.
+func TestCensoredSenIntervalSQL(t *testing.T) {
+	db := openKendallStore(t)
+	day := 86400.0
+	var tt, yy []float64
+	var marks []any
+	var cc []stats.Censoring
+	for i := 0; i < 30; i++ {
+		tt = append(tt, 1.6e9+float64(i)*7*day)
+		v := 2 + 0.05*float64(i) + float64((i*7)%5)/2
+		switch {
+		case v < 3:
+			yy, cc, marks = append(yy, 3), append(cc, stats.BelowLimit), append(marks, "<")
+		default:
+			yy, cc, marks = append(yy, v), append(cc, stats.Uncensored), append(marks, nil)
+		}
+	}
+	insertK(t, db, "ci", tt, marks, anys(yy))
+	for _, q := range []struct {
+		sql  string
+		conf float64
+	}{{`SELECT censored_sen_slope(t, y, x) FROM kobs WHERE g = 'ci'`, 0.95}, {`SELECT censored_sen_slope(t, y, x, NULL) FROM kobs WHERE g = 'ci'`, 0.95}, {`SELECT censored_sen_slope(t, y, x, 0.8) FROM kobs WHERE g = 'ci'`, 0.8}} {
+		m := jsonMap(t, queryVal(t, db, q.sql))
+		want, err := stats.AkritasTheilSenInterval(tt, yy, cc, q.conf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		spy := timefmt.SecondsPerYear
+		if math.IsNaN(want.CILower) || math.IsNaN(want.CIUpper) {
+			t.Fatalf("%s: test data give an unbounded interval %+v", q.sql, want)
+		}
+		if num(t, m, "lower") != want.CILower*spy || num(t, m, "upper") != want.CIUpper*spy || num(t, m, "confidence") != q.conf || num(t, m, "var_s") != want.VarS {
+			t.Errorf("%s: %v, want %+v", q.sql, m, want)
+		}
+		if !(num(t, m, "lower") <= num(t, m, "slope_per_year") && num(t, m, "slope_per_year") <= num(t, m, "upper")) {
+			t.Errorf("%s: slope outside its interval: %v", q.sql, m)
+		}
+	}
+	// Three values: S(β) stays within ±1.96·√Var(S) everywhere.
+	m := jsonMap(t, queryVal(t, db, `SELECT censored_sen_slope(t, y, x) FROM kobs WHERE g = 'ci' AND t < ?`, tt[3]))
+	if m["lower"] != nil || m["upper"] != nil || m["slope_per_year"] == nil {
+		t.Errorf("three values: %v, want null ends", m)
 	}
 }
