@@ -49,8 +49,12 @@ package sqlfuncs
 // censored_seasonal_kendall: n, censored, censored_share, limits,
 // highest_limit, recensored_at, period_s, season_definition, seasons,
 // seasons_used, s, var_s, z, p, n_pairs, ordered_pairs, per_season
-// [{season, n, censored, s, var_s}] (seasons independent; no
-// between-season covariance). censored_sen_slope: n, censored,
+// [{season, n, censored, s, var_s}]. var_s is the sum of the season
+// variances, which assumes the seasons independent (common practice for the
+// seasonal Kendall test without a covariance correction); with seasons that
+// move together from cycle to cycle p is too small, and unlike
+// seasonal_kendall's p_dependent no between-season covariance correction is
+// offered for censored values. censored_sen_slope: n, censored,
 // censored_share, slope_per_year, sup_positive_per_year (sup{β: S(β) > 0}),
 // inf_negative_per_year (inf{β: S(β) < 0}), lower and upper (the interval
 // per year; null when it is unbounded on that side — few values or much

@@ -285,9 +285,17 @@ type CensoredSeasonalResult struct {
 // Smith 1982, Water Resources Research 18(1):107–121) with the censored
 // ordering above: within each season g, S_g and Var(S_g) are
 // CensoredMannKendall's over the season's values in time order; S = Σ S_g,
-// Var(S) = Σ Var(S_g) (seasons treated as independent), Z with continuity
-// correction and two-sided normal p. y must be in time order with distinct
-// times and season[i] in 0..seasons−1.
+// Var(S) = Σ Var(S_g), Z with continuity correction and two-sided normal p.
+// y must be in time order with distinct times and season[i] in
+// 0..seasons−1.
+//
+// Var(S) = Σ Var(S_g) assumes the seasons' statistics independent: no
+// between-season covariance is estimated (common practice for the seasonal
+// Kendall test when no covariance correction is requested). When seasons
+// move together from cycle to cycle (a wet year raising every month), the
+// covariances are positive, Var(S) is underestimated and P is too small;
+// the covariance-corrected variance of Hirsch & Slack (1984) is not
+// computed for censored values.
 func CensoredSeasonalKendall(y []float64, c []Censoring, season []int, seasons int) (CensoredSeasonalResult, error) {
 	n := len(y)
 	if len(season) != n {
