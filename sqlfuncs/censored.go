@@ -35,8 +35,8 @@ package sqlfuncs
 // is one reporting limit; z is continuity corrected, p two-sided normal; tau
 // = s/√(n0·ordered pairs). The slope is the Akritas–Theil–Sen estimate
 // (Akritas, Murphy & LaValley 1995), equal to the Sen slope without
-// censoring; it needs n ≤ 5000 and is null when S(β) does not change sign
-// (e.g. every value censored). Its interval inverts the censored test: the
+// censoring; it needs n ≤ 50 000 (time grows as n², memory as n) and is
+// null when S(β) does not change sign (e.g. every value censored). Its interval inverts the censored test: the
 // slopes β with |S(β)| ≤ z·√var_s, var_s that of censored_mann_kendall(t, y,
 // mark); without censoring its ends are the slopes of ranks ⌈(N − C)/2⌉ and
 // ⌊(N + C)/2⌋ + 1, which sen_slope rounds to the nearest rank instead (so

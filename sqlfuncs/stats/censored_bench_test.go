@@ -44,3 +44,18 @@ func BenchmarkAkritasTheilSen(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkAkritasTheilSenInterval: n = 2,000 sorts its steps in memory;
+// n = 10,000 (5·10⁷ steps) takes the O(n)-memory passes.
+func BenchmarkAkritasTheilSenInterval(b *testing.B) {
+	for _, n := range []int{2000, 10_000} {
+		t, y, c := censBenchData(n)
+		b.Run("n="+strconv.Itoa(n), func(b *testing.B) {
+			for b.Loop() {
+				if _, err := AkritasTheilSenInterval(t, y, c, 0.95); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

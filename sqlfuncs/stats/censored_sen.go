@@ -49,11 +49,13 @@ package stats
 //	  (i ">", j uncensored or "<"; i uncensored, j "<")
 //	both "<" or both ">"                  0 for every β
 //
-// The steps are collected and sorted (O(N log N) time and O(N) memory for
-// N = n(n−1)/2 pairs, hence MaxCensoredSenValues); walking them in order
-// gives S(v+) just after each step value v, and each quantity above is the
-// first step value v with S(v+) at or below its threshold (sup{S > 0}:
-// S(v+) ≤ 0; inf{S < 0}: S(v+) < 0; lower: S(v+) ≤ C; upper: S(v+) < −C).
+// Up to atsSortedSteps steps the steps are collected and sorted (O(N log N)
+// time and O(N) memory for N = n(n−1)/2 pairs); walking them in order gives
+// S(v+) just after each step value v, and each quantity above is the first
+// step value v with S(v+) at or below its threshold (sup{S > 0}: S(v+) ≤ 0;
+// inf{S < 0}: S(v+) < 0; lower: S(v+) ≤ C; upper: S(v+) < −C). Beyond that
+// the same step values are found in O(n) memory by a few passes over the
+// pairs, O(n²) time each (censored_sen_stream.go), with identical results.
 // When S(β) never becomes positive or never becomes negative (e.g. every
 // pair ambiguous) the slope is undefined (NaN). Slopes are in units of y
 // per unit of t. No intercept is computed.
@@ -67,9 +69,10 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
-// MaxCensoredSenValues bounds n for AkritasTheilSen: the N = n(n−1)/2 step
-// values are held in memory (8 bytes each).
-const MaxCensoredSenValues = 5000
+// MaxCensoredSenValues bounds n for AkritasTheilSen: memory is O(n), but
+// time grows as n² (every pair is visited in each of a few passes), so
+// longer series are refused rather than left running for many minutes.
+const MaxCensoredSenValues = 50_000
 
 // CensoredSenResult is the Akritas–Theil–Sen slope.
 type CensoredSenResult struct {
@@ -129,7 +132,7 @@ func akritasTheilSen(t, y []float64, c []Censoring, bound float64) (CensoredSenR
 		return CensoredSenResult{}, err
 	}
 	if n > MaxCensoredSenValues {
-		return CensoredSenResult{}, fmt.Errorf("Akritas–Theil–Sen slope: %d values, at most %d supported", n, MaxCensoredSenValues)
+		return CensoredSenResult{}, fmt.Errorf("Akritas–Theil–Sen slope: %d values, at most %d supported (its time grows as n²)", n, MaxCensoredSenValues)
 	}
 	res := CensoredSenResult{N: n, Slope: math.NaN(), Lower: math.NaN(), Upper: math.NaN(), CILower: math.NaN(), CIUpper: math.NaN()}
 	for _, m := range c {
@@ -155,6 +158,21 @@ func akritasTheilSen(t, y []float64, c []Censoring, bound float64) (CensoredSenR
 				nDown++
 			}
 		}
+	}
+	if steps := int64(nTwo + nUp + nDown); steps > atsSortedSteps {
+		res.Steps = steps
+		s0 := int64(nTwo + nUp)
+		wants := []int64{s0, s0 + 1, 0, 0} // S(v+) ≤ 0; S(v+) < 0
+		if !math.IsNaN(bound) {
+			wants[2] = s0 - int64(math.Floor(bound))     // S(v+) ≤ C
+			wants[3] = s0 - int64(math.Ceil(-bound)) + 1 // S(v+) < −C
+		}
+		e := atsStreamEnds(t, y, c, wants, steps, int64(2*nTwo+nUp+nDown))
+		res.Lower, res.Upper, res.CILower, res.CIUpper = e[0], e[1], e[2], e[3]
+		if !math.IsNaN(res.Lower) && !math.IsNaN(res.Upper) {
+			res.Slope = (res.Lower + res.Upper) / 2
+		}
+		return res, nil
 	}
 	two := make([]float64, 0, nTwo)
 	up := make([]float64, 0, nUp)

@@ -15,6 +15,7 @@ import (
 	"math/rand/v2"
 	"os/exec"
 	"slices"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
@@ -260,5 +261,68 @@ print(json.dumps(out))`
 	}
 	if same < 5 {
 		t.Errorf("only %d cases where the ranks coincide with scipy's", same)
+	}
+}
+
+// TestAkritasTheilSenStreamingEqualsSorted forces the O(n)-memory search
+// (censored_sen_stream.go) on samples small enough to sort and compares
+// every end bit for bit with the sorted walk (itself checked against the
+// brute force above), with small pivot and collection sizes so that the
+// brackets shrink over several rounds; heavy ties (a coarse grid, many
+// equal slopes) exercise the cells whose steps equal their pivot.
+func TestAkritasTheilSenStreamingEqualsSorted(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13, 9))
+	for k := 0; k < 64; k++ {
+		n := 2 + rng.IntN(300)
+		y, c := censRandom(rng, n, [][]float64{{2}, {1, 3}, {0.5, 2, 4.5}, {-1}}[k%4], k%3 == 2)
+		if k >= 60 {
+			// Nearly every value censored: few pairs have a step, so the
+			// first pivots cannot be drawn from random pairs.
+			n = 300
+			y, c = make([]float64, n), make([]Censoring, n)
+			for i := range y {
+				y[i], c[i] = float64(1+i%3), BelowLimit
+			}
+			y[k*7%n], c[k*7%n] = 5, Uncensored
+		}
+		tt := make([]float64, n)
+		for i := range tt {
+			tt[i] = float64(i)
+			if k%5 != 0 {
+				tt[i] += float64(rng.IntN(3)) / 4
+			}
+			if k%2 == 1 && c[i] == Uncensored {
+				y[i] += 0.01 * tt[i]
+			}
+		}
+		conf := []float64{0.95, 0.5, 0.99}[k%3]
+		want, err := AkritasTheilSenInterval(tt, y, c, conf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		saved, savedPiv, savedFirst, savedCol := atsSortedSteps, atsPivotCount, atsFirstPivots, atsCollectMax
+		atsSortedSteps, atsPivotCount, atsFirstPivots, atsCollectMax = 0, 2+k%7, 3+k%11, int64(8+k%20)
+		got, err := AkritasTheilSenInterval(tt, y, c, conf)
+		atsSortedSteps, atsPivotCount, atsFirstPivots, atsCollectMax = saved, savedPiv, savedFirst, savedCol
+		if err != nil {
+			t.Fatal(err)
+		}
+		same := func(a, b float64) bool { return a == b || (math.IsNaN(a) && math.IsNaN(b)) }
+		if !same(got.Slope, want.Slope) || !same(got.Lower, want.Lower) || !same(got.Upper, want.Upper) ||
+			!same(got.CILower, want.CILower) || !same(got.CIUpper, want.CIUpper) || got.Steps != want.Steps {
+			t.Errorf("k=%d n=%d: streaming %+v\nsorted %+v", k, n, got, want)
+		}
+	}
+}
+
+func TestAkritasTheilSenLimit(t *testing.T) {
+	n := MaxCensoredSenValues + 1
+	tt, y := make([]float64, n), make([]float64, n)
+	for i := range tt {
+		tt[i], y[i] = float64(i), float64(i%7)
+	}
+	_, err := AkritasTheilSenInterval(tt, y, make([]Censoring, n), 0.95)
+	if err == nil || !strings.Contains(err.Error(), "50001 values, at most 50000 supported") {
+		t.Errorf("n = %d: %v", n, err)
 	}
 }
