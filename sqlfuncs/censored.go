@@ -48,13 +48,21 @@ package sqlfuncs
 // ambiguous_pairs (tied by censoring), tied_pairs (equal uncensored numbers).
 // censored_seasonal_kendall: n, censored, censored_share, limits,
 // highest_limit, recensored_at, period_s, season_definition, seasons,
-// seasons_used, s, var_s, z, p, n_pairs, ordered_pairs, per_season
+// seasons_used, s, var_s, z, p, cycles, var_s_dependent, z_dependent,
+// p_dependent, dependent_note, n_pairs, ordered_pairs, per_season
 // [{season, n, censored, s, var_s}]. var_s is the sum of the season
 // variances, which assumes the seasons independent (common practice for the
 // seasonal Kendall test without a covariance correction); with seasons that
-// move together from cycle to cycle p is too small, and unlike
-// seasonal_kendall's p_dependent no between-season covariance correction is
-// offered for censored values. censored_sen_slope: n, censored,
+// move together from cycle to cycle p is too small. As in seasonal_kendall
+// (same cycles: floor(t/period) from the epoch, or the UTC calendar year),
+// when every (cycle, season) cell holds at most one value the JSON also
+// carries cycles, var_s_dependent, z_dependent and p_dependent: the
+// between-season covariance of Dietz & Killeen (1981) / Hirsch & Slack
+// (1984) with the censored order in place of ranks
+// (stats/censored_seasonal_dep.go; this project's extension, equal to
+// seasonal_kendall's without censoring and to the covariance over all
+// orders of the cycles for a complete matrix); otherwise those are null
+// and dependent_note says why. censored_sen_slope: n, censored,
 // censored_share, slope_per_year, sup_positive_per_year (sup{β: S(β) > 0}),
 // inf_negative_per_year (inf{β: S(β) < 0}), lower and upper (the interval
 // per year; null when it is unbounded on that side — few values or much
@@ -75,10 +83,12 @@ package sqlfuncs
 import (
 	"database/sql/driver"
 	"fmt"
+	"math"
 	"slices"
 	"sort"
 	"strconv"
 	"strings"
+	"time"
 
 	"modernc.org/sqlite"
 
@@ -339,6 +349,27 @@ func censoredSeasonalValue(r censoredRows, opts []driver.Value) (driver.Value, e
 	b.num("var_s", res.VarS)
 	b.num("z", res.Z)
 	b.num("p", res.P)
+	cycle := make([]int, len(r.T))
+	for i, t := range r.T {
+		if calendar {
+			cycle[i] = time.Unix(int64(math.Floor(t)), 0).UTC().Year()
+		} else {
+			cycle[i] = int(math.Floor(t / period))
+		}
+	}
+	if dep, err := stats.CensoredSeasonalDependent(r.Y, r.C, season, cycle, int(seasons), res.S); err == nil {
+		b.int("cycles", int64(dep.Cycles))
+		b.num("var_s_dependent", dep.VarS)
+		b.num("z_dependent", dep.Z)
+		b.num("p_dependent", dep.P)
+		b.raw("dependent_note", "null")
+	} else {
+		b.raw("cycles", "null")
+		b.raw("var_s_dependent", "null")
+		b.raw("z_dependent", "null")
+		b.raw("p_dependent", "null")
+		b.str("dependent_note", err.Error())
+	}
 	b.int("n_pairs", res.Pairs)
 	b.int("ordered_pairs", res.Untied)
 	b.array("per_season", len(res.PerSeason), func(o []byte, i int) []byte {
@@ -404,7 +435,7 @@ func init() {
 	})
 	defineCensored(censoredSpec{
 		doc: Doc{Name: "censored_seasonal_kendall", Signature: "censored_seasonal_kendall(t, y, mark, period [, seasons [, 'recensor=highest']])", Kind: Aggregate,
-			Summary: "JSON {s, var_s, z, p, per_season, ...}: seasonal Kendall test (independent seasons) for values with reporting limits"},
+			Summary: "JSON {s, var_s, z, p, p_dependent, per_season, ...}: seasonal Kendall test for values with reporting limits (independent seasons; with one value per season and cycle also the between-season covariance correction)"},
 		minOptions: 1, maxOptions: 3, compute: censoredSeasonalValue,
 	})
 	defineCensored(censoredSpec{

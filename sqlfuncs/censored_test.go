@@ -9,6 +9,7 @@ package sqlfuncs_test
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
 	"os"
 	"strings"
@@ -32,6 +33,7 @@ type censRefFile struct {
 	} `json:"seasonal_cases"`
 	Seasonal []struct {
 		PIndep float64 `json:"p_indep"`
+		PDep   float64 `json:"p_dep"`
 	} `json:"seasonal"`
 	Sen []struct {
 		Name  string    `json:"name"`
@@ -106,6 +108,11 @@ func TestCensoredSQLReference(t *testing.T) {
 		if !kClose(num(t, res, "p"), py.Seasonal[i].PIndep, 1e-9) {
 			t.Errorf("%s: p %v, scipy %v", c.Name, res["p"], py.Seasonal[i].PIndep)
 		}
+		// scipy 1.10.1 kendalltau_seasonal "global p-value (dep)": one value
+		// per season and year, so the between-season covariance applies.
+		if !kClose(num(t, res, "p_dependent"), py.Seasonal[i].PDep, 1e-9) || num(t, res, "cycles") != float64(len(c.X)) || res["dependent_note"] != nil {
+			t.Errorf("%s: p_dependent %v cycles %v note %v, scipy dep %v", c.Name, res["p_dependent"], res["cycles"], res["dependent_note"], py.Seasonal[i].PDep)
+		}
 	}
 	for _, c := range py.Sen {
 		insertK(t, db, c.Name, c.T, nil, anys(c.Y))
@@ -162,6 +169,12 @@ func TestCensoredSQLMarksOptionsErrors(t *testing.T) {
 	m = jsonMap(t, queryVal(t, db, `SELECT censored_sen_slope(t, y, x) FROM kobs WHERE g = 'allcens'`))
 	if m["slope_per_year"] != nil || num(t, m, "censored_share") != 1 {
 		t.Errorf("all censored slope: %v", m)
+	}
+	// Two values in one season of one cycle: no covariance correction, and
+	// the note says why.
+	m = jsonMap(t, queryVal(t, db, `SELECT censored_seasonal_kendall(t, y, x, '1y', 2) FROM kobs WHERE g = 'multi'`))
+	if m["p_dependent"] != nil || m["cycles"] != nil || !strings.Contains(fmt.Sprint(m["dependent_note"]), "holds more than one value") || m["p"] == nil {
+		t.Errorf("several values per cell: %v", m)
 	}
 	// Fewer than 2 rows → NULL.
 	if v := queryVal(t, db, `SELECT censored_mann_kendall(t, y, x) FROM kobs WHERE g = 'allcens' AND t = ?`, day); v != nil {

@@ -294,8 +294,7 @@ type CensoredSeasonalResult struct {
 // Kendall test when no covariance correction is requested). When seasons
 // move together from cycle to cycle (a wet year raising every month), the
 // covariances are positive, Var(S) is underestimated and P is too small;
-// the covariance-corrected variance of Hirsch & Slack (1984) is not
-// computed for censored values.
+// CensoredSeasonalDependent computes the covariance-corrected variance.
 func CensoredSeasonalKendall(y []float64, c []Censoring, season []int, seasons int) (CensoredSeasonalResult, error) {
 	n := len(y)
 	if len(season) != n {

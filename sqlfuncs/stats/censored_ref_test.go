@@ -64,6 +64,7 @@ type censPySeasonal struct {
 	Name    string   `json:"name"`
 	SSeason []int64  `json:"s_season"`
 	PIndep  *float64 `json:"p_indep"`
+	PDep    *float64 `json:"p_dep"`
 }
 
 type censPyOut struct {
@@ -183,6 +184,21 @@ func checkCensSeasonal(t *testing.T, c censSeasonalCase, py censPySeasonal) {
 	}
 	if !mkClose(got.P, censNum(py.PIndep), 1e-9) {
 		t.Errorf("%s: p %v, scipy kendalltau_seasonal indep %v", c.Name, got.P, censNum(py.PIndep))
+	}
+	// The between-season covariance: scipy's "global p-value (dep)" on
+	// the substituted data.
+	{
+		cycle := make([]int, len(y))
+		for i := range cycle {
+			cycle[i] = i / m
+		}
+		dep, err := CensoredSeasonalDependent(y, cc, season, cycle, m, got.S)
+		if err != nil {
+			t.Fatalf("%s: %v", c.Name, err)
+		}
+		if !mkClose(dep.P, censNum(py.PDep), 1e-9) {
+			t.Errorf("%s: p_dependent %v, scipy kendalltau_seasonal dep %v", c.Name, dep.P, censNum(py.PDep))
+		}
 	}
 }
 

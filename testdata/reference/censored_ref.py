@@ -15,7 +15,9 @@ substituted data with Debian's scipy (1.10.1) and numpy:
             correction); S and Var(S) by the O(n^2) definition in numpy
   seasonal  scipy.stats.mstats.kendalltau_seasonal(X_sub) on a complete
             years x seasons matrix -> per-season S and "global p-value
-            (indep)" (continuity corrected)
+            (indep)" and "global p-value (dep)" (the between-season
+            covariance of Dietz & Killeen / Hirsch & Slack; both continuity
+            corrected)
   sen       scipy.stats.theilslopes(y, t / 31557600) on uncensored series:
             the Akritas-Theil-Sen slope without censoring is the Sen slope
 
@@ -75,7 +77,8 @@ def seasonal_case(case):
     s_szn = [int(sum(np.sign(X[j, g] - X[i, g]) for i in range(years) for j in range(i + 1, years)))
              for g in range(X.shape[1])]
     return {"name": case["name"], "s_season": s_szn,
-            "p_indep": fl(res["global p-value (indep)"])}
+            "p_indep": fl(res["global p-value (indep)"]),
+            "p_dep": fl(res["global p-value (dep)"])}
 
 
 def versions():
