@@ -28,9 +28,11 @@ type CheckItem struct {
 }
 
 // Check inspects the store at path without writing to it: hard links of the
-// file, schema version, SQLite's integrity and foreign-key checks, readings
+// file, its size against its header, schema version, SQLite's integrity and foreign-key checks, readings
 // of no series, series without readings, and summary runs left running (by
-// a process that ended without finishing them) or failed.
+// a process that ended without finishing them) or failed. A damaged file
+// (SQLite finds a malformed page or no database header) is a problem
+// finding, not an error.
 func Check(ctx context.Context, path string) ([]CheckItem, error) {
 	st, err := os.Stat(path)
 	if err != nil {
@@ -50,7 +52,24 @@ func Check(ctx context.Context, path string) ([]CheckItem, error) {
 	if links > 1 {
 		return items, nil // opening it would be refused (LinkError)
 	}
+	pages, problem, err := fileSizeFinding(path, st.Size())
+	if err != nil {
+		return nil, fmt.Errorf("check %s: %w", path, err)
+	}
+	if problem != "" {
+		items = append(items, CheckItem{Name: "file size", Level: CheckProblem, Count: 1, Message: problem + "; restore it from a backup and do not write to it"})
+	} else {
+		items = append(items, CheckItem{Name: "file size", Level: CheckOK, Count: 0, Message: fmt.Sprintf("%d bytes, %d whole pages", st.Size(), pages)})
+	}
+	damaged := func(name string, err error) {
+		items = append(items, CheckItem{Name: name, Level: CheckProblem, Count: 1,
+			Message: fmt.Sprintf("the store file is damaged (SQLite says: %s); restore it from a backup and do not write to it", sqliteMessage(err))})
+	}
 	s, err := Open(ctx, path, Options{ReadOnly: true})
+	if isDamaged(err) {
+		damaged("integrity", err)
+		return items, nil
+	}
 	var se *SchemaError
 	if errors.As(err, &se) {
 		add("schema version", int64(se.Latest-se.Current), CheckProblem, "",
@@ -62,6 +81,10 @@ func Check(ctx context.Context, path string) ([]CheckItem, error) {
 	}
 	defer s.Close()
 	cur, latest, err := s.SchemaVersion(ctx)
+	if isDamaged(err) {
+		damaged("schema version", err)
+		return items, nil
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -71,28 +94,20 @@ func Check(ctx context.Context, path string) ([]CheckItem, error) {
 		add("schema version", 0, CheckProblem, fmt.Sprintf("schema version %d, current", cur), "")
 	}
 
-	var msgs []string
-	rows, err := s.DB.QueryContext(ctx, `PRAGMA integrity_check`)
-	if err != nil {
+	msgs, err := integrityMessages(ctx, s)
+	switch {
+	case isDamaged(err):
+		damaged("integrity", err)
+	case err != nil:
 		return nil, fmt.Errorf("check %s: integrity check: %w", path, err)
-	}
-	for rows.Next() {
-		var m string
-		if err := rows.Scan(&m); err != nil {
-			rows.Close()
-			return nil, err
+	default:
+		first := ""
+		if len(msgs) > 0 {
+			first = msgs[0]
 		}
-		if m != "ok" {
-			msgs = append(msgs, m)
-		}
+		add("integrity", int64(len(msgs)), CheckProblem, "SQLite's integrity check says ok",
+			fmt.Sprintf("SQLite's integrity check found %d problems, the first: %s", len(msgs), first))
 	}
-	rows.Close()
-	first := ""
-	if len(msgs) > 0 {
-		first = msgs[0]
-	}
-	add("integrity", int64(len(msgs)), CheckProblem, "SQLite's integrity check says ok",
-		fmt.Sprintf("SQLite's integrity check found %d problems, the first: %s", len(msgs), first))
 
 	count := func(q string) (int64, error) {
 		var n int64
@@ -115,6 +130,10 @@ func Check(ctx context.Context, path string) ([]CheckItem, error) {
 	}
 	for _, c := range queries {
 		n, err := count(c.q)
+		if isDamaged(err) {
+			damaged(c.name, err)
+			continue
+		}
 		if err != nil {
 			return nil, fmt.Errorf("check %s: %s: %w", path, c.name, err)
 		}
@@ -125,6 +144,10 @@ func Check(ctx context.Context, path string) ([]CheckItem, error) {
 		add(c.name, n, c.level, c.ok, msg)
 	}
 	running, err := count(`SELECT count(*) FROM summary_runs WHERE status = 'running'`)
+	if isDamaged(err) {
+		damaged("summary runs left running", err)
+		return items, nil
+	}
 	if err != nil {
 		return nil, fmt.Errorf("check %s: summary runs: %w", path, err)
 	}
@@ -136,6 +159,27 @@ func Check(ctx context.Context, path string) ([]CheckItem, error) {
 			fmt.Sprintf("%d summary runs are marked running but no process runs them (the process ended; the next summarize marks them interrupted)", running))
 	}
 	return items, nil
+}
+
+// integrityMessages runs PRAGMA integrity_check and returns its messages
+// other than "ok".
+func integrityMessages(ctx context.Context, s *Store) ([]string, error) {
+	rows, err := s.DB.QueryContext(ctx, `PRAGMA integrity_check`)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var msgs []string
+	for rows.Next() {
+		var m string
+		if err := rows.Scan(&m); err != nil {
+			return nil, err
+		}
+		if m != "ok" {
+			msgs = append(msgs, m)
+		}
+	}
+	return msgs, rows.Err()
 }
 
 // summarizeLockHeld reports whether a summary run holds the store's

@@ -18,13 +18,15 @@ func newCheckCmd(e *env) *cobra.Command {
 		Use:   "check",
 		Short: "Inspect the store for damage and leftovers, without changing it",
 		Long: `Inspect the store without writing to it: the number of names (hard links) of
-the file, the schema version, SQLite's integrity and foreign-key checks,
-readings of no series, series without readings, summary runs that failed and
-summary runs left running by a process that ended.
+the file, its size against its database header (a file cut short), the
+schema version, SQLite's integrity and foreign-key checks, readings of no
+series, series without readings, summary runs that failed and summary runs
+left running by a process that ended.
 
 Each line gives what was checked, its state (ok, note or problem), a count
-and what it means. Exit status 1 when any line is a problem, 0 otherwise
-(notes do not fail the check).`,
+and what it means; a file SQLite finds damaged is a problem line, not a
+crash. Exit status 1 when any line is a problem, 0 otherwise (notes do not
+fail the check).`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error { return runCheck(cmd.Context(), e) },
 	}
