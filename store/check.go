@@ -5,8 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"os"
-	"path/filepath"
-	"syscall"
 )
 
 // CheckLevel grades one finding of Check.
@@ -151,7 +149,7 @@ func Check(ctx context.Context, path string) ([]CheckItem, error) {
 	if err != nil {
 		return nil, fmt.Errorf("check %s: summary runs: %w", path, err)
 	}
-	if running > 0 && summarizeLockHeld(path) {
+	if running > 0 && SummarizeLockHeld(path) {
 		items = append(items, CheckItem{Name: "summary runs left running", Level: CheckOK, Count: 0,
 			Message: fmt.Sprintf("%d summary run in progress", running)})
 	} else {
@@ -180,23 +178,4 @@ func integrityMessages(ctx context.Context, s *Store) ([]string, error) {
 		}
 	}
 	return msgs, rows.Err()
-}
-
-// summarizeLockHeld reports whether a summary run holds the store's
-// summarize lock now.
-func summarizeLockHeld(path string) bool {
-	if p, err := filepath.EvalSymlinks(path); err == nil {
-		path = p
-	}
-	f, err := os.Open(path + SummarizeLockSuffix)
-	if err != nil {
-		return false
-	}
-	defer f.Close()
-	err = syscall.Flock(int(f.Fd()), syscall.LOCK_EX|syscall.LOCK_NB)
-	if err == nil {
-		syscall.Flock(int(f.Fd()), syscall.LOCK_UN)
-		return false
-	}
-	return errors.Is(err, syscall.EWOULDBLOCK)
 }

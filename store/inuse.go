@@ -6,14 +6,8 @@ import (
 	"errors"
 	"fmt"
 	"os"
-	"path/filepath"
 	"strings"
-	"syscall"
 )
-
-// SummarizeLockSuffix names the lock file of summary runs: the store's
-// path (symbolic links resolved) followed by this suffix.
-const SummarizeLockSuffix = ".summarize-lock"
 
 // ErrInUse: another process writes the store or runs a summary on it.
 var ErrInUse = errors.New("store is in use by another writer")
@@ -26,19 +20,8 @@ func CheckNotInUse(ctx context.Context, path string) error {
 	if _, err := os.Stat(path); errors.Is(err, os.ErrNotExist) {
 		return nil
 	}
-	lockPath := path
-	if p, err := filepath.EvalSymlinks(path); err == nil {
-		lockPath = p
-	}
-	if f, err := os.Open(lockPath + SummarizeLockSuffix); err == nil {
-		err := syscall.Flock(int(f.Fd()), syscall.LOCK_EX|syscall.LOCK_NB)
-		if err == nil {
-			syscall.Flock(int(f.Fd()), syscall.LOCK_UN)
-		}
-		f.Close()
-		if errors.Is(err, syscall.EWOULDBLOCK) {
-			return fmt.Errorf("%s: %w (a summary run)", path, ErrInUse)
-		}
+	if SummarizeLockHeld(path) {
+		return fmt.Errorf("%s: %w (a summary run)", path, ErrInUse)
 	}
 	db, err := sql.Open("sqlite", DSN(path, false))
 	if err != nil {
