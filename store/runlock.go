@@ -47,42 +47,78 @@ func SummarizeLockFiles(path string) (identity, beside string, err error) {
 // ErrLockHeld: another process holds a summarize lock of the store.
 var ErrLockHeld = errors.New("another summary run holds the store's summarize lock")
 
-// TrySummarizeLock takes both summarize locks of the store at path (see
-// SummarizeLockFiles) without waiting, creating the lock files as needed.
-// It returns ErrLockHeld when another process holds either; then it holds
-// neither. The operating system releases the locks when the process ends.
-func TrySummarizeLock(path string) (release func(), err error) {
+// SummarizeLock is the pair of summarize lock files of one store, open (see
+// SummarizeLockFiles). The operating system releases the locks when the
+// process ends.
+type SummarizeLock struct {
+	files []*os.File
+	held  bool
+}
+
+// OpenSummarizeLock opens (creating) the summarize lock files of the store
+// at path without locking them.
+func OpenSummarizeLock(path string) (*SummarizeLock, error) {
 	identity, beside, err := SummarizeLockFiles(path)
 	if err != nil {
 		return nil, fmt.Errorf("summarize lock: %w", err)
 	}
-	var held []*os.File
-	releaseAll := func() {
-		for _, f := range held {
-			syscall.Flock(int(f.Fd()), syscall.LOCK_UN)
-			f.Close()
-		}
-	}
+	l := &SummarizeLock{}
 	for _, name := range []string{beside, identity} {
 		if name == "" {
 			continue
 		}
 		f, err := openLockFile(name, name == identity)
 		if err != nil {
-			releaseAll()
+			l.Close()
 			return nil, fmt.Errorf("summarize lock: %w", err)
 		}
-		if err := syscall.Flock(int(f.Fd()), syscall.LOCK_EX|syscall.LOCK_NB); err != nil {
-			f.Close()
-			releaseAll()
-			if errors.Is(err, syscall.EWOULDBLOCK) || errors.Is(err, syscall.EINTR) {
-				return nil, ErrLockHeld
-			}
-			return nil, fmt.Errorf("summarize lock %s: %w", name, err)
-		}
-		held = append(held, f)
+		l.files = append(l.files, f)
 	}
-	return releaseAll, nil
+	return l, nil
+}
+
+// TryLock takes both locks without waiting. It returns ErrLockHeld when
+// another process holds either; then it holds neither.
+func (l *SummarizeLock) TryLock() error {
+	for i, f := range l.files {
+		if err := syscall.Flock(int(f.Fd()), syscall.LOCK_EX|syscall.LOCK_NB); err != nil {
+			for _, g := range l.files[:i] {
+				syscall.Flock(int(g.Fd()), syscall.LOCK_UN)
+			}
+			if errors.Is(err, syscall.EWOULDBLOCK) || errors.Is(err, syscall.EINTR) {
+				return ErrLockHeld
+			}
+			return fmt.Errorf("summarize lock %s: %w", f.Name(), err)
+		}
+	}
+	l.held = true
+	return nil
+}
+
+// Close releases the locks if held and closes the files.
+func (l *SummarizeLock) Close() {
+	for _, f := range l.files {
+		if l.held {
+			syscall.Flock(int(f.Fd()), syscall.LOCK_UN)
+		}
+		f.Close()
+	}
+	l.files, l.held = nil, false
+}
+
+// TrySummarizeLock opens the summarize locks of the store at path and takes
+// them without waiting; release unlocks and closes them. It returns
+// ErrLockHeld when another process holds either lock.
+func TrySummarizeLock(path string) (release func(), err error) {
+	l, err := OpenSummarizeLock(path)
+	if err != nil {
+		return nil, err
+	}
+	if err := l.TryLock(); err != nil {
+		l.Close()
+		return nil, err
+	}
+	return l.Close, nil
 }
 
 // SummarizeLockHeld reports whether another process holds a summarize lock
