@@ -14,6 +14,7 @@ package sqlfuncs
 
 import (
 	"database/sql/driver"
+	"errors"
 	"fmt"
 	"math"
 	"runtime/debug"
@@ -121,9 +122,17 @@ func argInt(fn, arg string, v driver.Value, min, max int64) (int64, error) {
 		if x != math.Trunc(x) || math.IsInf(x, 0) || math.IsNaN(x) {
 			return 0, fmt.Errorf("%s: argument %s must be a whole number, got %v", fn, arg, x)
 		}
+		// Compared as a float: int64(x) of a value beyond the int64
+		// range is undefined (it gives math.MinInt64 on amd64).
+		if x < float64(min) || x > float64(max) {
+			return 0, fmt.Errorf("%s: argument %s = %v is out of range [%d, %d]", fn, arg, x, min, max)
+		}
 		n = int64(x)
 	case string:
 		p, err := strconv.ParseInt(strings.TrimSpace(x), 10, 64)
+		if errors.Is(err, strconv.ErrRange) {
+			return 0, fmt.Errorf("%s: argument %s = %s is out of range [%d, %d]", fn, arg, describe(v), min, max)
+		}
 		if err != nil {
 			return 0, fmt.Errorf("%s: argument %s must be a whole number, got %s", fn, arg, describe(v))
 		}

@@ -298,6 +298,18 @@ func TestQueryBadSQLReportsPosition(t *testing.T) {
 	if !strings.Contains(errOut, "line 2, column 3") || !strings.Contains(errOut, "SELEC") {
 		t.Errorf("error %q: want line 2, column 3 and the offending token", errOut)
 	}
+	// The token SQLite names occurs earlier in the statement too: the
+	// position is the one where parsing stopped (the third ")", column
+	// 63), not the first ")" (column 14).
+	_, errOut, _ = runBin(t, "", "query", "--db", db, "SELECT count(*), max(id) FROM stations WHERE (id > 1 AND (id <) 3)")
+	if !strings.Contains(errOut, "line 1, column 63") || !strings.Contains(errOut, `near ")"`) {
+		t.Errorf("error %q: want line 1, column 63", errOut)
+	}
+	// In a string, a comment and an earlier statement: not the position.
+	_, errOut, _ = runBin(t, "", "query", "--db", db, "SELECT 'a;b 1' AS x; -- 1\nSELECT 2 /* 1 */ 1")
+	if !strings.Contains(errOut, "line 2, column 18") {
+		t.Errorf("error %q: want line 2, column 18", errOut)
+	}
 	_, errOut, code = runBin(t, "", "query", "--db", db, "SELECT no_such_column FROM stations")
 	if code != ExitFailed || !strings.Contains(errOut, "no_such_column") {
 		t.Errorf("unknown column: exit %d, %q", code, errOut)

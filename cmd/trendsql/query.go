@@ -187,26 +187,26 @@ func runStatements(ctx context.Context, s *store.Store, sqlText string, out io.W
 		}
 		prepared, err := s.PrepareUser(ctx, conn, st.text)
 		if err != nil {
-			return sqlError(sqlText, st, err)
+			return sqlError(ctx, conn, sqlText, st, err)
 		}
 		if i < len(stmts)-1 {
 			_, err = prepared.ExecContext(ctx)
 			prepared.Close()
 			if err != nil {
-				return sqlError(sqlText, st, err)
+				return sqlError(ctx, conn, sqlText, st, err)
 			}
 		} else {
 			var rows *sql.Rows
 			rows, err = prepared.QueryContext(ctx)
 			if err != nil {
 				prepared.Close()
-				return sqlError(sqlText, st, err)
+				return sqlError(ctx, conn, sqlText, st, err)
 			}
 			_, err = writeRows(out, rows, opt)
 			rows.Close()
 			prepared.Close()
 			if err != nil {
-				return sqlError(sqlText, st, err)
+				return sqlError(ctx, conn, sqlText, st, err)
 			}
 		}
 		if changes != nil {

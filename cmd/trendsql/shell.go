@@ -287,24 +287,24 @@ func (sh *shell) runOne(ctx context.Context, text string, st statement) error {
 	}
 	prepared, err := sh.store.PrepareUser(ctx, sh.conn, st.text)
 	if err != nil {
-		return sqlError(text, st, err)
+		return sqlError(ctx, sh.conn, text, st, err)
 	}
 	defer prepared.Close()
 	rows, err := prepared.QueryContext(ctx)
 	if err != nil {
-		return sqlError(text, st, err)
+		return sqlError(ctx, sh.conn, text, st, err)
 	}
 	defer rows.Close()
 	cols, err := rows.Columns()
 	if err != nil {
-		return sqlError(text, st, err)
+		return sqlError(ctx, sh.conn, text, st, err)
 	}
 	if len(cols) == 0 {
 		// A statement without a result (INSERT, CREATE, BEGIN...): step it.
 		for rows.Next() {
 		}
 		if err := rows.Err(); err != nil {
-			return sqlError(text, st, err)
+			return sqlError(ctx, sh.conn, text, st, err)
 		}
 		rows.Close()
 		reported := writable && reportChanges(ctx, sh.conn, sh.errw, 0, 1, st.text, before)
@@ -319,7 +319,7 @@ func (sh *shell) runOne(ctx context.Context, text string, st statement) error {
 		_, err = writeRows(sh.out, rows, sh.output())
 	}
 	if err != nil {
-		return sqlError(text, st, err)
+		return sqlError(ctx, sh.conn, text, st, err)
 	}
 	rows.Close()
 	if writable {

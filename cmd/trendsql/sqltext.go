@@ -1,6 +1,8 @@
 package main
 
 import (
+	"context"
+	"database/sql"
 	"fmt"
 	"regexp"
 	"strings"
@@ -131,11 +133,12 @@ func isWordByte(c byte) bool {
 	return c == '_' || c == '$' || c >= 0x80 || ('0' <= c && c <= '9') || ('a' <= c && c <= 'z') || ('A' <= c && c <= 'Z')
 }
 
-var nearRE = regexp.MustCompile(`near "([^"]*)"`)
+var nearRE = regexp.MustCompile(`near "([^"]*)": syntax error`)
 
 // sqlError adds the line and column of the offending token, when SQLite names
-// one, to a statement's error.
-func sqlError(all string, st statement, err error) error {
+// one, to a statement's error. conn (may be nil) is the connection the
+// statement failed on; it locates the token (see syntaxErrorAt).
+func sqlError(ctx context.Context, conn *sql.Conn, all string, st statement, err error) error {
 	msg := err.Error()
 	if store.IsNotAuthorized(err) {
 		msg += guardHint
@@ -146,8 +149,8 @@ func sqlError(all string, st statement, err error) error {
 	if strings.Contains(msg, "have the same time") && multiSeriesViewRE.MatchString(st.text) {
 		msg += multiSeriesHint
 	}
-	if m := nearRE.FindStringSubmatch(msg); m != nil && m[1] != "" {
-		if k := strings.Index(st.text, m[1]); k >= 0 {
+	if m := nearRE.FindStringSubmatch(msg); m != nil && m[1] != "" && conn != nil {
+		if k, ok := syntaxErrorAt(ctx, conn, st.text, m[1]); ok {
 			pos := st.offset + k
 			line := 1 + strings.Count(all[:pos], "\n")
 			col := pos - strings.LastIndex(all[:pos], "\n")
@@ -155,6 +158,37 @@ func sqlError(all string, st statement, err error) error {
 		}
 	}
 	return fmt.Errorf("SQL error: %s", msg)
+}
+
+// maxSyntaxProbes bounds the prepares syntaxErrorAt makes for one error.
+const maxSyntaxProbes = 200
+
+// syntaxErrorAt finds which occurrence of token in the statement text is
+// the one SQLite's parser stopped at: the parser reads tokens left to
+// right, so a prefix of text that ends with the occurrence where it stops
+// fails with the same "near" error, while a prefix ending at an earlier
+// occurrence is merely incomplete (or valid). Each candidate prefix is
+// prepared on conn (never run) and the first that fails with that error
+// gives the offset. ok is false when no prefix does (the position is then
+// not claimed).
+func syntaxErrorAt(ctx context.Context, conn *sql.Conn, text, token string) (offset int, ok bool) {
+	want := `near "` + token + `": syntax error`
+	from := 0
+	for probes := 0; probes < maxSyntaxProbes; probes++ {
+		k := strings.Index(text[from:], token)
+		if k < 0 {
+			return 0, false
+		}
+		k += from
+		stmt, err := conn.PrepareContext(ctx, text[:k+len(token)])
+		if err == nil {
+			stmt.Close()
+		} else if strings.Contains(err.Error(), want) {
+			return k, true
+		}
+		from = k + len(token)
+	}
+	return 0, false
 }
 
 const unsafePragmasUsage = "with --write, also allow the PRAGMAs that switch off a safety of the store (writable_schema, foreign_keys=off, journal_mode=off, synchronous=off, ignore_check_constraints, schema_version)"

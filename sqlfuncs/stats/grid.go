@@ -157,15 +157,25 @@ func (e *GridError) suggestion() string {
 	if e.Suggest > 0 {
 		parts = append(parts, fmt.Sprintf("try step=%s (slots with no reading count as missing)", FormatStep(e.Suggest)))
 	}
-	if e.Common > 0 && e.Common > e.Suggest {
+	if e.Common > 0 && e.Common > e.Suggest && e.Kind != "too-many-slots" {
 		hint := ""
 		if e.Common == MonthStep {
 			hint = ", e.g. one per calendar month timed at the 1st,"
 		}
-		parts = append(parts, fmt.Sprintf("or first aggregate the readings to one per %s (the most common spacing)%s and use step=%s", FormatStep(e.Common), hint, FormatStep(e.Common)))
+		use := "and use step=" + FormatStep(e.Common)
+		if e.Common == e.Step {
+			use = "which this step then fits"
+		}
+		parts = append(parts, fmt.Sprintf("or first aggregate the readings to one per %s (the most common spacing)%s %s", FormatStep(e.Common), hint, use))
 	}
 	if len(parts) == 0 {
+		if e.Kind == "too-many-slots" {
+			return "; no larger step shared by the readings fits them either: analyse shorter periods (e.g. WHERE t BETWEEN …) or readings aggregated to a coarser step"
+		}
 		return ""
+	}
+	if len(parts) == 1 && e.Suggest == 0 {
+		parts[0] = strings.TrimPrefix(parts[0], "or ")
 	}
 	return "; " + strings.Join(parts, ", ")
 }
@@ -228,7 +238,12 @@ func PlaceOnGridTol(t []float64, step, tol float64) (Grid, error) {
 		limit = 100 * len(t)
 	}
 	if span/step >= float64(limit) {
+		// Only a larger step that fits every reading is worth suggesting:
+		// the step tried, or a smaller one, needs at least as many slots.
 		common, _ := InferStep(t)
+		if !(common > step) || !fitsGrid(t, common, tol) {
+			common = 0
+		}
 		return Grid{}, &GridError{Kind: "too-many-slots", Step: step, T1: t[0], T2: t[len(t)-1], Suggest: common}
 	}
 	g.Slot = make([]int, len(t))

@@ -158,3 +158,38 @@ func TestRegularizeWithMissingRows(t *testing.T) {
 		t.Fatalf("one reading: %+v %v", g, err)
 	}
 }
+
+// A grid error never proposes the step that has just failed.
+func TestGridErrorNeverSuggestsFailedStep(t *testing.T) {
+	const t0, h, d = 1600000000.0, 3600.0, 86400.0
+	// Hourly readings with a gap longer than MaxGridSlots hours: the
+	// inferred step (1h) needs too many slots, and no larger shared step
+	// fits the readings.
+	times := []float64{t0, t0 + h, t0 + 2*h, t0 + (MaxGridSlots+10)*h}
+	_, _, err := Regularize(times, []float64{1, 2, 3, 4}, 0)
+	var ge *GridError
+	if !errors.As(err, &ge) || ge.Kind != "too-many-slots" {
+		t.Fatalf("want too-many-slots, got %v", err)
+	}
+	if msg := err.Error(); strings.Contains(msg, "step=1h") || !strings.Contains(msg, "shorter periods") {
+		t.Errorf("too many slots: %s", msg)
+	}
+	// A step far too small for daily readings: the daily step fits and is
+	// suggested.
+	daily := []float64{t0, t0 + d, t0 + 2*d, t0 + 3*d}
+	if _, err := PlaceOnGrid(daily, 0.01); err == nil || !strings.Contains(err.Error(), "try step=1d") {
+		t.Errorf("small step: %v", err)
+	}
+	// Two readings in one slot of the daily grid, which is also the most
+	// common spacing: a smaller step is suggested, and aggregating keeps
+	// the step that failed rather than proposing it again.
+	coll := []float64{t0, t0 + d, t0 + 1.3*d, t0 + 2*d, t0 + 3*d, t0 + 4*d}
+	_, err = PlaceOnGrid(coll, d)
+	if !errors.As(err, &ge) || ge.Kind != "collision" {
+		t.Fatalf("want collision, got %v", err)
+	}
+	msg := err.Error()
+	if strings.Contains(msg, "step=1d") || !strings.Contains(msg, "try step=12h") || !strings.Contains(msg, "which this step then fits") {
+		t.Errorf("collision: %s", msg)
+	}
+}
