@@ -34,6 +34,8 @@ type importOptions struct {
 	rejectCensored                              bool
 	missingValues                               []string
 	maxRejectShare                              string
+	// stations only
+	again bool
 }
 
 func newImportCmd(e *env) *cobra.Command {
@@ -87,6 +89,10 @@ the stored value, metadata keys are merged key by key. Rows with a bad
 latitude (outside -90..90), longitude (outside -180..180) or elevation are
 rejected with the reason.
 
+A file whose SHA-256 equals that of an earlier stations batch is refused,
+naming that batch, and nothing is recorded; --again merges it anyway, with a
+warning.
+
 FILE "-" reads standard input; the batch records its source as "stdin".`,
 		Example: `  trendsql import stations sites.csv
   trendsql import stations --delimiter ';' --decimal-comma sites.csv`,
@@ -97,6 +103,7 @@ FILE "-" reads standard input; the batch records its source as "stdin".`,
 		},
 	}
 	addImportCSVFlags(c, o)
+	c.Flags().BoolVar(&o.again, "again", false, "merge a file already imported (same SHA-256) again instead of refusing it")
 	return c
 }
 
@@ -184,7 +191,10 @@ func runImportStations(ctx context.Context, e *env, o importOptions) error {
 	}
 	return runImport(ctx, e, o.file, func(s *store.Store, progress func(csvimport.Progress)) (string, error) {
 		res, err := csvimport.ImportStations(ctx, s, o.file, csvimport.StationsOptions{
-			Delimiter: delim, DecimalComma: o.decimalComma, Progress: progress, Stdin: e.in, RejectLimit: limit})
+			Delimiter: delim, DecimalComma: o.decimalComma, Progress: progress, Stdin: e.in, RejectLimit: limit, Again: o.again})
+		if errors.Is(err, csvimport.ErrAlreadyImported) {
+			return "", fmt.Errorf("%w (--again merges it anyway)", err)
+		}
 		if err != nil {
 			return "", wordImportError(err)
 		}
@@ -348,8 +358,12 @@ func importReadingsSummary(r *csvimport.ImportResult) string {
 
 // importStationsSummary is the one-line account of a stations import.
 func importStationsSummary(r *csvimport.ImportResult) string {
-	return fmt.Sprintf("%s → batch %d: %s read, %d new, %d already stored (%d of them updated), %s",
+	s := fmt.Sprintf("%s → batch %d: %s read, %d new, %d already stored (%d of them updated), %s",
 		r.File, r.BatchID, importCount(r.RowsRead, "row", "rows"), r.RowsStored, r.RowsDuplicate, r.RowsReplaced, importRejectNote(r))
+	if r.SameFileBatch != 0 {
+		s += fmt.Sprintf("\nwarning: the same file (SHA-256 %s) was already imported as batch %d", r.SHA256, r.SameFileBatch)
+	}
+	return s
 }
 
 // runImport checks the file, opens the store writable, runs one import with

@@ -97,6 +97,16 @@ func TestImportCmdStationsAndReadings(t *testing.T) {
 	if batches != 3 || readings != 4 {
 		t.Errorf("batches %d readings %d, want 3 and 4", batches, readings)
 	}
+	// The same stations file again: refused naming batch 1, exit 1;
+	// --again merges it with a warning naming the batch.
+	_, errs, code = importRunMain(t, "--db", db, "import", "stations", importFixture("stations.csv"))
+	if code != ExitFailed || !strings.Contains(errs, "already imported as batch 1; nothing was imported (--again merges it anyway)") || strings.Count(errs, "\n") != 1 {
+		t.Errorf("same stations file again: exit %d, %q", code, errs)
+	}
+	_, errs, code = importRunMain(t, "--db", db, "import", "stations", "--again", importFixture("stations.csv"))
+	if code != ExitOK || !strings.Contains(errs, "3 rows read, 0 new, 3 already stored (0 of them updated)") || !strings.Contains(errs, "warning: the same file (SHA-256 ") || !strings.Contains(errs, "was already imported as batch 1") {
+		t.Errorf("same stations file with --again: exit %d, %q", code, errs)
+	}
 }
 
 func TestImportCmdDelimiterDecimalCommaTZ(t *testing.T) {

@@ -1,18 +1,19 @@
 package csvimport
 
 // Censored values, declared missing-value markers, duplicates on record and
-// the same-file check of a readings import.
+// the same-file check of readings and stations imports.
 
 import (
 	"context"
+	"crypto/sha256"
 	"database/sql"
+	"encoding/hex"
 	"fmt"
+	"io"
 	"os"
 	"strings"
 
-	"crypto/sha256"
-	"encoding/hex"
-	"io"
+	"trendsql/store"
 )
 
 // reasonMissing is the reject reason of a declared missing-value marker.
@@ -185,20 +186,41 @@ func fileSHA256(path string) (string, error) {
 	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
-// hasReadingsBatches reports whether any finished readings batch has a
-// recorded SHA-256.
-func hasReadingsBatches(ctx context.Context, db *sql.DB) (bool, error) {
+// hasFinishedBatches reports whether any finished batch of kind
+// ("readings" or "stations") has a recorded SHA-256.
+func hasFinishedBatches(ctx context.Context, db *sql.DB, kind string) (bool, error) {
 	var n int
-	err := db.QueryRowContext(ctx, `SELECT EXISTS (SELECT 1 FROM import_batches WHERE kind = 'readings' AND source_sha256 IS NOT NULL AND finished_at IS NOT NULL)`).Scan(&n)
+	err := db.QueryRowContext(ctx, `SELECT EXISTS (SELECT 1 FROM import_batches WHERE kind = ? AND source_sha256 IS NOT NULL AND finished_at IS NOT NULL)`, kind).Scan(&n)
 	return n == 1, err
 }
 
-// earlierBatch returns the earliest finished readings batch with this
+// earlierBatch returns the earliest finished batch of kind with this
 // SHA-256 (0 when none).
 func earlierBatch(ctx context.Context, q interface {
 	QueryRowContext(context.Context, string, ...any) *sql.Row
-}, sha string) (int64, error) {
+}, kind, sha string) (int64, error) {
 	var id sql.NullInt64
-	err := q.QueryRowContext(ctx, `SELECT min(id) FROM import_batches WHERE kind = 'readings' AND source_sha256 = ? AND finished_at IS NOT NULL`, sha).Scan(&id)
+	err := q.QueryRowContext(ctx, `SELECT min(id) FROM import_batches WHERE kind = ? AND source_sha256 = ? AND finished_at IS NOT NULL`, kind, sha).Scan(&id)
 	return id.Int64, err
+}
+
+// sameFileBefore hashes the regular file at path (not standard input) and
+// returns the earliest finished batch of kind with the same SHA-256 (0 when
+// none), before anything is read for the import or written. A store without
+// finished batches of kind has nothing to match, and the file is not read
+// twice.
+func sameFileBefore(ctx context.Context, s *store.Store, kind, path string) (batch int64, sum string, err error) {
+	if path == StdinPath {
+		return 0, "", nil
+	}
+	earlier, err := hasFinishedBatches(ctx, s.DB, kind)
+	if err != nil || !earlier {
+		return 0, "", err
+	}
+	sum, err = fileSHA256(path)
+	if err != nil {
+		return 0, "", nil // openInput reports an unreadable file
+	}
+	batch, err = earlierBatch(ctx, s.DB, kind, sum)
+	return batch, sum, err
 }

@@ -52,9 +52,10 @@ func (e *InputError) Error() string {
 
 func (e *InputError) Unwrap() error { return e.Err }
 
-// ErrAlreadyImported is wrapped by the error of a readings import, under
-// OnDuplicate "error", of a file whose SHA-256 equals that of an earlier
-// finished batch. Nothing is written.
+// ErrAlreadyImported is wrapped by the error of an import of a file whose
+// SHA-256 equals that of an earlier finished batch of its kind: a readings
+// import under OnDuplicate "error", a stations import without Again.
+// Nothing is written.
 var ErrAlreadyImported = errors.New("file already imported")
 
 // AlreadyImportedError names the file and the earlier batch.
@@ -68,6 +69,6 @@ func (e *AlreadyImportedError) Error() string {
 	return fmt.Sprintf("%s: the same file (SHA-256 %s) was already imported as batch %d; nothing was imported", e.File, e.SHA256, e.Batch)
 }
 
-// Unwrap matches ErrAlreadyImported and ErrDuplicate (every reading of the
-// file is a duplicate).
+// Unwrap matches ErrAlreadyImported and ErrDuplicate (every row of the file
+// is a duplicate).
 func (e *AlreadyImportedError) Unwrap() []error { return []error{ErrAlreadyImported, ErrDuplicate} }

@@ -78,6 +78,9 @@ type StationsOptions struct {
 	Progress     func(Progress)
 	Stdin        io.Reader // read when the path is StdinPath (nil: os.Stdin)
 	RejectLimit  RejectLimit
+	// Again imports a file whose SHA-256 equals that of an earlier stations
+	// batch (reported in ImportResult.SameFileBatch) instead of refusing it.
+	Again bool
 }
 
 // StdinPath as an import path reads standard input (or the options' Stdin)
@@ -107,9 +110,10 @@ type ImportResult struct {
 	// wrote: every duplicate under keep-first, the replaced ones under
 	// replace.
 	DuplicatesRecorded int64
-	// SameFileBatch is the earliest finished readings batch of a file with
-	// the same SHA-256 (0: none); the import went ahead because duplicates
-	// are kept or replaced.
+	// SameFileBatch is the earliest finished batch of the same kind (readings
+	// or stations) of a file with the same SHA-256 (0: none); the import went
+	// ahead because duplicates are kept or replaced (readings) or Again was
+	// set (stations).
 	SameFileBatch   int64
 	StationsCreated int64 // stations created with their id only
 	SeriesCreated   int64

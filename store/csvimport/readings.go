@@ -116,20 +116,12 @@ func ImportReadings(ctx context.Context, s *store.Store, path string, opt Readin
 	// written when the file can be hashed first (stdin is checked at its
 	// end, before the commit). A store without finished readings batches
 	// has nothing to match, and the file is not read twice.
-	var sameFile int64
-	earlier, err := hasReadingsBatches(ctx, s.DB)
+	sameFile, sum, err := sameFileBefore(ctx, s, "readings", path)
 	if err != nil {
 		return nil, fmt.Errorf("import %s: look up earlier batches: %w", path, err)
 	}
-	if path != StdinPath && earlier {
-		if sum, err := fileSHA256(path); err == nil {
-			if sameFile, err = earlierBatch(ctx, s.DB, sum); err != nil {
-				return nil, fmt.Errorf("import %s: look up earlier batches: %w", path, err)
-			}
-			if sameFile != 0 && opt.OnDuplicate == DupError {
-				return nil, &AlreadyImportedError{File: path, SHA256: sum, Batch: sameFile}
-			}
-		}
+	if sameFile != 0 && opt.OnDuplicate == DupError {
+		return nil, &AlreadyImportedError{File: path, SHA256: sum, Batch: sameFile}
 	}
 	in, err := openInput(path, opt.Stdin)
 	if err != nil {
@@ -309,7 +301,7 @@ func importReadings(ctx context.Context, s *store.Store, in *importInput, opt Re
 	}
 	if in.name == StdinName {
 		sum := hex.EncodeToString(in.h.Sum(nil))
-		id, err := earlierBatch(ctx, b.tx, sum)
+		id, err := earlierBatch(ctx, b.tx, "readings", sum)
 		if err != nil {
 			return nil, fmt.Errorf("import %s: look up earlier batches: %w", in.name, err)
 		}

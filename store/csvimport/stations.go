@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"database/sql"
+	"encoding/hex"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -49,13 +50,30 @@ var stationColumns = []string{"name", "latitude", "longitude", "elevation_m", "m
 // given fields overwrite the stored ones, and metadata keys are merged key by
 // key (stored keys not in the file are kept). The row counts as duplicate;
 // if anything changed it also counts as replaced.
+//
+// The same file again: when the file's SHA-256 equals that of an earlier
+// finished stations batch, the import fails with an AlreadyImportedError
+// naming that batch (for a regular file before anything is read; for
+// standard input at its end), unless Again is set; then it is merged as any
+// file and ImportResult.SameFileBatch names the earlier batch.
 func ImportStations(ctx context.Context, s *store.Store, path string, opt StationsOptions) (*ImportResult, error) {
+	sameFile, sum, err := sameFileBefore(ctx, s, "stations", path)
+	if err != nil {
+		return nil, fmt.Errorf("import %s: look up earlier batches: %w", path, err)
+	}
+	if sameFile != 0 && !opt.Again {
+		return nil, &AlreadyImportedError{File: path, SHA256: sum, Batch: sameFile}
+	}
 	in, err := openInput(path, opt.Stdin)
 	if err != nil {
 		return nil, fmt.Errorf("import: %w", err)
 	}
 	defer in.f.Close()
-	return importStations(ctx, s, in, opt)
+	res, err := importStations(ctx, s, in, opt)
+	if res != nil && res.SameFileBatch == 0 {
+		res.SameFileBatch = sameFile
+	}
+	return res, err
 }
 
 func importStations(ctx context.Context, s *store.Store, in *importInput, opt StationsOptions) (*ImportResult, error) {
@@ -146,6 +164,17 @@ func importStations(ctx context.Context, s *store.Store, in *importInput, opt St
 				return nil, err
 			}
 		}
+	}
+	if in.name == StdinName {
+		sum := hex.EncodeToString(in.h.Sum(nil))
+		id, err := earlierBatch(ctx, b.tx, "stations", sum)
+		if err != nil {
+			return nil, fmt.Errorf("import %s: look up earlier batches: %w", in.name, err)
+		}
+		if id != 0 && !opt.Again {
+			return nil, &AlreadyImportedError{File: in.name, SHA256: sum, Batch: id}
+		}
+		b.res.SameFileBatch = id
 	}
 	if err := b.finish(ctx); err != nil {
 		return nil, err
