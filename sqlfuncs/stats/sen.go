@@ -117,26 +117,12 @@ func SenSlopeWithVar(t, y []float64, confidence, varS float64) (SenResult, error
 // set it also fills MedianT and MedianY (callers wanting only the slope
 // skip their sorts).
 func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64, medians bool) (SenResult, error) {
-	n := len(t)
-	if n != len(y) {
-		return SenResult{}, errors.New("t and y differ in length")
+	d, res, err := startSen(t, y, blocks)
+	if err != nil {
+		return res, err
 	}
-	for b := 0; b+1 < len(blocks); b++ {
-		for i := blocks[b] + 1; i < blocks[b+1]; i++ {
-			if !(t[i] > t[i-1]) {
-				return SenResult{}, fmt.Errorf("the Sen slope needs increasing times: t[%d] = %v follows t[%d] = %v", i, t[i], i-1, t[i-1])
-			}
-		}
-	}
-	d := newSenData(t, y, blocks)
 	defer d.release()
-	res := SenResult{N: n, Pairs: d.pairs}
-	if d.pairs == 0 {
-		return res, errors.New("the Sen slope needs at least 2 values")
-	}
-	val := func(r slopeRef) float64 { return exactQuotient(y[r.b], y[r.a], t[r.b], t[r.a]) }
-	N := d.pairs
-	ks := []int64{(N + 1) / 2, N/2 + 1} // the middle rank(s)
+	n := len(t)
 	// The medians and the tie groups of y from one sorted copy in the
 	// pooled scratch (a call allocating O(n) here made the collector run
 	// about once per series, which emptied the pool of the selection's much
@@ -161,32 +147,136 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64, medi
 	if medians {
 		res.MedianY = medianOfSorted(ys)
 	}
+	ks := d.medianRanks()
 	if interval {
-		res.Confidence = confidence
 		if varS == 0 && len(blocks) == 2 {
 			varS = mkVarSSorted(ys)
 		}
-		res.VarS = varS
-		z := distuv.UnitNormal.Quantile(1 - (1-confidence)/2)
-		c := z * math.Sqrt(varS)
-		m1 := int64(math.RoundToEven((float64(N) - c) / 2))
-		m2 := int64(math.RoundToEven((float64(N) + c) / 2))
-		res.LowerRank = min(max(m1, 1), N)
-		res.UpperRank = min(max(m2+1, 1), N)
+		res.setIntervalRanks(confidence, varS)
 		ks = append(ks, res.LowerRank, res.UpperRank)
 	}
 	sel := d.selectRanks(ks)
-	res.median = [2]slopeRef{sel[0], sel[1]}
-	if N%2 == 1 {
-		res.Slope = val(sel[0])
-	} else {
-		res.Slope = (val(sel[0]) + val(sel[1])) / 2
-	}
-	if res.Confidence > 0 {
-		res.Lower = val(sel[2])
-		res.Upper = val(sel[3])
+	res.setMedian(d, sel[0], sel[1])
+	if interval {
+		res.setInterval(d, sel[2], sel[3])
 	}
 	return res, nil
+}
+
+// startSen checks the times and takes pooled selection state for t and y
+// (the caller releases it when err is nil).
+func startSen(t, y []float64, blocks []int) (*senData, SenResult, error) {
+	if len(t) != len(y) {
+		return nil, SenResult{}, errors.New("t and y differ in length")
+	}
+	for b := 0; b+1 < len(blocks); b++ {
+		for i := blocks[b] + 1; i < blocks[b+1]; i++ {
+			if !(t[i] > t[i-1]) {
+				return nil, SenResult{}, fmt.Errorf("the Sen slope needs increasing times: t[%d] = %v follows t[%d] = %v", i, t[i], i-1, t[i-1])
+			}
+		}
+	}
+	d := newSenData(t, y, blocks)
+	res := SenResult{N: len(t), Pairs: d.pairs}
+	if d.pairs == 0 {
+		d.release()
+		return nil, res, errors.New("the Sen slope needs at least 2 values")
+	}
+	return d, res, nil
+}
+
+// medianRanks returns the middle rank(s) of the pairs (1-based; the same
+// rank twice for an odd number).
+func (d *senData) medianRanks() []int64 {
+	N := d.pairs
+	return []int64{(N + 1) / 2, N/2 + 1}
+}
+
+// setIntervalRanks fills Confidence, VarS and the interval's ranks (the
+// rule is documented at SenSlope).
+func (r *SenResult) setIntervalRanks(confidence, varS float64) {
+	N := r.Pairs
+	r.Confidence, r.VarS = confidence, varS
+	z := distuv.UnitNormal.Quantile(1 - (1-confidence)/2)
+	c := z * math.Sqrt(varS)
+	m1 := int64(math.RoundToEven((float64(N) - c) / 2))
+	m2 := int64(math.RoundToEven((float64(N) + c) / 2))
+	r.LowerRank = min(max(m1, 1), N)
+	r.UpperRank = min(max(m2+1, 1), N)
+}
+
+// setMedian fills Slope from the pairs of the middle ranks.
+func (r *SenResult) setMedian(d *senData, lo, hi slopeRef) {
+	r.median = [2]slopeRef{lo, hi}
+	if r.Pairs%2 == 1 {
+		r.Slope = d.exactSlope(lo)
+	} else {
+		r.Slope = (d.exactSlope(lo) + d.exactSlope(hi)) / 2
+	}
+}
+
+// setInterval fills Lower and Upper from the pairs of the interval's ranks.
+func (r *SenResult) setInterval(d *senData, lo, hi slopeRef) {
+	r.Lower, r.Upper = d.exactSlope(lo), d.exactSlope(hi)
+}
+
+// exactSlope is the slope of pair r correctly rounded.
+func (d *senData) exactSlope(r slopeRef) float64 {
+	return exactQuotient(d.y[r.b], d.y[r.a], d.t[r.b], d.t[r.a])
+}
+
+// senSession selects the median first and the interval later on the same
+// selection state, for callers whose interval variance depends on the
+// median (the summary's Hamed–Rao correction): the cuts and point orders
+// evaluated for the median serve the interval's ranks.
+type senSession struct {
+	d   *senData
+	res SenResult
+}
+
+// newSenSession selects the Sen median of t and y (no MedianT/MedianY).
+// The caller calls close when err is nil.
+func newSenSession(t, y []float64) (*senSession, error) {
+	d, res, err := startSen(t, y, []int{0, len(t)})
+	if err != nil {
+		return nil, err
+	}
+	ks := d.medianRanks()
+	sel := d.selectRanks(ks)
+	res.setMedian(d, sel[0], sel[1])
+	return &senSession{d: d, res: res}, nil
+}
+
+// median is the result holding the median (no interval).
+func (s *senSession) median() SenResult { return s.res }
+
+// withInterval returns the median with the interval at confidence
+// (0 < confidence < 1) for the variance varS ≥ 0 (0: the Mann–Kendall
+// variance of y), as SenSlopeWithVar gives it.
+func (s *senSession) withInterval(confidence, varS float64) (SenResult, error) {
+	if !(confidence > 0 && confidence < 1) || !(varS >= 0) {
+		return SenResult{}, fmt.Errorf("the Sen interval needs 0 < confidence < 1 and Var(S) ≥ 0, got %v and %v", confidence, varS)
+	}
+	if varS == 0 { // as SenSlopeWithVar: the Mann–Kendall variance of y
+		d := s.d
+		d.sorted = grow(d.sorted, d.n)
+		copy(d.sorted, d.y)
+		d.sortFloats(d.sorted)
+		varS = mkVarSSorted(d.sorted)
+	}
+	res := s.res
+	res.setIntervalRanks(confidence, varS)
+	sel := s.d.selectRanks([]int64{res.LowerRank, res.UpperRank})
+	res.setInterval(s.d, sel[0], sel[1])
+	return res, nil
+}
+
+// close returns the selection state to the pool.
+func (s *senSession) close() {
+	if s.d != nil {
+		s.d.release()
+		s.d = nil
+	}
 }
 
 // sortFloats sorts s ascending (no NaN; zeros of either sign are equal and

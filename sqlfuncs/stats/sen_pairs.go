@@ -57,7 +57,7 @@ func (d *senData) sampleBetween(lo, hi cut, m int, total int64) []slopeItem {
 	}
 	d.enumTmp = grow(d.enumTmp, len(seq))
 	mergeSample(seq, d.enumTmp, draws, emit)
-	d.sample = out
+	d.sample, d.sampleIsAll = out, false
 	return out
 }
 
@@ -184,7 +184,7 @@ func (d *senData) sampleAll(m int) []slopeItem {
 		p := pairOf(int32(lo+i), int32(lo+j))
 		out = append(out, slopeItem{d.slopeF(p), p})
 	}
-	d.sample = out
+	d.sample, d.sampleIsAll = out, true
 	return out
 }
 

@@ -56,13 +56,15 @@ type senData struct {
 	spacing   []float64
 	draws     []int64
 	sample    []slopeItem
-	enum      []slopeItem
-	harvests  []*harvest // pairs gathered by cut evaluations in this selection
-	chains    [][2]int   // near-tie chains of the current evaluation (for a harvest)
-	chainPos  []int32
-	chainList [][]int32
-	chainMark []int32 // zero except while a harvest is corrected
-	pcg       rand.PCG
+	// sampleIsAll: sample holds the draw from all pairs (sampleAll)
+	sampleIsAll bool
+	enum        []slopeItem
+	harvests    []*harvest // pairs gathered by cut evaluations in this selection
+	chains      [][2]int   // near-tie chains of the current evaluation (for a harvest)
+	chainPos    []int32
+	chainList   [][]int32
+	chainMark   []int32 // zero except while a harvest is corrected
+	pcg         rand.PCG
 	// evaluated cuts
 	cuts      []cut
 	tieBlocks []tieBlock
@@ -107,6 +109,7 @@ func newSenData(t, y []float64, blocks []int) *senData {
 	d.mNext = max(4*n, 4096)
 	d.dropOrders()
 	d.cuts, d.tieBlocks = d.cuts[:0], d.tieBlocks[:0]
+	d.sample, d.sampleIsAll = d.sample[:0], false
 	return d
 }
 
@@ -289,6 +292,12 @@ func (d *senData) selectRanks(ks []int64) []slopeRef {
 			it, popLo, pop = h.items, h.lessLo, h.lessHi-h.lessLo
 		} else if lo.inf == -1 && hi.inf == 1 {
 			it = d.sampleAll(int(min(int64(d.mFirst), T)))
+		} else if d.sampleIsAll && 4*T > d.pairs {
+			// a wide bracket (a target outside an earlier round's windows):
+			// the sample of all pairs still held places its cuts as well
+			// (once: a second use would choose the same cuts)
+			it, popLo, pop = d.sample, 0, d.pairs
+			d.sampleIsAll = false
 		} else {
 			it = d.sampleBetween(lo, hi, d.sampleSize(float64(T)), T)
 		}

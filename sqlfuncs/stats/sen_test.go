@@ -427,3 +427,68 @@ func TestSortFloatsMatchesSort(t *testing.T) {
 		}
 	}
 }
+
+// TestSenSessionMatchesEnumeration: the median selected first and the
+// interval selected afterwards on the same state (the summary's order,
+// where the interval's variance depends on the median) give the order
+// statistics of a full enumeration and sort of the pairwise slopes, for
+// variances from zero (ranks 1 and N) through the Mann–Kendall one to
+// many times it (ranks far outside the median's first window). Values on a
+// quarter grid and integer times make every difference exact, so the
+// sorted quotients are the correctly rounded exact slopes in order.
+func TestSenSessionMatchesEnumeration(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 11))
+	for _, n := range []int{2, 3, 10, 200, 1500, 3000} {
+		tt := make([]float64, n)
+		yy := make([]float64, n)
+		tc := 1.6e9
+		for i := range tt {
+			tc += float64(1 + rng.IntN(7200))
+			tt[i] = tc
+			yy[i] = math.Round(rng.NormFloat64()*6+float64(i)*0.02) / 4
+		}
+		fl := bruteFloat(tt, yy)
+		N := int64(len(fl))
+		med := fl[(N-1)/2]
+		if N%2 == 0 {
+			med = (fl[N/2-1] + fl[N/2]) / 2
+		}
+		mk, err := MannKendall(yy)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, v := range []float64{0, 1e-9, mk.VarS, 7 * mk.VarS, 400 * mk.VarS} {
+			s, err := newSenSession(tt, yy)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if m := s.median(); m.Slope != med {
+				t.Fatalf("n=%d: median %v, enumeration %v", n, m.Slope, med)
+			}
+			r, err := s.withInterval(0.95, v)
+			s.close()
+			if err != nil {
+				t.Fatal(err)
+			}
+			want, err := SenSlopeWithVar(tt, yy, 0.95, v)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if r.LowerRank != want.LowerRank || r.UpperRank != want.UpperRank || r.VarS != want.VarS {
+				t.Fatalf("n=%d varS=%v: ranks %d, %d (Var %v), SenSlopeWithVar %d, %d (Var %v)", n, v, r.LowerRank, r.UpperRank, r.VarS, want.LowerRank, want.UpperRank, want.VarS)
+			}
+			if r.Slope != med || r.Lower != fl[r.LowerRank-1] || r.Upper != fl[r.UpperRank-1] {
+				t.Fatalf("n=%d varS=%v: %v [%v, %v] (ranks %d, %d), enumeration %v [%v, %v]",
+					n, v, r.Slope, r.Lower, r.Upper, r.LowerRank, r.UpperRank, med, fl[r.LowerRank-1], fl[r.UpperRank-1])
+			}
+		}
+	}
+	s, err := newSenSession([]float64{1, 2, 3}, []float64{1, 3, 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.close()
+	if _, err := s.withInterval(1, 1); err == nil {
+		t.Fatal("confidence 1: no error")
+	}
+}

@@ -215,7 +215,12 @@ func SummarizeSeries(t, y []float64, o SummaryOptions) (s SeriesSummary) {
 		// The Sen median serves the Hamed–Rao detrending; the interval is
 		// then selected with the variance of the test that is stored.
 		mk, mkErr := MannKendall(y)
-		med, senErr := senSlopeBlocks(t, y, []int{0, n}, 0, 0, false)
+		var med SenResult
+		sess, senErr := newSenSession(t, y)
+		if senErr == nil {
+			defer sess.close()
+			med = sess.median()
+		}
 		varTest, basis := math.NaN(), ""
 		if mkErr != nil {
 			note("Mann–Kendall: %v", mkErr)
@@ -250,7 +255,7 @@ func SummarizeSeries(t, y []float64, o SummaryOptions) (s SeriesSummary) {
 		} else {
 			s.SenSlopePerYear = fp(med.Slope * timefmt.SecondsPerYear)
 			if varTest >= 0 {
-				sen, err := SenSlopeWithVar(t, y, o.Confidence, varTest)
+				sen, err := sess.withInterval(o.Confidence, varTest)
 				if err != nil {
 					note("Sen interval: %v", err)
 				} else {
