@@ -25,6 +25,7 @@ import (
 	"fmt"
 	"slices"
 	"sort"
+	"sync"
 
 	"modernc.org/sqlite"
 )
@@ -150,6 +151,9 @@ type HostGroup struct {
 	boxed  []driver.Value
 }
 
+// hostScratch holds a regression aggregate's columns during StepColumns.
+var hostScratch = sync.Pool{New: func() any { return new([]float64) }}
+
 // NewGroup starts an empty group of an aggregate.
 func (f *HostFunction) NewGroup() (g *HostGroup, err error) {
 	defer recoverInto(f.Doc.Name, &err)
@@ -229,6 +233,52 @@ func (g *HostGroup) StepNumbers(v []float64) (err error) {
 	case g.regr != nil && len(v)%2 == 0:
 		for ; len(v) >= 2; v = v[2:] {
 			g.regr.addPair(v[0], v[1])
+		}
+	default:
+		return fmt.Errorf("%s: internal error: no numeric rows", g.name)
+	}
+	return nil
+}
+
+// StepColumns adds rows rows of plain numbers given column by column, under
+// the conditions of StepNumbers: fill must write column j (the j-th of the
+// Numbers leading arguments) of every row into cols[j], whose length is
+// rows. For a series aggregate the columns are the group's own buffers, so
+// the rows are copied once.
+func (g *HostGroup) StepColumns(rows int, fill func(cols [3][]float64)) (err error) {
+	defer recoverInto(g.name, &err)
+	var cols [3][]float64
+	switch {
+	case rows <= 0:
+		return nil
+	case g.series != nil:
+		a := g.series
+		k := 1 + a.spec.values
+		if !a.stepped {
+			return fmt.Errorf("%s: internal error: numbers before the group's first row", g.name)
+		}
+		n0 := len(a.t)
+		a.t = slices.Grow(a.t, rows)[:n0+rows]
+		a.y = slices.Grow(a.y, rows)[:n0+rows]
+		cols[0], cols[k-1] = a.t[n0:], a.y[n0:]
+		if k == 3 {
+			a.x = slices.Grow(a.x, rows)[:n0+rows]
+			cols[1] = a.x[n0:]
+		}
+		fill(cols)
+		// The rows head.. stay in strictly increasing time order only if
+		// the new ones continue it.
+		for i := max(n0, a.head+1); a.sorted && i < len(a.t); i++ {
+			a.sorted = a.t[i] > a.t[i-1]
+		}
+	case g.regr != nil:
+		sp := hostScratch.Get().(*[]float64)
+		defer hostScratch.Put(sp)
+		*sp = slices.Grow((*sp)[:0], 2*rows)[:2*rows]
+		cols[0], cols[1] = (*sp)[:rows], (*sp)[rows:]
+		fill(cols)
+		for i, y := range cols[0] {
+			g.regr.addPair(y, cols[1][i])
 		}
 	default:
 		return fmt.Errorf("%s: internal error: no numeric rows", g.name)

@@ -124,9 +124,10 @@ int ext_register_scalar(sqlite3 *db, const char *name, int nargs, ext_func *f, i
   return sqlite3_create_function_v2(db, name, nargs, SQLITE_UTF8 | SQLITE_DETERMINISTIC, &f[i], ext_scalar, 0, 0, 0);
 }
 
-/* ---- aggregates: the row log ---- */
+/* ---- aggregates: the row log and the column arrays ---- */
 
 #define EXT_BLOCK (1u << 16)
+#define EXT_FIRST_ROWS 1024
 
 /* log_reserve returns room for n more bytes at the end of the log. */
 static unsigned char *log_reserve(ext_agg *a, size_t n) {
@@ -146,7 +147,6 @@ static unsigned char *log_reserve(ext_agg *a, size_t n) {
       a->rpos = 0;
     }
     a->tail = nb;
-    a->run = 0; /* a run never spans blocks */
     b = nb;
   }
   unsigned char *p = b->data + b->len;
@@ -154,29 +154,36 @@ static unsigned char *log_reserve(ext_agg *a, size_t n) {
   return p;
 }
 
-/* log_numbers appends one row of k numbers to the open run, or starts one. */
-static int log_numbers(ext_agg *a, const double *v, int k) {
-  size_t n = 8 * (size_t)k;
-  ext_blk *b = a->tail;
-  if (a->run && b->len + n <= b->cap) {
-    if (k == 2) {
-      memcpy(b->data + b->len, v, 16); /* the usual (t, y): inlined */
-    } else {
-      memcpy(b->data + b->len, v, n);
-    }
-    b->len += n;
-    a->run_rows++;
-    memcpy(a->run, &a->run_rows, 4);
-    return 1;
-  }
-  unsigned char *p = log_reserve(a, 1 + 4 + n);
+/* log_close_run records the open run of numbers rows in the log. */
+static int log_close_run(ext_agg *a) {
+  if (!a->pending) return 1;
+  unsigned char *p = log_reserve(a, 1 + 4);
   if (!p) return 0;
   *p = EXT_STEP_NUMBERS;
-  a->run = p + 1;
-  a->run_rows = 1;
-  memcpy(a->run, &a->run_rows, 4);
-  memcpy(p + 5, v, n);
+  memcpy(p + 1, &a->pending, 4);
+  a->pending = 0;
   return 1;
+}
+
+/* cols_grow doubles the capacity of the k column arrays. */
+static int cols_grow(ext_agg *a, int k) {
+  size_t cap = a->ncap ? 2 * a->ncap : EXT_FIRST_ROWS;
+  for (int j = 0; j < k; j++) {
+    double *c = (double *)sqlite3_realloc64(a->col[j], sizeof(double) * (sqlite3_uint64)cap);
+    if (!c) return 0;
+    a->col[j] = c;
+  }
+  a->ncap = cap;
+  return 1;
+}
+
+static void cols_free(ext_agg *a) {
+  for (int j = 0; j < 3; j++) {
+    sqlite3_free(a->col[j]);
+    a->col[j] = 0;
+  }
+  a->ncap = a->nrows = a->ntaken = 0;
+  a->pending = 0;
 }
 
 static void log_drop_first(ext_agg *a) {
@@ -184,10 +191,7 @@ static void log_drop_first(ext_agg *a) {
   if (!b) return;
   a->head = b->next;
   a->rpos = 0;
-  if (!a->head) {
-    a->tail = 0;
-    a->run = 0;
-  }
+  if (!a->head) a->tail = 0;
   sqlite3_free(b);
 }
 
@@ -198,14 +202,14 @@ static void log_clear(ext_agg *a) {
 /* Reading, for Go: ext_log_next returns the kind of the next record (0 at
  * the end of the log) and in *n its size: rows for EXT_STEP_NUMBERS, 1 for
  * EXT_INVERSE_NUMBERS, the body length in bytes for the others; then
- * ext_log_take_numbers or ext_log_take_body copies it and moves on. Reading
- * closes the open run, and every block read is freed. */
+ * ext_log_take_columns, ext_log_take_numbers or ext_log_take_body copies it
+ * and moves on. Every block read is freed. The open run is closed by
+ * agg_result before Go reads. */
 int ext_log_next(ext_agg *a, int k, int *n) {
   (void)k;
   if (!a) return 0;
   while (a->head && a->rpos >= a->head->len) log_drop_first(a);
   if (!a->head) return 0;
-  a->run = 0;
   const unsigned char *p = a->head->data + a->rpos;
   uint32_t u = 1;
   if (p[0] != EXT_INVERSE_NUMBERS) memcpy(&u, p + 1, 4);
@@ -213,17 +217,25 @@ int ext_log_next(ext_agg *a, int k, int *n) {
   return p[0];
 }
 
+/* ext_log_take_columns copies the rows of an EXT_STEP_NUMBERS record, one
+ * column per destination (d0 for the first argument; d1 and d2 as k
+ * needs). */
+void ext_log_take_columns(ext_agg *a, int k, double *d0, double *d1, double *d2) {
+  const unsigned char *p = a->head->data + a->rpos;
+  uint32_t rows;
+  memcpy(&rows, p + 1, 4);
+  double *dst[3] = {d0, d1, d2};
+  for (int j = 0; j < k && j < 3; j++) memcpy(dst[j], a->col[j] + a->ntaken, sizeof(double) * (size_t)rows);
+  a->ntaken += rows;
+  a->rpos += 5;
+}
+
+/* ext_log_take_numbers copies the k numbers of an EXT_INVERSE_NUMBERS
+ * record. */
 void ext_log_take_numbers(ext_agg *a, int k, double *dst) {
   const unsigned char *p = a->head->data + a->rpos;
-  uint32_t rows = 1;
-  size_t hdr = 1;
-  if (p[0] == EXT_STEP_NUMBERS) {
-    memcpy(&rows, p + 1, 4);
-    hdr = 5;
-  }
-  size_t n = 8 * (size_t)k * rows;
-  memcpy(dst, p + hdr, n);
-  a->rpos += hdr + n;
+  memcpy(dst, p + 1, 8 * (size_t)k);
+  a->rpos += 1 + 8 * (size_t)k;
 }
 
 void ext_log_take_body(ext_agg *a, unsigned char *dst) {
@@ -299,27 +311,28 @@ static int same_value(sqlite3_value *a, sqlite3_value *b) {
 }
 
 static void agg_row(sqlite3_context *ctx, int argc, sqlite3_value **argv, int inverse) {
-  ext_func *f = (ext_func *)sqlite3_user_data(ctx);
   ext_agg *a = (ext_agg *)sqlite3_aggregate_context(ctx, sizeof(ext_agg));
   if (!a) {
     sqlite3_result_error_nomem(ctx);
     return;
   }
+  const ext_func *f = a->f;
+  if (!f) f = a->f = (const ext_func *)sqlite3_user_data(ctx);
   int k = f->numbers;
   /* A row of plain numbers: the leading k arguments are finite INTEGER or
    * REAL values or NULL, and (when the first row is logged as values) the
-   * rest equal that first row's. */
-  if (k > 0 && argc >= k && (!f->first_boxed || (a->started && argc == a->argc0))) {
-    double v[8];
-    int ok = k <= 8, null = 0;
+   * rest equal that first row's. Each value's type is read once. */
+  if (k > 0 && k <= 3 && argc >= k && (!f->first_boxed || (a->started && argc == a->argc0))) {
+    double v[3];
+    int ok = 1, null = 0;
     for (int i = 0; ok && i < k; i++) {
       switch (sqlite3_value_type(argv[i])) {
-        case SQLITE_INTEGER:
-          v[i] = (double)sqlite3_value_int64(argv[i]);
-          break;
         case SQLITE_FLOAT:
           v[i] = sqlite3_value_double(argv[i]);
           ok = isfinite(v[i]);
+          break;
+        case SQLITE_INTEGER:
+          v[i] = (double)sqlite3_value_int64(argv[i]);
           break;
         case SQLITE_NULL:
           null = 1;
@@ -341,15 +354,22 @@ static void agg_row(sqlite3_context *ctx, int argc, sqlite3_value **argv, int in
     }
     if (ok) {
       if (!inverse) {
-        if (!log_numbers(a, v, k)) sqlite3_result_error_nomem(ctx);
+        if ((a->nrows == a->ncap && !cols_grow(a, k)) || (a->pending == UINT32_MAX && !log_close_run(a))) {
+          sqlite3_result_error_nomem(ctx);
+          return;
+        }
+        size_t r = a->nrows++;
+        a->col[0][r] = v[0];
+        if (k > 1) a->col[1][r] = v[1];
+        if (k > 2) a->col[2][r] = v[2];
+        a->pending++;
         return;
       }
-      unsigned char *p = log_reserve(a, 1 + 8 * (size_t)k);
+      unsigned char *p = log_close_run(a) ? log_reserve(a, 1 + 8 * (size_t)k) : 0;
       if (!p) {
         sqlite3_result_error_nomem(ctx);
         return;
       }
-      a->run = 0;
       *p++ = EXT_INVERSE_NUMBERS;
       memcpy(p, v, 8 * (size_t)k);
       return;
@@ -377,12 +397,11 @@ static void agg_row(sqlite3_context *ctx, int argc, sqlite3_value **argv, int in
   }
   size_t body = 4;
   for (int i = 0; i < argc; i++) body += value_size(argv[i]);
-  unsigned char *p = log_reserve(a, 1 + 4 + body);
+  unsigned char *p = log_close_run(a) ? log_reserve(a, 1 + 4 + body) : 0;
   if (!p) {
     sqlite3_result_error_nomem(ctx);
     return;
   }
-  a->run = 0;
   *p++ = inverse ? EXT_INVERSE_VALUES : EXT_STEP_VALUES;
   uint32_t u = (uint32_t)body;
   memcpy(p, &u, 4);
@@ -399,10 +418,17 @@ static void agg_inverse(sqlite3_context *ctx, int argc, sqlite3_value **argv) { 
 static void agg_result(sqlite3_context *ctx, int final) {
   ext_func *f = (ext_func *)sqlite3_user_data(ctx);
   ext_agg *a = (ext_agg *)sqlite3_aggregate_context(ctx, 0);
-  trendsqlGoAggResult(ctx, f->index, a, final);
+  if (a && !log_close_run(a)) {
+    sqlite3_result_error_nomem(ctx);
+  } else {
+    trendsqlGoAggResult(ctx, f->index, a, final);
+  }
   if (!a) return;
   log_clear(a);
+  a->nrows = a->ntaken = 0;
+  a->pending = 0;
   if (final) {
+    cols_free(a);
     if (a->group) trendsqlGoAggRelease(a->group);
     a->group = 0;
     for (int j = 0; j < a->nopts; j++) sqlite3_value_free(a->opts[j]);

@@ -248,9 +248,9 @@ func trendsqlGoAggRelease(group C.uintptr_t) {
 }
 
 // replay hands the logged rows to the group in the order SQLite delivered
-// them; the first error stops it. A run of rows of plain numbers is copied
-// by C straight into a reused []float64 and reaches the group in one call;
-// a row logged as values is copied, decoded and boxed as the driver boxes
+// them; the first error stops it. A run of rows of plain numbers reaches the
+// group in one call, its columns copied by C straight into the group's
+// buffers; a row logged as values is copied, decoded and boxed as the driver boxes
 // it. Every block read is freed.
 func replay(g *sqlfuncs.HostGroup, k int, a *C.ext_agg) error {
 	bufs := replayPool.Get().(*replayBuffers)
@@ -260,20 +260,24 @@ func replay(g *sqlfuncs.HostGroup, k int, a *C.ext_agg) error {
 		switch kind := C.ext_log_next(a, C.int(k), &n); kind {
 		case 0:
 			return nil
-		case C.EXT_STEP_NUMBERS, C.EXT_INVERSE_NUMBERS:
-			need := max(int(n)*k, 1)
-			if cap(bufs.nums) < need {
-				bufs.nums = make([]float64, need)
-			}
-			nums := bufs.nums[:int(n)*k]
-			C.ext_log_take_numbers(a, C.int(k), (*C.double)(&bufs.nums[0]))
-			var err error
-			if kind == C.EXT_STEP_NUMBERS {
-				err = g.StepNumbers(nums)
-			} else {
-				err = g.InverseNumbers(nums)
-			}
+		case C.EXT_STEP_NUMBERS:
+			err := g.StepColumns(int(n), func(cols [3][]float64) {
+				var d [3]*C.double
+				for j := range min(k, 3) {
+					d[j] = (*C.double)(&cols[j][0])
+				}
+				C.ext_log_take_columns(a, C.int(k), d[0], d[1], d[2])
+			})
 			if err != nil {
+				return err
+			}
+		case C.EXT_INVERSE_NUMBERS:
+			if cap(bufs.nums) < k {
+				bufs.nums = make([]float64, k)
+			}
+			nums := bufs.nums[:k]
+			C.ext_log_take_numbers(a, C.int(k), (*C.double)(&nums[0]))
+			if err := g.InverseNumbers(nums); err != nil {
 				return err
 			}
 		case C.EXT_STEP_VALUES, C.EXT_INVERSE_VALUES:

@@ -36,24 +36,32 @@ typedef struct ext_blk {
   unsigned char *data;
 } ext_blk;
 
-/* An aggregate group's state in sqlite3_aggregate_context memory. Rows are
- * appended to the log by xStep/xInverse in C; Go reads and empties the log
- * when SQLite asks for a value. */
+/* An aggregate group's state in sqlite3_aggregate_context memory. xStep and
+ * xInverse append to it in C; Go reads and empties it when SQLite asks for
+ * a value. A row of plain numbers goes into the column arrays (one array of
+ * doubles per leading argument, grown geometrically) and is counted in the
+ * open run; any other row closes the run (an EXT_STEP_NUMBERS record of its
+ * row count) and is logged as a record after it, so the log keeps SQLite's
+ * order. */
 typedef struct ext_agg {
-  ext_blk *head, *tail; /* rows not yet handed to Go */
+  ext_blk *head, *tail; /* records not yet handed to Go */
   size_t rpos;          /* read position in head */
-  unsigned char *run;   /* count field of the open run of numbers, if the
-                           last record of tail is one */
-  uint32_t run_rows;    /* its row count */
+  double *col[3];       /* column arrays of the numbers rows */
+  size_t ncap;          /* their capacity in rows */
+  size_t nrows;         /* rows stored in them */
+  size_t ntaken;        /* rows of them already handed to Go */
+  uint32_t pending;     /* rows of the open run (the last nrows), not yet
+                           recorded in the log */
   uintptr_t group;      /* Go handle of the group's state, 0 = none yet */
   int started;          /* the first row has been logged */
   int argc0;            /* that row's argument count */
   sqlite3_value **opts; /* copies of its trailing (option) arguments */
   int nopts;
+  const ext_func *f;    /* the function (SQLite's user data), once read */
 } ext_agg;
 
 /* Record kinds of the log (native byte order, no alignment). */
-#define EXT_STEP_NUMBERS 'n'    /* u32 rows, then rows × k doubles */
+#define EXT_STEP_NUMBERS 'n'    /* u32 rows, stored in the column arrays */
 #define EXT_INVERSE_NUMBERS 'm' /* k doubles */
 #define EXT_STEP_VALUES 's'     /* u32 body length; body: u32 argc, argc values */
 #define EXT_INVERSE_VALUES 'i'  /* the same */
@@ -72,6 +80,7 @@ void ext_set_errmsg_owned(char **pz, char *msg);
 
 int ext_log_next(ext_agg *a, int k, int *n);
 void ext_log_take_numbers(ext_agg *a, int k, double *dst);
+void ext_log_take_columns(ext_agg *a, int k, double *d0, double *d1, double *d2);
 void ext_log_take_body(ext_agg *a, unsigned char *dst);
 
 int ext_arg_type(sqlite3_value **argv, int i);
