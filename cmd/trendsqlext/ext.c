@@ -128,6 +128,7 @@ int ext_register_scalar(sqlite3 *db, const char *name, int nargs, ext_func *f, i
 
 #define EXT_BLOCK (1u << 16)
 #define EXT_FIRST_ROWS 1024
+#define EXT_MAX_ROWS (1u << 16)
 
 /* log_reserve returns room for n more bytes at the end of the log. */
 static unsigned char *log_reserve(ext_agg *a, size_t n) {
@@ -165,24 +166,47 @@ static int log_close_run(ext_agg *a) {
   return 1;
 }
 
-/* cols_grow doubles the capacity of the k column arrays. */
-static int cols_grow(ext_agg *a, int k) {
-  size_t cap = a->ncap ? 2 * a->ncap : EXT_FIRST_ROWS;
-  for (int j = 0; j < k; j++) {
-    double *c = (double *)sqlite3_realloc64(a->col[j], sizeof(double) * (sqlite3_uint64)cap);
-    if (!c) return 0;
-    a->col[j] = c;
+/* chunk_add appends an empty chunk of k columns, twice the last one's
+ * capacity (up to EXT_MAX_ROWS rows). */
+static ext_chunk *chunk_add(ext_agg *a, int k) {
+  size_t cap = a->ctail ? 2 * a->ctail->cap : EXT_FIRST_ROWS;
+  if (cap > EXT_MAX_ROWS) cap = EXT_MAX_ROWS;
+  ext_chunk *c = (ext_chunk *)sqlite3_malloc64(sizeof(ext_chunk) + sizeof(double) * (sqlite3_uint64)k * cap);
+  if (!c) return 0;
+  c->next = 0;
+  c->cap = cap;
+  c->n = 0;
+  double *d = (double *)(c + 1);
+  for (int j = 0; j < 3; j++) c->col[j] = j < k ? d + (size_t)j * cap : 0;
+  if (a->ctail) {
+    a->ctail->next = c;
+  } else {
+    a->chead = c;
+    a->rchunk = c;
+    a->roff = 0;
   }
-  a->ncap = cap;
-  return 1;
+  a->ctail = c;
+  return c;
 }
 
-static void cols_free(ext_agg *a) {
-  for (int j = 0; j < 3; j++) {
-    sqlite3_free(a->col[j]);
-    a->col[j] = 0;
+/* chunks_reset empties the columns; keep holds on to the first chunk. */
+static void chunks_reset(ext_agg *a, int keep) {
+  ext_chunk *c = a->chead;
+  if (c && keep) {
+    c->n = 0;
+    c = c->next;
+    a->chead->next = 0;
+  } else {
+    a->chead = 0;
   }
-  a->ncap = a->nrows = a->ntaken = 0;
+  while (c) {
+    ext_chunk *next = c->next;
+    sqlite3_free(c);
+    c = next;
+  }
+  a->ctail = a->chead;
+  a->rchunk = a->chead;
+  a->roff = 0;
   a->pending = 0;
 }
 
@@ -224,10 +248,25 @@ void ext_log_take_columns(ext_agg *a, int k, double *d0, double *d1, double *d2)
   const unsigned char *p = a->head->data + a->rpos;
   uint32_t rows;
   memcpy(&rows, p + 1, 4);
-  double *dst[3] = {d0, d1, d2};
-  for (int j = 0; j < k && j < 3; j++) memcpy(dst[j], a->col[j] + a->ntaken, sizeof(double) * (size_t)rows);
-  a->ntaken += rows;
   a->rpos += 5;
+  double *dst[3] = {d0, d1, d2};
+  if (k > 3) k = 3;
+  size_t left = rows;
+  while (left > 0 && a->rchunk) {
+    ext_chunk *c = a->rchunk;
+    size_t m = c->n - a->roff;
+    if (m > left) m = left;
+    for (int j = 0; j < k; j++) {
+      memcpy(dst[j], c->col[j] + a->roff, sizeof(double) * m);
+      dst[j] += m;
+    }
+    left -= m;
+    a->roff += m;
+    if (a->roff == c->n && c->next) {
+      a->rchunk = c->next;
+      a->roff = 0;
+    }
+  }
 }
 
 /* ext_log_take_numbers copies the k numbers of an EXT_INVERSE_NUMBERS
@@ -354,14 +393,19 @@ static void agg_row(sqlite3_context *ctx, int argc, sqlite3_value **argv, int in
     }
     if (ok) {
       if (!inverse) {
-        if ((a->nrows == a->ncap && !cols_grow(a, k)) || (a->pending == UINT32_MAX && !log_close_run(a))) {
+        ext_chunk *c = a->ctail;
+        if ((!c || c->n == c->cap) && !(c = chunk_add(a, k))) {
           sqlite3_result_error_nomem(ctx);
           return;
         }
-        size_t r = a->nrows++;
-        a->col[0][r] = v[0];
-        if (k > 1) a->col[1][r] = v[1];
-        if (k > 2) a->col[2][r] = v[2];
+        if (a->pending == UINT32_MAX && !log_close_run(a)) {
+          sqlite3_result_error_nomem(ctx);
+          return;
+        }
+        size_t r = c->n++;
+        c->col[0][r] = v[0];
+        if (k > 1) c->col[1][r] = v[1];
+        if (k > 2) c->col[2][r] = v[2];
         a->pending++;
         return;
       }
@@ -425,10 +469,8 @@ static void agg_result(sqlite3_context *ctx, int final) {
   }
   if (!a) return;
   log_clear(a);
-  a->nrows = a->ntaken = 0;
-  a->pending = 0;
+  chunks_reset(a, !final);
   if (final) {
-    cols_free(a);
     if (a->group) trendsqlGoAggRelease(a->group);
     a->group = 0;
     for (int j = 0; j < a->nopts; j++) sqlite3_value_free(a->opts[j]);

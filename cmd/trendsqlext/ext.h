@@ -36,6 +36,15 @@ typedef struct ext_blk {
   unsigned char *data;
 } ext_blk;
 
+/* A chunk of numbers rows: k column arrays of cap doubles (allocated with
+ * the header), n rows used. Chunks grow geometrically, so a group of n rows
+ * takes about log2(n) chunks and no row is ever moved in C. */
+typedef struct ext_chunk {
+  struct ext_chunk *next;
+  size_t cap, n;
+  double *col[3];
+} ext_chunk;
+
 /* An aggregate group's state in sqlite3_aggregate_context memory. xStep and
  * xInverse append to it in C; Go reads and empties it when SQLite asks for
  * a value. A row of plain numbers goes into the column arrays (one array of
@@ -46,12 +55,11 @@ typedef struct ext_blk {
 typedef struct ext_agg {
   ext_blk *head, *tail; /* records not yet handed to Go */
   size_t rpos;          /* read position in head */
-  double *col[3];       /* column arrays of the numbers rows */
-  size_t ncap;          /* their capacity in rows */
-  size_t nrows;         /* rows stored in them */
-  size_t ntaken;        /* rows of them already handed to Go */
-  uint32_t pending;     /* rows of the open run (the last nrows), not yet
-                           recorded in the log */
+  ext_chunk *chead, *ctail; /* the numbers rows, column by column */
+  ext_chunk *rchunk;    /* read position in them: chunk and row */
+  size_t roff;
+  uint32_t pending;     /* rows of the open run (the last rows stored), not
+                           yet recorded in the log */
   uintptr_t group;      /* Go handle of the group's state, 0 = none yet */
   int started;          /* the first row has been logged */
   int argc0;            /* that row's argument count */
