@@ -349,8 +349,7 @@ static int same_value(sqlite3_value *a, sqlite3_value *b) {
   }
 }
 
-static void agg_row(sqlite3_context *ctx, int argc, sqlite3_value **argv, int inverse) {
-  ext_agg *a = (ext_agg *)sqlite3_aggregate_context(ctx, sizeof(ext_agg));
+static void agg_row(sqlite3_context *ctx, ext_agg *a, int argc, sqlite3_value **argv, int inverse) {
   if (!a) {
     sqlite3_result_error_nomem(ctx);
     return;
@@ -407,6 +406,9 @@ static void agg_row(sqlite3_context *ctx, int argc, sqlite3_value **argv, int in
         if (k > 1) c->col[1][r] = v[1];
         if (k > 2) c->col[2][r] = v[2];
         a->pending++;
+        /* Rows of two arguments and nothing else now take agg_step's short
+         * path. */
+        a->pair = k == 2 && argc == 2;
         return;
       }
       unsigned char *p = log_close_run(a) ? log_reserve(a, 1 + 8 * (size_t)k) : 0;
@@ -456,8 +458,43 @@ static void agg_row(sqlite3_context *ctx, int argc, sqlite3_value **argv, int in
   for (int i = 0; i < argc; i++) p = put_value(p, argv[i]);
 }
 
-static void agg_step(sqlite3_context *ctx, int argc, sqlite3_value **argv) { agg_row(ctx, argc, argv, 0); }
-static void agg_inverse(sqlite3_context *ctx, int argc, sqlite3_value **argv) { agg_row(ctx, argc, argv, 1); }
+/* number_arg reads a finite INTEGER or REAL argument into *x. */
+static inline int number_arg(sqlite3_value *v, double *x) {
+  switch (sqlite3_value_type(v)) {
+    case SQLITE_INTEGER:
+      *x = (double)sqlite3_value_int64(v);
+      return 1;
+    case SQLITE_FLOAT:
+      *x = sqlite3_value_double(v);
+      return isfinite(*x);
+    default:
+      return 0;
+  }
+}
+
+/* agg_step's short path takes a row of two plain numbers once a row of that
+ * shape has been stored (a->pair; for a series aggregate that means the
+ * group's first row was two arguments, so there are no options to compare)
+ * and the last chunk has room; every other row goes to agg_row. */
+static void agg_step(sqlite3_context *ctx, int argc, sqlite3_value **argv) {
+  ext_agg *a = (ext_agg *)sqlite3_aggregate_context(ctx, sizeof(ext_agg));
+  if (a && a->pair && argc == 2) {
+    ext_chunk *c = a->ctail;
+    double x, y;
+    if (c->n < c->cap && a->pending < UINT32_MAX && number_arg(argv[0], &x) && number_arg(argv[1], &y)) {
+      size_t r = c->n++;
+      c->col[0][r] = x;
+      c->col[1][r] = y;
+      a->pending++;
+      return;
+    }
+  }
+  agg_row(ctx, a, argc, argv, 0);
+}
+
+static void agg_inverse(sqlite3_context *ctx, int argc, sqlite3_value **argv) {
+  agg_row(ctx, (ext_agg *)sqlite3_aggregate_context(ctx, sizeof(ext_agg)), argc, argv, 1);
+}
 
 static void agg_result(sqlite3_context *ctx, int final) {
   ext_func *f = (ext_func *)sqlite3_user_data(ctx);

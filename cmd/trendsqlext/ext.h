@@ -66,6 +66,7 @@ typedef struct ext_agg {
   sqlite3_value **opts; /* copies of its trailing (option) arguments */
   int nopts;
   const ext_func *f;    /* the function (SQLite's user data), once read */
+  int pair;             /* rows of two plain numbers take the short path */
 } ext_agg;
 
 /* Record kinds of the log (native byte order, no alignment). */
