@@ -509,6 +509,11 @@ var misuse = []string{
 	        regr_slope((i * 7919) % 1000, i), cross_correlogram(i * 3600, i % 17, (i * 7919) % 1000, 3),
 	        correlogram(i * 3600, (i * 7919) % 1000, 4, 'detrend=linear')
 	 FROM s`,
+	`WITH RECURSIVE s(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM s WHERE i < 140000)
+	 SELECT i % 2, trend_slope(CASE WHEN i = 70001 THEN datetime(i * 3600, 'unixepoch') ELSE i * 3600 END,
+	                           CASE WHEN i % 50001 = 0 THEN NULL ELSE (i * 7919) % 1000 + i / 1000.0 END),
+	        regr_slope(CASE WHEN i = 99999 THEN CAST(i AS TEXT) ELSE (i * 7919) % 1000 + i / 1000.0 END, i)
+	 FROM s GROUP BY i % 2`,
 	`WITH RECURSIVE s(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM s WHERE i < 8000),
 	 w AS (SELECT i, trend_slope(CASE WHEN i % 2500 = 0 THEN datetime(i * 86400, 'unixepoch') ELSE i * 86400 END,
 	                             CASE WHEN i % 333 = 0 THEN NULL ELSE (i * 7919) % 1000 + i / 10.0 END)
