@@ -168,21 +168,24 @@ func parseLagOptions(fn string, v driver.Value, allowFitdf bool) (lagOptions, er
 // replaces the values by their residuals from a straight line on the slot
 // index (stats.DetrendLinear). lineSlope is that line's slope in y per year
 // (NaN without detrend=linear, with fewer than 2 readings or without a
-// step).
-func gridded(fn string, r Rows, o lagOptions) (g stats.Grid, x []float64, lineSlope float64, err error) {
+// step). The values come back multiplied by 2^−k (stats.UnitScale; k = 0
+// unless their magnitudes are extreme): a mean or slope in the values' unit
+// is multiplied back by 2^k, an autocovariance by 2^2k.
+func gridded(fn string, r Rows, o lagOptions) (g stats.Grid, x []float64, lineSlope float64, k int, err error) {
 	g, x, err = stats.RegularizeWithMissing(r.T, r.Y, r.MissingT, o.step)
 	if err != nil {
-		return g, nil, math.NaN(), fmt.Errorf("%s: %v", fn, err)
+		return g, nil, math.NaN(), 0, fmt.Errorf("%s: %v", fn, err)
 	}
+	x, k = stats.UnitScale(x)
 	lineSlope = math.NaN()
 	if o.detrend {
 		var perSlot float64
 		x, perSlot = stats.DetrendLinear(x)
 		if g.Step > 0 {
-			lineSlope = perSlot / g.Step * stats.SecondsPerYear
+			lineSlope = math.Ldexp(perSlot/g.Step*stats.SecondsPerYear, k)
 		}
 	}
-	return g, x, lineSlope, nil
+	return g, x, lineSlope, k, nil
 }
 
 func detrendName(o lagOptions) string {
@@ -193,7 +196,7 @@ func detrendName(o lagOptions) string {
 }
 
 func nullIfNaN(v float64) driver.Value {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
+	if math.IsNaN(v) {
 		return nil
 	}
 	return v
@@ -215,7 +218,7 @@ func lagValue(fn string, acf bool) func(r Rows, opts []driver.Value) (driver.Val
 		if r.Len() == 0 {
 			return nil, nil
 		}
-		_, x, _, err := gridded(fn, r, o)
+		_, x, _, k, err := gridded(fn, r, o)
 		if err != nil {
 			return nil, err
 		}
@@ -224,7 +227,7 @@ func lagValue(fn string, acf bool) func(r Rows, opts []driver.Value) (driver.Val
 		}
 		g0, gh, _ := stats.ACVFAtLag(x, int(lag))
 		if !acf {
-			return nullIfNaN(gh), nil
+			return nullIfNaN(math.Ldexp(gh, 2*k)), nil
 		}
 		return nullIfNaN(stats.ACF([]float64{g0, gh})[1]), nil
 	}
@@ -245,11 +248,15 @@ func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if r.Len() == 0 {
 		return nil, nil
 	}
-	g, x, lineSlope, err := gridded(fn, r, o)
+	g, x, lineSlope, k, err := gridded(fn, r, o)
 	if err != nil {
 		return nil, err
 	}
 	c := stats.ComputeCorrelogram(x, int(maxLag), o.fitdf)
+	c.Mean, c.ACVF0 = math.Ldexp(c.Mean, k), math.Ldexp(c.ACVF0, 2*k)
+	for i := range c.Lags {
+		c.Lags[i].ACVF = math.Ldexp(c.Lags[i].ACVF, 2*k)
+	}
 	band := 1.96 / math.Sqrt(float64(c.N))
 	out := jsonObj{b: make([]byte, 0, 256+160*int(maxLag))}
 	out.int("n", int64(c.N))
@@ -323,7 +330,7 @@ func portmanteauValue(fn string, boxPierce, scalarP bool) func(r Rows, opts []dr
 		if r.Len() < 2 {
 			return nil, nil
 		}
-		g, x, _, err := gridded(fn, r, o)
+		g, x, _, _, err := gridded(fn, r, o)
 		if err != nil {
 			return nil, err
 		}

@@ -232,7 +232,8 @@ func (a *censoredAgg) WindowValue(ctx *sqlite.FunctionContext) (v driver.Value, 
 			return nil, fmt.Errorf("%s: two rows have the same time %s (t = %s); each time may appear once per group, so a group holds one series", a.spec.doc.Name, timefmt.FormatUTC(int64(r.T[i])), strconv.FormatFloat(r.T[i], 'f', -1, 64))
 		}
 	}
-	return a.spec.compute(r, a.opts)
+	v, err = a.spec.compute(r, a.opts)
+	return checkResult(a.spec.doc.Name, v, err)
 }
 
 func (a *censoredAgg) Final(ctx *sqlite.FunctionContext) {}

@@ -94,13 +94,17 @@ func crossStep(fn string, opts []driver.Value) (float64, error) {
 	return d, nil
 }
 
-// crossGrid places the paired rows on one grid.
-func crossGrid(fn string, r Rows, step float64) (stats.Grid, []float64, []float64, error) {
-	g, x, err := stats.RegularizeWithMissing(r.T, r.X, r.MissingT, step)
+// crossGrid places the paired rows on one grid. x and y come back
+// multiplied by 2^−kx and 2^−ky (stats.UnitScale; 0 unless magnitudes are
+// extreme): means are multiplied back by 2^k, (co)variances by 2^(kx+ky).
+func crossGrid(fn string, r Rows, step float64) (g stats.Grid, x, y []float64, kx, ky int, err error) {
+	g, x, err = stats.RegularizeWithMissing(r.T, r.X, r.MissingT, step)
 	if err != nil {
-		return g, nil, nil, fmt.Errorf("%s: %v", fn, err)
+		return g, nil, nil, 0, 0, fmt.Errorf("%s: %v", fn, err)
 	}
-	return g, x, g.Fill(r.Y), nil
+	x, kx = stats.UnitScale(x)
+	y, ky = stats.UnitScale(g.Fill(r.Y))
+	return g, x, y, kx, ky, nil
 }
 
 func crossCorrValue(r Rows, opts []driver.Value) (driver.Value, error) {
@@ -116,7 +120,7 @@ func crossCorrValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if r.Len() == 0 {
 		return nil, nil
 	}
-	_, x, y, err := crossGrid(fn, r, step)
+	_, x, y, _, _, err := crossGrid(fn, r, step)
 	if err != nil {
 		return nil, err
 	}
@@ -141,11 +145,14 @@ func crossCorrelogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if r.Len() == 0 {
 		return nil, nil
 	}
-	g, x, y, err := crossGrid(fn, r, step)
+	g, x, y, kx, ky, err := crossGrid(fn, r, step)
 	if err != nil {
 		return nil, err
 	}
 	st := stats.CrossPrepare(x, y)
+	unscaled := st
+	unscaled.MeanX, unscaled.MeanY = math.Ldexp(st.MeanX, kx), math.Ldexp(st.MeanY, ky)
+	unscaled.VarX, unscaled.VarY = math.Ldexp(st.VarX, 2*kx), math.Ldexp(st.VarY, 2*ky)
 	var b jsonObj
 	b.int("n", int64(st.N))
 	b.int("n_slots", int64(g.NSlots))
@@ -159,10 +166,10 @@ func crossCorrelogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	}
 	b.raw("step_inferred", strconv.FormatBool(step == 0))
 	b.str("t_first", isoTime(r.T[0]))
-	b.num("mean_x", st.MeanX)
-	b.num("mean_y", st.MeanY)
-	b.num("var_x", st.VarX)
-	b.num("var_y", st.VarY)
+	b.num("mean_x", unscaled.MeanX)
+	b.num("mean_y", unscaled.MeanY)
+	b.num("var_x", unscaled.VarX)
+	b.num("var_y", unscaled.VarY)
 	b.num("band", 1.96/math.Sqrt(float64(st.N)))
 	var lags strings.Builder
 	lags.WriteByte('[')
@@ -172,7 +179,7 @@ func crossCorrelogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 		}
 		c := stats.CrossAt(x, y, st, h)
 		lags.WriteString(`{"lag":` + strconv.Itoa(h) + `,"pairs":` + strconv.Itoa(c.Pairs) +
-			`,"ccvf":` + jsonNum(c.Cov) + `,"ccf":` + jsonNum(c.Corr) + `}`)
+			`,"ccvf":` + jsonNum(math.Ldexp(c.Cov, kx+ky)) + `,"ccf":` + jsonNum(c.Corr) + `}`)
 	}
 	lags.WriteByte(']')
 	b.raw("lags", lags.String())

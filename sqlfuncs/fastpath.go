@@ -221,7 +221,12 @@ func regrFunction(name string, result func(c *comoments) driver.Value) *rawsqlit
 			m = &comoments{fn: name} // no row was ever stepped: the empty set
 		}
 		m.finish()
-		c.Result(result(m))
+		v, err := checkResult(name, result(m), nil)
+		if err != nil {
+			c.Error(err)
+			return
+		}
+		c.Result(v)
 	}
 	return &rawsqlite.Function{
 		Name:    name,

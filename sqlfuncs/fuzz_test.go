@@ -130,18 +130,25 @@ func fuzzArg(kind byte, n float64) string {
 	}
 }
 
-// fuzzValue maps 8 bytes to a value of at most 1e150 in magnitude (data
-// whose squares overflow float64 are outside this target).
+// fuzzValue maps 8 bytes to a finite value anywhere in the float64 range:
+// a mantissa of up to ±32768 times 10^e with e in −330..330, an overflow
+// clamped to ±MaxFloat64 (so magnitudes near 1.8e308 come up often).
 func fuzzValue(b []byte) float64 {
 	u := binary.LittleEndian.Uint64(b)
 	mant := float64(int32(u)) / (1 << 16)
-	exp := int(int8(u>>32)) % 140
-	return mant * math.Pow(10, float64(exp))
+	exp := int(int16(u>>32)) % 331
+	v := mant * math.Pow(10, float64(exp))
+	if math.IsInf(v, 0) {
+		return math.Copysign(math.MaxFloat64, v)
+	}
+	return v
 }
 
 // FuzzSQLFunctions calls every scalar and aggregate function through real
 // SQL with argument types and values drawn from the input: columns of a
-// table of up to 48 rows, NULL, integers, reals, texts and BLOBs.
+// table of up to 48 rows, NULL, integers, reals, texts and BLOBs. Values
+// span the whole float64 range: the invariant is an error or a finite
+// result.
 func FuzzSQLFunctions(f *testing.F) {
 	f.Add(uint8(0), []byte("\x00\x01\x05\x06\x04"), []byte("0123456789abcdef0123456789abcdef0123456789abcdef"))
 	for i := range 40 {
@@ -237,5 +244,81 @@ func TestTrendValueNotFinite(t *testing.T) {
 	var v float64
 	if err := db.QueryRow(`SELECT trend_value(?, 2)`, model).Scan(&v); err != nil || math.IsInf(v, 0) {
 		t.Errorf("finite value: %v, %v", v, err)
+	}
+}
+
+// TestNonFiniteResults: data near ±1e308 gives the finite answer where
+// there is one — the same as for the data divided by 1e308, times 1e308
+// per power of the values' unit (exact apart from rounding: least squares
+// and autocorrelation are linear and scale-free in this sense; common
+// practice) — and an error naming the function where the answer itself is
+// beyond the float64 range, never +Inf or a NULL that hides it.
+func TestNonFiniteResults(t *testing.T) {
+	db := fuzzConn(t)
+	tx, err := db.Begin()
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer tx.Rollback()
+	if _, err := tx.Exec(`CREATE TEMP TABLE nf(g, t, y)`); err != nil {
+		t.Fatal(err)
+	}
+	for i := range 30 {
+		s := 1.0
+		if i%2 == 1 {
+			s = -1
+		}
+		s *= 1 + float64(i%7)/10
+		for g, dt := range map[string]float64{"yearly": 31557600, "daily": 86400} {
+			tt := 1_600_000_000 + float64(i)*dt
+			for _, amp := range []float64{1, 1e308} {
+				if _, err := tx.Exec(`INSERT INTO nf VALUES (?, ?, ?)`, fmt.Sprintf("%s-%g", g, amp), tt, s*amp/1.7); err != nil {
+					t.Fatal(err)
+				}
+			}
+		}
+	}
+	one := func(q, g string) (float64, error) {
+		var v float64
+		err := tx.QueryRow(q, g).Scan(&v)
+		return v, err
+	}
+	scaled := map[string]int{
+		`SELECT trend_slope(t, y) FROM nf WHERE g = ?`:                    1,
+		`SELECT trend_fit(t, y) ->> 'slope_per_year' FROM nf WHERE g = ?`: 1,
+		`SELECT trend_fit(t, y) ->> 'sigma' FROM nf WHERE g = ?`:          1,
+		`SELECT trend_fit(t, y) ->> 'r2' FROM nf WHERE g = ?`:             0,
+		`SELECT sen_slope_per_year(t, y) FROM nf WHERE g = ?`:             1,
+		`SELECT sen_slope(t, y) ->> 'intercept' FROM nf WHERE g = ?`:      1,
+		`SELECT sen_slope(t, y) ->> 'upper' FROM nf WHERE g = ?`:          1,
+		`SELECT sample_acf(t, y, 1) FROM nf WHERE g = ?`:                  0,
+		`SELECT ljung_box_p(t, y, 2) FROM nf WHERE g = ?`:                 0,
+		`SELECT cross_corr(t, y, y, 1) FROM nf WHERE g = ?`:               0,
+	}
+	for q, power := range scaled {
+		small, err1 := one(q, "yearly-1")
+		big, err2 := one(q, "yearly-1e+308")
+		if err1 != nil || err2 != nil {
+			t.Errorf("%s: %v, %v", q, err1, err2)
+			continue
+		}
+		want := small * math.Pow(1e308, float64(power))
+		if math.IsInf(big, 0) || math.Abs(big-want) > 1e-9*math.Abs(want) {
+			t.Errorf("%s: %g at 1e308 scale, want %g", q, big, want)
+		}
+	}
+	// Daily spacing: the slope per year of values near 1e308 that swing
+	// by 2e308 from one day to the next is beyond the float64 range, and
+	// so are their (auto)covariances (correlogram's acvf0).
+	for _, q := range []string{`SELECT trend_slope(t, y) FROM nf WHERE g = ?`, `SELECT trend_fit(t, y) FROM nf WHERE g = ?`,
+		`SELECT sample_acvf(t, y, 0) FROM nf WHERE g = ?`, `SELECT regr_syy(y, t) FROM nf WHERE g = ?`, `SELECT corr(y, t) FROM nf WHERE g = ?`,
+		`SELECT correlogram(t, y, 2) FROM nf WHERE g = ?`} {
+		var v any
+		err := tx.QueryRow(q, "daily-1e+308").Scan(&v)
+		fn := strings.Fields(q)[1]
+		fn = fn[:strings.IndexByte(fn, '(')]
+		if err == nil || !strings.Contains(err.Error(), fn+":") || !strings.Contains(err.Error(), ErrNotFinite.Error()) {
+			t.Errorf("%s: %v, %v; want an error naming %s", q, v, err, fn)
+		}
 	}
 }

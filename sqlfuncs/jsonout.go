@@ -1,7 +1,9 @@
 package sqlfuncs
 
 // JSON rendering shared by every function with a JSON result: keys in the
-// documented insertion order, NaN and infinities written as null, whole
+// documented insertion order, NaN (an undefined statistic) written as null,
+// an infinity written as infMark (so that checkResult turns the whole result
+// into an error: see finite.go), whole
 // numbers below 1e15 written without exponent (so unix times read as
 // 1700000000, not 1.7e+09), other numbers in Go's shortest form.
 
@@ -43,13 +45,16 @@ func appendJSONKey(b []byte, k string) []byte {
 	return append(b, '"')
 }
 
-// jsonNum renders one number (null for NaN and infinities).
+// jsonNum renders one number (null for NaN, infMark for an infinity).
 func jsonNum(v float64) string { return string(appendJSONNum(nil, v)) }
 
 // appendJSONNum appends the rendering of jsonNum to b.
 func appendJSONNum(b []byte, v float64) []byte {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
+	if math.IsNaN(v) {
 		return append(b, "null"...)
+	}
+	if math.IsInf(v, 0) {
+		return append(b, infMark...)
 	}
 	if v == math.Trunc(v) && math.Abs(v) < 1e15 {
 		return strconv.AppendInt(b, int64(v), 10)

@@ -133,10 +133,11 @@ func (c *comoments) finish() {
 	c.sxx = centred(c.sdd, c.sd, c.sd)
 	c.syy = centred(c.see, c.se, c.se)
 	c.sxy = centred(c.sde, c.sd, c.se)
-	if c.sxx <= 1e-24*c.sdd.float() {
+	// (An overflowed sum stays non-finite, for checkResult to report.)
+	if s := c.sdd.float(); c.sxx <= 1e-24*s && !math.IsInf(s, 0) {
 		c.sxx = 0
 	}
-	if c.syy <= 1e-24*c.see.float() {
+	if s := c.see.float(); c.syy <= 1e-24*s && !math.IsInf(s, 0) {
 		c.syy = 0
 	}
 	if c.sxx == 0 || c.syy == 0 {

@@ -194,19 +194,24 @@ func senSlopeValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if !interval {
 		c = 0
 	}
-	res, err := stats.SenSlopeWithVar(r.T, r.Y, c, varS)
+	// Values scaled by 2^−k (stats.UnitScale; k = 0 unless magnitudes are
+	// extreme) so differences of values near ±1.8e308 do not overflow;
+	// every result in the values' unit is multiplied back by 2^k.
+	ys, k := stats.UnitScale(r.Y)
+	res, err := stats.SenSlopeWithVar(r.T, ys, c, varS)
 	if err != nil {
 		return nil, fmt.Errorf("%s: %v", fn, err)
 	}
 	const spy = timefmt.SecondsPerYear
-	slope := res.Slope * spy
+	intercept := math.Ldexp(res.MedianY-res.Slope*spy*(res.MedianT/spy), k)
+	slope := math.Ldexp(res.Slope*spy, k)
 	var b jsonObj
 	b.int("n", int64(res.N))
 	b.int("n_pairs", res.Pairs)
 	b.num("slope_per_year", slope)
 	if interval {
-		b.num("lower", res.Lower*spy)
-		b.num("upper", res.Upper*spy)
+		b.num("lower", math.Ldexp(res.Lower*spy, k))
+		b.num("upper", math.Ldexp(res.Upper*spy, k))
 	} else {
 		b.raw("lower", "null")
 		b.raw("upper", "null")
@@ -219,9 +224,9 @@ func senSlopeValue(r Rows, opts []driver.Value) (driver.Value, error) {
 		b.raw("lower_rank", "null")
 		b.raw("upper_rank", "null")
 	}
-	b.num("intercept", res.MedianY-slope*(res.MedianT/spy))
+	b.num("intercept", intercept)
 	b.str("median_t", isoTime(res.MedianT))
-	b.num("median_y", res.MedianY)
+	b.num("median_y", math.Ldexp(res.MedianY, k))
 	if hamedRao {
 		b.str("interval_variance", "hamed-rao")
 	} else {
@@ -243,11 +248,12 @@ func senPerYearValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if r.Len() < 2 {
 		return nil, nil
 	}
-	s, err := stats.SenMedian(r.T, r.Y)
+	ys, k := stats.UnitScale(r.Y) // as in sen_slope
+	s, err := stats.SenMedian(r.T, ys)
 	if err != nil {
 		return nil, fmt.Errorf("sen_slope_per_year: %v", err)
 	}
-	return s * timefmt.SecondsPerYear, nil
+	return math.Ldexp(s*timefmt.SecondsPerYear, k), nil
 }
 
 func init() {

@@ -319,7 +319,8 @@ func (a *seriesAgg) WindowValue(ctx *sqlite.FunctionContext) (v driver.Value, er
 	if err != nil {
 		return nil, err
 	}
-	return a.spec.compute(r, a.opts)
+	v, err = a.spec.compute(r, a.opts)
+	return checkResult(a.name(), v, err)
 }
 
 // Final hands the group's buffers back for the next group (the value has
@@ -424,7 +425,8 @@ func (a *streamAgg) WindowInverse(ctx *sqlite.FunctionContext, args []driver.Val
 
 func (a *streamAgg) WindowValue(ctx *sqlite.FunctionContext) (v driver.Value, err error) {
 	defer recoverInto(a.name, &err)
-	return a.st.value()
+	v, err = a.st.value()
+	return checkResult(a.name, v, err)
 }
 
 func (a *streamAgg) Final(ctx *sqlite.FunctionContext) {}
@@ -437,7 +439,8 @@ func defineScalar(doc Doc, nargs int32, fn func(args []driver.Value) (driver.Val
 		Deterministic: true,
 		Scalar: func(ctx *sqlite.FunctionContext, args []driver.Value) (v driver.Value, err error) {
 			defer recoverInto(name, &err)
-			return fn(args)
+			v, err = fn(args)
+			return checkResult(name, v, err)
 		},
 	})
 }

@@ -287,6 +287,15 @@ func TestQueryJSONFormat(t *testing.T) {
 	if strings.Index(out, `"id"`) > strings.Index(out, `"missing"`) || strings.Index(out, `"missing"`) > strings.Index(out, `"elevation_m"`) {
 		t.Errorf("column order lost: %s", out)
 	}
+	// An infinite REAL is never written as null (SQL NULL's rendering).
+	out, errOut, code = runBin(t, "", "query", "--db", db, "--format", "json", "SELECT 9e999 AS up, -9e999 AS down, NULL AS missing")
+	got = nil
+	if err := json.Unmarshal([]byte(out), &got); code != 0 || err != nil || len(got) != 1 {
+		t.Fatalf("exit %d, %v: %s %s", code, err, out, errOut)
+	}
+	if o := got[0]; o["up"] != "Infinity" || o["down"] != "-Infinity" || o["missing"] != nil {
+		t.Errorf("infinities: %v", o)
+	}
 }
 
 func TestQueryBadSQLReportsPosition(t *testing.T) {

@@ -17,7 +17,7 @@ import (
 const (
 	FormatTable  = "table"  // aligned columns under a rule
 	FormatCSV    = "csv"    // RFC 4180, a header line, NULL as an empty field
-	FormatJSON   = "json"   // one array of objects, column order kept
+	FormatJSON   = "json"   // one array of objects, column order kept; see jsonValue for infinities
 	FormatFields = "fields" // one field per line, rows one after another: for wide results
 )
 
@@ -393,14 +393,22 @@ func fullText(v any, csvNull bool) string {
 }
 
 // jsonValue renders a value for the json format. With nest, text holding a
-// JSON object or array is written as that JSON.
+// JSON object or array is written as that JSON. JSON has no number for an
+// infinity (a REAL column can hold one, e.g. from 9e999): it is written as
+// the string "Infinity" or "-Infinity" (NaN, which SQLite stores as NULL,
+// as "NaN"), never as null, so it cannot be mistaken for SQL NULL.
 func jsonValue(v any, nest bool) string {
 	switch x := v.(type) {
 	case nil:
 		return "null"
 	case float64:
-		if math.IsNaN(x) || math.IsInf(x, 0) {
-			return "null"
+		switch {
+		case math.IsInf(x, 1):
+			return `"Infinity"`
+		case math.IsInf(x, -1):
+			return `"-Infinity"`
+		case math.IsNaN(x):
+			return `"NaN"`
 		}
 		return strconv.FormatFloat(x, 'g', -1, 64)
 	case int64:

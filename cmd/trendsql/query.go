@@ -92,7 +92,8 @@ trendsql SQL function is available (see 'trendsql functions').
 
 On a terminal the table format fits the rows to the terminal width, cutting
 the widest cells with "…"; piped, written with --out, or in csv, json or
-fields format, nothing is cut.`,
+fields format, nothing is cut. In json output an infinite REAL is the string
+"Infinity" or "-Infinity" (JSON has no such number); null is SQL NULL only.`,
 		Example: `  trendsql query "SELECT id, name FROM stations"
   trendsql query --file nightly-checks.sql --out checks.csv
   echo "SELECT count(*) FROM readings" | trendsql query -

@@ -204,7 +204,29 @@ func (m *TrendModel) Value(t float64) float64 {
 //     the residual variance is recomputed with n_eff − p in the divisor,
 //     i.e. se_eff = slope_se·√((n−p)/(n_eff−p)), and the two-sided p-value
 //     uses Student t with n_eff − p (non-integer) df; NaN when n_eff ≤ p.
+//
+// Values are scaled by a power of two first (UnitScale), so data near
+// ±1e308 whose fit is finite gives the finite fit.
 func FitTrend(t, y []float64, spec TrendSpec) (*TrendModel, error) {
+	ys, k := UnitScale(y)
+	m, err := fitTrend(t, ys, spec)
+	if err != nil || m == nil || k == 0 {
+		return m, err
+	}
+	// Fields in the values' unit are multiplied back; R², p-values,
+	// resid_acf1 and n_eff do not depend on the unit.
+	for j := range m.Coef {
+		m.Coef[j] = math.Ldexp(m.Coef[j], k)
+		m.SE[j] = math.Ldexp(m.SE[j], k)
+	}
+	m.SlopePerYear = math.Ldexp(m.SlopePerYear, k)
+	m.SlopeSE = math.Ldexp(m.SlopeSE, k)
+	m.Sigma = math.Ldexp(m.Sigma, k)
+	m.HACSlopeSE = math.Ldexp(m.HACSlopeSE, k)
+	return m, nil
+}
+
+func fitTrend(t, y []float64, spec TrendSpec) (*TrendModel, error) {
 	if err := spec.Validate(); err != nil {
 		return nil, err
 	}
@@ -319,12 +341,14 @@ func tTwoSided(b, se, df float64) float64 {
 // trend, no harmonics), computed in two centred passes:
 // Σ x_i (y_i − ȳ) / Σ x_i², x_i = (t_i − t_c)/Y. It equals FitTrend's
 // SlopePerYear for the default spec (to rounding) and, like it, is NaN when
-// n ≤ 2 (a fit needs more points than parameters).
+// n ≤ 2 (a fit needs more points than parameters). Values are scaled as in
+// FitTrend (UnitScale).
 func TrendSlope(t, y []float64) float64 {
 	n := len(t)
 	if n <= 2 || len(y) != n {
 		return math.NaN()
 	}
+	y, k := UnitScale(y)
 	tc, ybar := compensatedMean(t), compensatedMean(y)
 	sxx, sxy := 0.0, 0.0
 	for i := range t {
@@ -335,7 +359,7 @@ func TrendSlope(t, y []float64) float64 {
 	if sxx == 0 {
 		return math.NaN()
 	}
-	return sxy / sxx
+	return math.Ldexp(sxy/sxx, k)
 }
 
 // compensatedMean is the mean with a compensated sum (Neumaier 1974, ZAMM 54:39–51),
