@@ -55,6 +55,13 @@ type Options struct {
 	UserSQL bool
 	// AllowUnsafePragmas lifts that refusal (expert use).
 	AllowUnsafePragmas bool
+	// Wait is how long a writer waits for another writer's lock (the busy
+	// timeout of the connections): 0 means BusyTimeout, a negative value
+	// not at all.
+	Wait time.Duration
+	// OnWait, if set, is called once when a writable open or AwaitWriter
+	// has waited WaitNotice for another writer (to say so to the user).
+	OnWait func()
 }
 
 // Store is an open trendsql store.
@@ -63,12 +70,17 @@ type Store struct {
 	Path     string
 	ReadOnly bool
 	watches  *watches
+	wait     time.Duration
+	onWait   func()
 }
 
-// DSN builds the driver connection string for path.
-func DSN(path string, readOnly bool) string {
+// DSN builds the driver connection string for path, with BusyTimeout.
+func DSN(path string, readOnly bool) string { return dsnWait(path, readOnly, BusyTimeout) }
+
+// dsnWait is DSN with busy timeout wait.
+func dsnWait(path string, readOnly bool, wait time.Duration) string {
 	q := url.Values{}
-	q.Add("_pragma", fmt.Sprintf("busy_timeout(%d)", BusyTimeout.Milliseconds()))
+	q.Add("_pragma", fmt.Sprintf("busy_timeout(%d)", wait.Milliseconds()))
 	q.Add("_pragma", "foreign_keys(1)")
 	if readOnly {
 		q.Add("mode", "ro")
@@ -96,8 +108,13 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 	} else if n := linkCount(st); n > 1 {
 		return nil, &LinkError{Path: path, Links: n}
 	}
+	wait := opt.Wait
+	if wait == 0 || opt.ReadOnly {
+		wait = BusyTimeout
+	}
+	wait = max(wait, 0)
 	ws := &watches{}
-	db, err := sqlfuncs.OpenDBWith(DSN(path, opt.ReadOnly), guardSetup(opt, ws))
+	db, err := sqlfuncs.OpenDBWith(dsnWait(path, opt.ReadOnly, wait), guardSetup(opt, ws))
 	if err != nil {
 		return nil, fmt.Errorf("open %s: %w", path, err)
 	}
@@ -105,10 +122,10 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 		db.Close()
 		return nil, fmt.Errorf("open %s: %w", path, err)
 	}
-	s := &Store{DB: db, Path: path, ReadOnly: opt.ReadOnly, watches: ws}
+	s := &Store{DB: db, Path: path, ReadOnly: opt.ReadOnly, watches: ws, wait: wait, onWait: opt.OnWait}
 	// The schema version is read without the write lock, so opening a
 	// current store never waits for another writer; only a store with a
-	// migration due takes the write lock.
+	// migration due waits for and takes the write lock.
 	cur, latest, err := s.SchemaVersion(ctx)
 	if err != nil {
 		db.Close()
@@ -118,6 +135,10 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 		if opt.ReadOnly {
 			db.Close()
 			return nil, &SchemaError{Path: path, Current: cur, Latest: latest}
+		}
+		if err := s.AwaitWriter(ctx); err != nil {
+			db.Close()
+			return nil, fmt.Errorf("open %s: migrate: %w", path, err)
 		}
 		if _, err := s.Migrate(ctx); err != nil {
 			db.Close()

@@ -48,6 +48,7 @@ store is never replaced.`,
 	c.Flags().BoolVar(&o.force, "force", false, "replace an existing store that already holds data")
 	c.Flags().BoolVar(&o.noTour, "no-tour", false, "build the store only; print no tour")
 	c.Flags().Uint64Var(&o.seed, "seed", demodata.Seed, "seed of the invented scenario")
+	e.addWaitFlag(c)
 	return c
 }
 
@@ -67,6 +68,16 @@ func (e *env) demoPath() string {
 // runDemo builds the demo store and prints the tour.
 func runDemo(ctx context.Context, e *env, o demoOptions) error {
 	path := e.demoPath()
+	if err := e.checkWait("demo"); err != nil {
+		return err
+	}
+	if err := store.AwaitNotInUse(ctx, path, e.wait, e.waitNotice("another writer", path)); err != nil {
+		if errors.Is(err, store.ErrInUse) {
+			return &exitError{code: ExitNothing, err: fmt.Errorf("demo: %w; refusing to replace it (--wait DURATION waits longer)", err)}
+		}
+		err = fmt.Errorf("demo: %w; refusing to replace it", err)
+		return err
+	}
 	if err := demodata.Check(ctx, path, o.force); err != nil {
 		return wordDemoError(err)
 	}

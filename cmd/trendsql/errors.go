@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+	"time"
 
 	"trendsql/store"
 	"trendsql/store/csvimport"
@@ -78,12 +79,28 @@ func wordDemoError(err error) error {
 	return err
 }
 
+// wordBusyError words the error of a command that gave up waiting for
+// another writer: a store.BusyError, or SQLite's "database is locked" when
+// a statement's own wait ran out.
+func wordBusyError(err error) error {
+	if errors.Is(err, store.ErrBusy) {
+		return withHint(err, " (--wait DURATION waits longer; try again when it has finished)")
+	}
+	return withHint(err, "\nanother writer held the store for longer than --wait: try again when it has finished, or give a longer --wait")
+}
+
+// isBusyError reports whether err means another writer held the store for
+// longer than the command waited.
+func isBusyError(err error) bool { return errors.Is(err, store.ErrBusy) || store.IsBusy(err) }
+
 // wordSummarizeError words the errors of `trendsql summarize`.
-func wordSummarizeError(err error) error {
+func wordSummarizeError(err error, wait time.Duration) error {
 	var sel *summaries.SelectError
 	switch {
+	case errors.Is(err, summaries.ErrBusy) && wait == 0:
+		return withHint(err, " (--wait DURATION waits for it)")
 	case errors.Is(err, summaries.ErrBusy):
-		return withHint(err, " (use --wait to wait for it)")
+		return withHint(err, fmt.Sprintf(" and did not finish within --wait %s (a longer --wait waits for it)", wait))
 	case errors.As(err, &sel):
 		return &worded{msg: "summarize: select series (check --where): " + sel.Err.Error(), err: err}
 	}

@@ -103,6 +103,7 @@ FILE "-" reads standard input; the batch records its source as "stdin".`,
 		},
 	}
 	addImportCSVFlags(c, o)
+	e.addWaitFlag(c)
 	c.Flags().BoolVar(&o.again, "again", false, "merge a file already imported (same SHA-256) again instead of refusing it")
 	return c
 }
@@ -157,6 +158,7 @@ FILE "-" reads standard input; the batch records its source as "stdin".`,
 		},
 	}
 	addImportCSVFlags(c, o)
+	e.addWaitFlag(c)
 	fl := c.Flags()
 	fl.StringVar(&o.stationCol, "station-col", "", `column with the station id (default "station")`)
 	fl.StringVar(&o.timeCol, "time-col", "", `column with the time (default "time")`)
@@ -372,11 +374,17 @@ func runImport(ctx context.Context, e *env, path string, load func(*store.Store,
 	if err := checkImportFile(path); err != nil {
 		return err
 	}
+	if err := e.checkWait("import"); err != nil {
+		return err
+	}
 	s, err := e.open(ctx, false)
 	if err != nil {
 		return err
 	}
 	defer s.Close()
+	if err := s.AwaitWriter(ctx); err != nil {
+		return fmt.Errorf("import: %w", err)
+	}
 	e.warnIfDemo(ctx, s)
 	bar := newImportProgress(e.errw, path)
 	summary, err := load(s, bar.update)

@@ -10,16 +10,21 @@ import (
 func init() { register(newInitCmd) }
 
 func newInitCmd(e *env) *cobra.Command {
-	return &cobra.Command{
+	c := &cobra.Command{
 		Use:   "init",
 		Short: "Create a store, or migrate an existing one to the current schema",
 		Args:  exactArgs(0),
 		RunE:  func(cmd *cobra.Command, args []string) error { return runInit(cmd.Context(), e) },
 	}
+	e.addWaitFlag(c)
+	return c
 }
 
 // runInit creates or migrates the store and reports its schema version.
 func runInit(ctx context.Context, e *env) error {
+	if err := e.checkWait("init"); err != nil {
+		return err
+	}
 	s, err := e.create(ctx)
 	if err != nil {
 		return err

@@ -46,8 +46,11 @@ func Main(args []string, in io.Reader, out, errw io.Writer) int {
 	if err == nil {
 		return ExitOK
 	}
-	fmt.Fprintln(errw, "trendsql:", err)
 	var ee *exitError
+	if !errors.As(err, &ee) && isBusyError(err) {
+		err = &exitError{code: ExitNothing, err: wordBusyError(err)}
+	}
+	fmt.Fprintln(errw, "trendsql:", err)
 	if errors.As(err, &ee) {
 		return ee.code
 	}

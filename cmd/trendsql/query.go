@@ -119,6 +119,7 @@ fields format, nothing is cut. In json output an infinite REAL is the string
 	addResultFlags(c, &o.results)
 	c.Flags().StringVar(&o.file, "file", "", "read the SQL statements from this file")
 	c.Flags().BoolVar(&o.write, "write", false, "open the store writable so statements may change it")
+	e.addWaitFlag(c)
 	c.Flags().BoolVar(&o.unsafePragmas, "allow-unsafe-pragmas", false, unsafePragmasUsage)
 	return c
 }
@@ -143,6 +144,9 @@ func runQuery(ctx context.Context, e *env, o queryOptions) error {
 	if o.unsafePragmas && !o.write {
 		return usageErr("query: --allow-unsafe-pragmas needs --write")
 	}
+	if err := e.checkWait("query"); err != nil {
+		return err
+	}
 	if len(splitStatements(text)) == 0 {
 		return usageErr("query: no SQL statement given")
 	}
@@ -156,6 +160,10 @@ func runQuery(ctx context.Context, e *env, o queryOptions) error {
 		return err
 	}
 	defer s.Close()
+	if err := s.AwaitWriter(ctx); err != nil {
+		finish(false)
+		return fmt.Errorf("query: %w", err)
+	}
 	var changes io.Writer
 	if o.write {
 		changes = e.errw

@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"strings"
+	"time"
 
 	"github.com/spf13/cobra"
 
@@ -19,7 +20,7 @@ const (
 	ExitOK      = 0 // success
 	ExitFailed  = 1 // the command ran and failed (bad input, SQL error, failed run)
 	ExitUsage   = 2 // bad flags or arguments
-	ExitNothing = 3 // nothing to do, or the store is busy with another run
+	ExitNothing = 3 // nothing to do, or another writer held the store for longer than --wait
 )
 
 // exitError carries an exit code through cobra.
@@ -44,6 +45,41 @@ type env struct {
 	out    io.Writer
 	errw   io.Writer
 	dbFlag string
+	// wait is --wait of the writable commands (see addWaitFlag).
+	wait time.Duration
+}
+
+// DefaultWait is the default of --wait.
+const DefaultWait = 10 * time.Second
+
+// addWaitFlag adds --wait, shared by every command that writes the store:
+// how long it waits for another writer (an import, a summary run, a
+// query --write) before it gives up with exit code 3.
+func (e *env) addWaitFlag(c *cobra.Command) {
+	c.Flags().DurationVar(&e.wait, "wait", DefaultWait, "how long to wait for another writer of the store before giving up with exit code 3 (0 = do not wait)")
+}
+
+// checkWait refuses a negative --wait.
+func (e *env) checkWait(cmdName string) error {
+	if e.wait < 0 {
+		return usageErr("%s: --wait must be 0 or a positive duration (e.g. 30s, 5m), got %s", cmdName, e.wait)
+	}
+	return nil
+}
+
+// storeWait is --wait as store.Options.Wait (which reads 0 as its default).
+func (e *env) storeWait() time.Duration {
+	if e.wait == 0 {
+		return -1
+	}
+	return e.wait
+}
+
+// waitNotice says, once, that the command waits for another writer.
+func (e *env) waitNotice(what, path string) func() {
+	return func() {
+		fmt.Fprintf(e.errw, "trendsql: waiting for %s to finish with %s (up to --wait %s)…\n", what, path, e.wait)
+	}
 }
 
 func (e *env) dbPath() string { return store.ResolvePath(e.dbFlag) }
@@ -57,6 +93,9 @@ func (e *env) open(ctx context.Context, readOnly bool) (*store.Store, error) {
 
 func (e *env) openWith(ctx context.Context, opt store.Options) (*store.Store, error) {
 	path := e.dbPath()
+	if !opt.ReadOnly {
+		opt.Wait, opt.OnWait = e.storeWait(), e.waitNotice("another writer", path)
+	}
 	if _, err := os.Stat(path); errors.Is(err, os.ErrNotExist) {
 		return nil, wordOpenError(fmt.Errorf("open %s: %w", path, store.ErrNoStore))
 	}
@@ -66,7 +105,7 @@ func (e *env) openWith(ctx context.Context, opt store.Options) (*store.Store, er
 
 // create opens the store writable, creating it when it does not exist.
 func (e *env) create(ctx context.Context) (*store.Store, error) {
-	s, err := store.Open(ctx, e.dbPath(), store.Options{})
+	s, err := store.Open(ctx, e.dbPath(), store.Options{Wait: e.storeWait(), OnWait: e.waitNotice("another writer", e.dbPath())})
 	return s, wordOpenError(err)
 }
 

@@ -60,6 +60,7 @@ The store is opened read-only unless --write is given.`,
 		RunE: func(cmd *cobra.Command, args []string) error { return runShell(cmd.Context(), e, o) },
 	}
 	c.Flags().BoolVar(&o.write, "write", false, "open the store writable so statements may change it")
+	e.addWaitFlag(c)
 	c.Flags().BoolVar(&o.unsafePragmas, "allow-unsafe-pragmas", false, unsafePragmasUsage)
 	c.Flags().StringVar(&o.format, "format", FormatTable, "initial result format: "+formatNames)
 	return c
@@ -73,6 +74,9 @@ func runShell(ctx context.Context, e *env, o shellOptions) error {
 	}
 	if o.unsafePragmas && !o.write {
 		return usageErr("shell: --allow-unsafe-pragmas needs --write")
+	}
+	if err := e.checkWait("shell"); err != nil {
+		return err
 	}
 	s, err := e.openForSQL(ctx, o.write, o.unsafePragmas)
 	if err != nil {

@@ -27,7 +27,7 @@ type summarizeOptions struct {
 	maxLag, lbLags      int
 	alpha, confidence   float64
 	minN                int
-	changedOnly, wait   bool
+	changedOnly         bool
 	censoredFits        bool
 	writeWait           time.Duration
 	workers             int
@@ -64,8 +64,8 @@ that adjustment with their stored p-values.
 Exit codes: 0 run stored; 1 run failed (recorded as failed), or no store
 at --db; 2 usage error, including a --station or --variable the store does
 not know (the message names the closest known ones); 3 nothing to do
-(e.g. --changed-only found no changes) or another run holds the store and
---wait was not given.`,
+(e.g. --changed-only found no changes) or another run or writer held the
+store for longer than --wait (default 10s; --wait 0 does not wait).`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error { return runSummarize(cmd.Context(), e, o) },
 	}
@@ -85,10 +85,10 @@ not know (the message names the closest known ones); 3 nothing to do
 	fl.IntVar(&o.minN, "min-n", 10, "fewest readings for a summary; fewer sets insufficient_data")
 	fl.BoolVar(&o.censoredFits, "censored-fits", false, "also store least-squares and correlogram figures for series with censored readings (on the stored numbers: censored values at their limits)")
 	fl.BoolVar(&o.changedOnly, "changed-only", false, "skip series with no readings imported since their last successful summary with the same parameters")
-	fl.BoolVar(&o.wait, "wait", false, "wait for another running summarize instead of exiting with code 3")
 	fl.DurationVar(&o.writeWait, "write-wait", summaries.DefaultWriteWait, "how long the final write keeps retrying while another writer (e.g. an import) holds the store")
 	fl.IntVar(&o.workers, "workers", 0, "parallel workers (0 = all cores)")
 	fl.BoolVar(&o.quiet, "quiet", false, "no progress bar even on a terminal")
+	e.addWaitFlag(c)
 	return c
 }
 
@@ -122,12 +122,16 @@ func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {
 	if o.minN < 3 {
 		return usageErr("summarize: --min-n must be at least 3")
 	}
+	if err := e.checkWait("summarize"); err != nil {
+		return err
+	}
 	if o.writeWait <= 0 {
 		return usageErr("summarize: --write-wait must be a positive duration, e.g. 30s or 15m, got %s", o.writeWait)
 	}
 	opts := summaries.Options{
 		Stations: o.stations, Variables: o.variables, Where: o.where,
-		Model: model, ChangedOnly: o.changedOnly, Wait: o.wait, WriteWait: o.writeWait, Workers: o.workers,
+		Model: model, ChangedOnly: o.changedOnly, Wait: e.wait, OnWait: e.waitNotice("another summarize run", e.dbPath()),
+		WriteWait: o.writeWait, Workers: o.workers,
 		ToolVersion: versionString(), Analyze: stats.SummarizeSeries,
 	}
 	for _, tv := range []struct {
@@ -168,7 +172,7 @@ func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {
 	if bar != nil {
 		bar.Finish()
 	}
-	err = wordSummarizeError(err)
+	err = wordSummarizeError(err, e.wait)
 	switch {
 	case errors.Is(err, summaries.ErrBusy):
 		return &exitError{code: ExitNothing, err: err}

@@ -520,7 +520,7 @@ func TestSummarizeLock(t *testing.T) {
 	a := startSummarize(t, db, "--period", "1y", "--workers", "1", "--max-lag", "5000", "--quiet")
 	runA := waitRunning(t, ro, a, 0)
 
-	_, errs, code := runBin(t, "", "summarize", "--db", db, "--period", "1y", "--quiet")
+	_, errs, code := runBin(t, "", "summarize", "--db", db, "--period", "1y", "--quiet", "--wait", "0")
 	if code != ExitNothing || !strings.Contains(errs, "another summarize run is in progress") || !strings.Contains(errs, "--wait") {
 		t.Errorf("summarize during a run: exit %d, stderr %q; want %d and a message naming --wait", code, errs, ExitNothing)
 	}
@@ -533,7 +533,7 @@ func TestSummarizeLock(t *testing.T) {
 
 	// Ctrl-C while waiting ends the waiting process, before the first run
 	// has finished, without a run row.
-	d := startSummarize(t, db, "--period", "1y", "--wait", "--quiet")
+	d := startSummarize(t, db, "--period", "1y", "--wait", "1h", "--quiet")
 	waitLockOpen(t, d, db) // its interrupt handler is installed once it reaches the lock
 	if err := d.cmd.Process.Signal(os.Interrupt); err != nil {
 		t.Fatal(err)
@@ -548,7 +548,7 @@ func TestSummarizeLock(t *testing.T) {
 		t.Errorf("the interrupted waiter recorded a run row (%d rows)", n)
 	}
 
-	c := startSummarize(t, db, "--period", "1y", "--wait", "--quiet")
+	c := startSummarize(t, db, "--period", "1y", "--wait", "1h", "--quiet")
 	if err := a.wait(); err != nil {
 		t.Fatalf("first summarize: %v\n%s", err, a.stderr.String())
 	}

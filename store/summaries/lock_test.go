@@ -27,7 +27,7 @@ func TestRunLockThroughHardLink(t *testing.T) {
 	if err := os.Link(path, hard); err != nil {
 		t.Skipf("no hard links here: %v", err)
 	}
-	release, err := lockSummarize(ctx, hard, false)
+	release, err := lockSummarize(ctx, hard, 0, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -33,7 +33,12 @@ type Options struct {
 	Until       *int64   // unix seconds, inclusive
 	Model       stats.SummaryOptions
 	ChangedOnly bool
-	Wait        bool
+	// Wait is how long the run waits for another run's summarize lock
+	// (0: not at all), and OnWait, if set, is called once when it has
+	// waited store.WaitNotice. The store's own Wait bounds the wait for
+	// another writer's write lock when the run starts.
+	Wait   time.Duration
+	OnWait func()
 	// WriteWait is how long the final write keeps retrying while another
 	// connection (an import, say) holds the store's write lock; 0 means
 	// DefaultWriteWait. The figures are computed before the write, so a
@@ -113,11 +118,14 @@ func Run(ctx context.Context, s *store.Store, o Options) (*Result, error) {
 		return nil, errors.New("summarize: no analyzer")
 	}
 	start := time.Now()
-	release, err := lockSummarize(ctx, s.Path, o.Wait)
+	release, err := lockSummarize(ctx, s.Path, o.Wait, o.OnWait)
 	if err != nil {
 		return nil, err
 	}
 	defer release()
+	if err := s.AwaitWriter(ctx); err != nil {
+		return nil, fmt.Errorf("summarize: %w", err)
+	}
 
 	// We hold the lock, so any run still 'running' belongs to a dead process.
 	if _, err := s.DB.ExecContext(ctx, `UPDATE summary_runs SET status = 'interrupted',

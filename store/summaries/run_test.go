@@ -929,7 +929,7 @@ func TestSummarizeRunBookkeeping(t *testing.T) {
 
 	// The lock: while held, a run without Wait returns ErrBusy; with Wait
 	// it runs once the lock is released.
-	release, err := lockSummarize(ctx, fx.s.Path, false)
+	release, err := lockSummarize(ctx, fx.s.Path, 0, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -955,7 +955,7 @@ func TestSummarizeRunBookkeeping(t *testing.T) {
 	wctx, wcancel := context.WithCancel(ctx)
 	stopped := make(chan error, 1)
 	ow0 := o
-	ow0.Wait = true
+	ow0.Wait = time.Hour
 	go func() { _, err := Run(wctx, fx.s, ow0); stopped <- err }()
 	wcancel()
 	if err := <-stopped; !errors.Is(err, context.Canceled) || !strings.Contains(err.Error(), "waiting") {
@@ -968,7 +968,7 @@ func TestSummarizeRunBookkeeping(t *testing.T) {
 	}
 	done := make(chan error, 1)
 	ow := o
-	ow.Wait = true
+	ow.Wait = time.Hour
 	go func() { _, err := Run(ctx, fx.s, ow); done <- err }()
 	select {
 	case err := <-done:
