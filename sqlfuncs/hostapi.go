@@ -16,8 +16,9 @@ package sqlfuncs
 // Aggregates. A host may buffer a group's rows and hand them over only when
 // a value is needed (HostGroup.Step/Inverse in the order SQLite delivered
 // them, then Value). Rows that the host has already recognised as plain
-// numbers may go through StepNumbers/InverseNumbers, which skip the boxing
-// of the arguments; the conditions are documented at each method and are
+// numbers may go through StepNumbers/StepColumns/InverseNumbers, which skip
+// the boxing of the arguments (StepColumns takes them column by column); the
+// conditions are documented at each method and are
 // those of the driver's own zero-allocation adapter (fastpath*.go).
 
 import (

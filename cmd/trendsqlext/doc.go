@@ -11,13 +11,15 @@
 // Every function the binary registers is registered under the same name
 // with the same arguments, NULL rules, errors and JSON, by calling the same
 // Go code (sqlfuncs.HostFunctions). An aggregate's xStep runs in C and only
-// appends the row to a buffer in SQLite's aggregate context: rows of plain
-// numbers as runs of doubles, anything else (the group's first row, text,
-// options that differ, a NULL time, a series row with a NULL value) as
-// tagged values. Go is called when SQLite asks for a value (xValue, xFinal)
-// and replays the buffered rows through the binary's own step code, so the
-// cost of crossing from C to Go is paid per group (per row only for window
-// results and scalars). correlogram_rows is an eponymous virtual table whose
+// stores the row in SQLite's aggregate context: a row of plain numbers into
+// column arrays of doubles (one per leading argument, in chunks of doubling
+// size), anything else (the group's first row, text, options that differ, a
+// NULL time, a series row with a NULL value) as tagged values in a log that
+// also records where each run of number rows falls. Go is called when SQLite
+// asks for a value (xValue, xFinal) and replays the stored rows through the
+// binary's own step code, each run's columns copied once straight into the
+// group's buffers, so the cost of crossing from C to Go is paid per group
+// (per row only for window results and scalars). correlogram_rows is an eponymous virtual table whose
 // argument is the HIDDEN column correlogram_json.
 //
 // Without cgo or without the trendsqlext tag the package builds to a
