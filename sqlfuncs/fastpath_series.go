@@ -82,8 +82,8 @@ func seriesFunction(name string, newAgg func(sqlite.FunctionContext) (sqlite.Agg
 				if n := len(a.t); n > a.head && t <= a.t[n-1] {
 					a.sorted = false
 				}
-				a.t = append(a.t, t)
-				a.y = append(a.y, y)
+				a.t = appendFloat(a.t, t)
+				a.y = appendFloat(a.y, y)
 				return
 			}
 		}

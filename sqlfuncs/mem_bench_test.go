@@ -32,6 +32,7 @@ func BenchmarkSeriesMemory(b *testing.B) {
 		}
 	}
 	queries := []struct{ name, sql string }{
+		{"trend_slope", `SELECT trend_slope(t, value) FROM readings`},
 		{"trend_fit", `SELECT trend_fit(t, value) FROM readings`},
 		{"trend_fit_season", `SELECT trend_fit(t, value, 'period=1y, harmonics=2') FROM readings`},
 		{"mann_kendall_hamed_rao", `SELECT mann_kendall(t, value, 'correct=hamed-rao') FROM readings`},

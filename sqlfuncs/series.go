@@ -169,12 +169,29 @@ func (a *seriesAgg) Step(ctx *sqlite.FunctionContext, args []driver.Value) (err 
 	if n := len(a.t); n > a.head && t <= a.t[n-1] {
 		a.sorted = false
 	}
-	a.t = append(a.t, t)
-	a.y = append(a.y, y)
+	a.t = appendFloat(a.t, t)
+	a.y = appendFloat(a.y, y)
 	if a.spec.values == 2 {
-		a.x = append(a.x, x)
+		a.x = appendFloat(a.x, x)
 	}
 	return nil
+}
+
+// appendFloat appends v to a group's buffer, doubling its capacity when it
+// is full: append's own growth of large slices (about 1.25× at a time)
+// allocates about five times a long series' final size in all, doubling
+// about twice.
+func appendFloat(s []float64, v float64) []float64 {
+	if len(s) == cap(s) {
+		s = growFloats(s)
+	}
+	return append(s, v)
+}
+
+func growFloats(s []float64) []float64 {
+	ns := make([]float64, len(s), max(2*cap(s), 64))
+	copy(ns, s)
+	return ns
 }
 
 func sameOpts(a, b []driver.Value) bool {
