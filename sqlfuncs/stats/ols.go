@@ -8,6 +8,10 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/lapack"
+	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -16,7 +20,7 @@ import (
 // determined by the data.
 var ErrRankDeficient = errors.New("design matrix is rank-deficient")
 
-// MaxCondition is the largest condition number (LAPACK 1-norm estimate, after
+// MaxCondition is the largest condition number (LAPACK ∞-norm estimate, after
 // scaling every column to unit Euclidean norm) that OLS accepts. Beyond it
 // the coefficients would carry fewer than about 4 correct digits, so OLS
 // reports ErrRankDeficient instead of printing noise.
@@ -65,24 +69,37 @@ func OLS(x []float64, n, p int, y []float64) (*OLSFit, error) {
 			xs[i*p+j] = x[i*p+j] / scale[j]
 		}
 	}
-	a := mat.NewDense(n, p, xs)
-	var qr mat.QR
-	qr.Factorize(a)
-	cond := qr.Cond()
+	// Householder QR in place on xs (LAPACK dgeqrf through gonum's lapack64,
+	// the calls gonum's mat.QR makes, without its copies of the n×p matrix):
+	// R in the upper triangle, the reflectors below it and in tau.
+	a := blas64.General{Rows: n, Cols: p, Stride: p, Data: xs}
+	tau := make([]float64, p)
+	work := []float64{0}
+	lapack64.Geqrf(a, tau, work, -1)
+	work = make([]float64, int(work[0]))
+	lapack64.Geqrf(a, tau, work, len(work))
+	rt := blas64.Triangular{N: p, Stride: p, Data: xs, Uplo: blas.Upper, Diag: blas.NonUnit}
+	// Condition number of R (the ∞-norm estimate of dtrcon), which equals
+	// that of the scaled design up to the norm's lack of orthogonal
+	// invariance.
+	cond := 1 / lapack64.Trcon(lapack.MaxRowSum, rt, make([]float64, 3*p), make([]int, p))
 	if !(cond <= MaxCondition) {
 		return nil, fmt.Errorf("%w (condition number %.3g)", ErrRankDeficient, cond)
 	}
-	var bs mat.VecDense
-	if err := qr.SolveVecTo(&bs, false, mat.NewVecDense(n, append([]float64(nil), y...))); err != nil {
-		return nil, fmt.Errorf("%w (%v)", ErrRankDeficient, err)
+	// b_s = R⁻¹ (Qᵀ y)_{1..p}.
+	qty := append([]float64(nil), y...)
+	c := blas64.General{Rows: n, Cols: 1, Stride: 1, Data: qty}
+	work = []float64{0}
+	lapack64.Ormqr(blas.Left, blas.Trans, a, tau, c, work, -1)
+	work = make([]float64, int(work[0]))
+	lapack64.Ormqr(blas.Left, blas.Trans, a, tau, c, work, len(work))
+	if !lapack64.Trtrs(blas.NoTrans, rt, c) {
+		return nil, fmt.Errorf("%w (R is singular)", ErrRankDeficient)
 	}
-	// R is the leading p×p block of the n×p upper-trapezoidal factor.
-	var rFull mat.Dense
-	qr.RTo(&rFull)
 	r := mat.NewTriDense(p, mat.Upper, nil)
 	for i := 0; i < p; i++ {
 		for j := i; j < p; j++ {
-			r.SetTri(i, j, rFull.At(i, j))
+			r.SetTri(i, j, xs[i*p+j])
 		}
 	}
 	var rinv mat.TriDense
@@ -102,7 +119,7 @@ func OLS(x []float64, n, p int, y []float64) (*OLSFit, error) {
 	}
 	coef := make([]float64, p)
 	for j := 0; j < p; j++ {
-		coef[j] = bs.AtVec(j) / scale[j]
+		coef[j] = qty[j] / scale[j]
 	}
 	resid := make([]float64, n)
 	ssr := 0.0
