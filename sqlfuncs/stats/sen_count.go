@@ -365,10 +365,10 @@ type order struct {
 }
 
 // remember caches the order realising the cut (v, <), as left by evalCut.
-// At most maxOrders orders are kept (O(n) memory); the oldest goes first.
+// At most d.maxOrders orders are kept (O(n) memory); the oldest goes first.
 func (d *senData) remember(v slopeRef, less int64, perm []int32) {
 	var buf []int32
-	if len(d.orders) >= maxOrders {
+	if len(d.orders) >= d.maxOrders {
 		buf = d.orders[0].perm
 		d.orders = append(d.orders[:0], d.orders[1:]...)
 	} else if k := len(d.orders); k < cap(d.orders) {
@@ -379,7 +379,6 @@ func (d *senData) remember(v slopeRef, less int64, perm []int32) {
 	d.orders = append(d.orders, order{v, d.slopeF(v), less, buf})
 }
 
-const maxOrders = 12
 
 // findOrder returns the cached order of the cut (v, <), or nil.
 func (d *senData) findOrder(v slopeRef) *order {

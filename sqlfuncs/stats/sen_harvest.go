@@ -64,7 +64,7 @@ func (h *harvest) run(left []keyItem, r int32) {
 			return
 		}
 		if k+len(left) > cap(h.items) {
-			h.items = slices.Grow(h.items, max(len(left), k/2))
+			h.items = slices.Grow(h.items, min(max(len(left), k/2), h.limit-k))
 		}
 		pr := h.base[r]
 		out := h.items[k : k+len(left)]

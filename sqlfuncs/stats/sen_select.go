@@ -38,6 +38,8 @@ type senData struct {
 	limit  int64 // enumerate when at most this many pairs are left
 	mFirst int   // sample size when drawing from all pairs
 	mNext  int   // sample size when drawing between two cuts
+	// maxOrders is the number of point orders of evaluated cuts kept
+	maxOrders int
 
 	// scratch
 	sorted    []float64 // a sorted copy of y (or t) for the medians and ties
@@ -75,6 +77,10 @@ type tieBlock struct {
 	below, upto int64 // ranks below+1..upto have slope v
 }
 
+// bigSen is the series length above which the selection trades a few
+// more cut evaluations for less memory (newSenData).
+const bigSen = 1 << 18
+
 // senPool keeps the selection's scratch buffers between calls (a summary
 // run computes one Sen slope per series on each worker).
 var senPool = sync.Pool{New: func() any { return new(senData) }}
@@ -104,9 +110,19 @@ func newSenData(t, y []float64, blocks []int) *senData {
 	if d.rng == nil {
 		d.rng = rand.New(&d.pcg)
 	}
-	d.limit = int64(max(8*n, 8192))
-	d.mFirst = max(3*n, 4096)
-	d.mNext = max(4*n, 4096)
+	if n <= bigSen {
+		d.limit = int64(max(8*n, 8192))
+		d.mFirst = max(3*n, 4096)
+		d.mNext = max(4*n, 4096)
+		d.maxOrders = 12
+	} else {
+		// Long series: smaller samples, listings and order cache keep
+		// the selection's memory near 100 bytes per point, for a round
+		// or two more of cut evaluations.
+		d.limit = int64(n)
+		d.mFirst, d.mNext = n, n
+		d.maxOrders = 6
+	}
 	d.dropOrders()
 	d.cuts, d.tieBlocks = d.cuts[:0], d.tieBlocks[:0]
 	d.sample, d.sampleIsAll = d.sample[:0], false

@@ -147,8 +147,9 @@ func TestSenBlocksMatchBruteForce(t *testing.T) {
 	}
 }
 
-// TestSenSelectionSmallRounds forces tiny samples and enumeration limits so
-// that selection goes through many rounds (windows that miss their target,
+// TestSenSelectionSmallRounds forces tiny samples, enumeration limits and
+// order caches (as long series use smaller ones) so that selection goes
+// through many rounds (windows that miss their target,
 // groups of targets splitting, cuts on tied slopes) and checks every rank
 // asked for together against the brute-force order.
 func TestSenSelectionSmallRounds(t *testing.T) {
@@ -166,9 +167,10 @@ func TestSenSelectionSmallRounds(t *testing.T) {
 				if N == 0 {
 					continue
 				}
-				for _, sizes := range [][3]int{{4, 8, 2}, {16, 32, 16}, {40, 200, 50}} {
+				for _, sizes := range [][4]int{{4, 8, 2, 12}, {16, 32, 16, 2}, {40, 200, 50, 6}} {
 					fast := newSenData(tt, yy, blocks)
 					fast.limit, fast.mFirst, fast.mNext = int64(sizes[0]), sizes[1], sizes[2]
+					fast.maxOrders = sizes[3] // few cached orders: evictions
 					ks := []int64{(N + 1) / 2, N/2 + 1, max(1, N/2-N/20), min(N, N/2+N/20), 1, N}
 					for i := 0; i < 4; i++ {
 						ks = append(ks, 1+rng.Int64N(N))
