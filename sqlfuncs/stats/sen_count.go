@@ -379,7 +379,6 @@ func (d *senData) remember(v slopeRef, less int64, perm []int32) {
 	d.orders = append(d.orders, order{v, d.slopeF(v), less, buf})
 }
 
-
 // findOrder returns the cached order of the cut (v, <), or nil.
 func (d *senData) findOrder(v slopeRef) *order {
 	for i := range d.orders {
