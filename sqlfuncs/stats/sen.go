@@ -38,8 +38,10 @@ package stats
 // statistic of the exact slopes of the given floating-point data; the
 // returned value is that slope correctly rounded. Random sampling affects
 // only the running time. Memory is O(n) throughout (samples and listed
-// windows hold at most 8n pairs each, a few orders of n points are cached);
-// the scratch buffers are pooled between calls.
+// windows hold at most 8n pairs each, up to twelve orders of n points are
+// cached; above 2^18 points at most n pairs each and six orders); the
+// scratch buffers are pooled between calls. A caller whose interval
+// variance depends on the median selects both on one state (senSession).
 //
 // The same machinery selects over the union of within-block pairs (blocks
 // of consecutive points, e.g. seasons), used by the seasonal Sen slope.
