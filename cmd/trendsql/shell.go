@@ -83,6 +83,12 @@ func runShell(ctx context.Context, e *env, o shellOptions) error {
 		return err
 	}
 	defer s.Close()
+	// A writable session starts only once no other writer holds the store
+	// (saying so while it waits), as query --write does; a read-only one
+	// never waits.
+	if err := s.AwaitWriter(ctx); err != nil {
+		return fmt.Errorf("shell: %w", err)
+	}
 	conn, err := s.DB.Conn(ctx)
 	if err != nil {
 		return err

@@ -72,10 +72,11 @@ func TestWritersHonourWait(t *testing.T) {
 			{"query", "--write", "INSERT INTO stations(id) VALUES ('S3')"},
 			{"summarize", "--quiet"},
 			{"demo", "--force", "--no-tour"},
+			{"shell", "--write"},
 		} {
 			var out, errw bytes.Buffer
 			full := append(append([]string{}, args...), "--db", db, "--wait", wait)
-			code := Main(full, strings.NewReader(""), &out, &errw)
+			code := Main(full, strings.NewReader("INSERT INTO stations(id) VALUES ('S4');\n"), &out, &errw)
 			msg := errw.String()
 			if code != ExitNothing || !strings.Contains(msg, "busy") && !strings.Contains(msg, "in use") || !strings.Contains(msg, "--wait") {
 				t.Errorf("%s --wait %s while another writer holds the store: exit %d, stderr %q; want %d, busy, naming --wait", strings.Join(args[:2], " "), wait, code, msg, ExitNothing)
