@@ -78,48 +78,16 @@ func OLS(x []float64, n, p int, y []float64) (*OLSFit, error) {
 	lapack64.Geqrf(a, tau, work, -1)
 	work = make([]float64, int(work[0]))
 	lapack64.Geqrf(a, tau, work, len(work))
-	rt := blas64.Triangular{N: p, Stride: p, Data: xs, Uplo: blas.Upper, Diag: blas.NonUnit}
-	// Condition number of R (the ∞-norm estimate of dtrcon), which equals
-	// that of the scaled design up to the norm's lack of orthogonal
-	// invariance.
-	cond := 1 / lapack64.Trcon(lapack.MaxRowSum, rt, make([]float64, 3*p), make([]int, p))
-	if !(cond <= MaxCondition) {
-		return nil, fmt.Errorf("%w (condition number %.3g)", ErrRankDeficient, cond)
-	}
-	// b_s = R⁻¹ (Qᵀ y)_{1..p}.
+	// Qᵀ y: its first p entries are the right-hand side of R b_s = (Qᵀ y)_{1..p}.
 	qty := append([]float64(nil), y...)
 	c := blas64.General{Rows: n, Cols: 1, Stride: 1, Data: qty}
 	work = []float64{0}
 	lapack64.Ormqr(blas.Left, blas.Trans, a, tau, c, work, -1)
 	work = make([]float64, int(work[0]))
 	lapack64.Ormqr(blas.Left, blas.Trans, a, tau, c, work, len(work))
-	if !lapack64.Trtrs(blas.NoTrans, rt, c) {
-		return nil, fmt.Errorf("%w (R is singular)", ErrRankDeficient)
-	}
-	r := mat.NewTriDense(p, mat.Upper, nil)
-	for i := 0; i < p; i++ {
-		for j := i; j < p; j++ {
-			r.SetTri(i, j, xs[i*p+j])
-		}
-	}
-	var rinv mat.TriDense
-	if err := rinv.InverseTri(r); err != nil {
-		return nil, fmt.Errorf("%w (%v)", ErrRankDeficient, err)
-	}
-	// (XsᵀXs)⁻¹ = R⁻¹ R⁻ᵀ, then (XᵀX)⁻¹ = D⁻¹ (XsᵀXs)⁻¹ D⁻¹ with D = diag(scale).
-	inv := make([]float64, p*p)
-	for i := 0; i < p; i++ {
-		for j := 0; j < p; j++ {
-			s := 0.0
-			for k := max(i, j); k < p; k++ {
-				s += rinv.At(i, k) * rinv.At(j, k)
-			}
-			inv[i*p+j] = s / (scale[i] * scale[j])
-		}
-	}
-	coef := make([]float64, p)
-	for j := 0; j < p; j++ {
-		coef[j] = qty[j] / scale[j]
+	coef, inv, cond, err := solveScaledR(xs[:p*p], qty[:p], scale, p)
+	if err != nil {
+		return nil, err
 	}
 	resid := make([]float64, n)
 	ssr := 0.0
@@ -133,6 +101,50 @@ func OLS(x []float64, n, p int, y []float64) (*OLSFit, error) {
 		ssr += e * e
 	}
 	return &OLSFit{N: n, P: p, Coef: coef, Resid: resid, SSR: ssr, XtXInv: inv, Cond: cond}, nil
+}
+
+// solveScaledR finishes a least-squares solve from the triangular factor of
+// the column-scaled design: r holds R (p×p row-major, upper triangle read;
+// Xs = Q R with Xs = X D⁻¹, D = diag(scale)), rhs the first p entries of
+// Qᵀ y (overwritten). It returns b = D⁻¹ R⁻¹ rhs, (XᵀX)⁻¹ = D⁻¹ R⁻¹ R⁻ᵀ D⁻¹
+// and the ∞-norm condition estimate of R (dtrcon), which equals that of the
+// scaled design up to the norm's lack of orthogonal invariance; an error
+// wrapping ErrRankDeficient when it exceeds MaxCondition.
+func solveScaledR(r, rhs, scale []float64, p int) (coef, inv []float64, cond float64, err error) {
+	rt := blas64.Triangular{N: p, Stride: p, Data: r, Uplo: blas.Upper, Diag: blas.NonUnit}
+	cond = 1 / lapack64.Trcon(lapack.MaxRowSum, rt, make([]float64, 3*p), make([]int, p))
+	if !(cond <= MaxCondition) {
+		return nil, nil, cond, fmt.Errorf("%w (condition number %.3g)", ErrRankDeficient, cond)
+	}
+	c := blas64.General{Rows: p, Cols: 1, Stride: 1, Data: rhs}
+	if !lapack64.Trtrs(blas.NoTrans, rt, c) {
+		return nil, nil, cond, fmt.Errorf("%w (R is singular)", ErrRankDeficient)
+	}
+	rm := mat.NewTriDense(p, mat.Upper, nil)
+	for i := 0; i < p; i++ {
+		for j := i; j < p; j++ {
+			rm.SetTri(i, j, r[i*p+j])
+		}
+	}
+	var rinv mat.TriDense
+	if err := rinv.InverseTri(rm); err != nil {
+		return nil, nil, cond, fmt.Errorf("%w (%v)", ErrRankDeficient, err)
+	}
+	inv = make([]float64, p*p)
+	for i := 0; i < p; i++ {
+		for j := 0; j < p; j++ {
+			s := 0.0
+			for k := max(i, j); k < p; k++ {
+				s += rinv.At(i, k) * rinv.At(j, k)
+			}
+			inv[i*p+j] = s / (scale[i] * scale[j])
+		}
+	}
+	coef = make([]float64, p)
+	for j := 0; j < p; j++ {
+		coef[j] = rhs[j] / scale[j]
+	}
+	return coef, inv, cond, nil
 }
 
 // HACVariance returns the Newey–West heteroskedasticity-and-autocorrelation
@@ -169,20 +181,20 @@ func HACVariance(fit *OLSFit, x []float64, c []float64, lags int, correction boo
 		}
 		z[i] = s * fit.Resid[i]
 	}
+	return hacSum(z, lags, p, correction)
+}
+
+// hacSum is the Bartlett-weighted long-run sum of HACVariance for the
+// products z_i = (x_iᵀ h) e_i in time order, p coefficients.
+func hacSum(z []float64, lags, p int, correction bool) float64 {
+	n := len(z)
 	if lags < 0 {
 		lags = 0
 	}
-	v := 0.0
-	for i := 0; i < n; i++ {
-		v += z[i] * z[i]
-	}
+	v := dot(z, z)
 	for j := 1; j <= lags && j < n; j++ {
 		w := 1 - float64(j)/float64(lags+1)
-		s := 0.0
-		for i := j; i < n; i++ {
-			s += z[i] * z[i-j]
-		}
-		v += 2 * w * s
+		v += 2 * w * dot(z[j:], z)
 	}
 	if correction {
 		v *= float64(n) / float64(n-p)

@@ -136,22 +136,20 @@ func nextHarmonic(s, c, s1, c1 float64) (float64, float64) {
 	return s*c1 + c*s1, c*c1 - s*s1
 }
 
-// trendRow writes the design row for time t into dst (length Params()).
-func trendRow(dst []float64, t, tCenter float64, degree int, period float64, harmonics int) {
-	x := (t - tCenter) / SecondsPerYear
+// designRow writes the design row into dst (length 1 + degree +
+// 2·harmonics) for centred time x in years and (s1, c1) = sin and cos of
+// 2π times the phase (ignored when harmonics = 0).
+func designRow(dst []float64, x float64, degree, harmonics int, s1, c1 float64) {
 	dst[0] = 1
 	pw := 1.0
 	for k := 1; k <= degree; k++ {
 		pw *= x
 		dst[k] = pw
 	}
-	if harmonics > 0 {
-		s1, c1 := math.Sincos(2 * math.Pi * seasonPhase(t, period))
-		s, c := s1, c1
-		for j := degree + 1; j < degree+1+2*harmonics; j += 2 {
-			dst[j], dst[j+1] = s, c
-			s, c = nextHarmonic(s, c, s1, c1)
-		}
+	s, c := s1, c1
+	for j := degree + 1; j < degree+1+2*harmonics; j += 2 {
+		dst[j], dst[j+1] = s, c
+		s, c = nextHarmonic(s, c, s1, c1)
 	}
 }
 
@@ -250,24 +248,7 @@ func fitTrend(t, y []float64, spec TrendSpec) (*TrendModel, error) {
 	if spec.Harmonics == 0 {
 		period = 0
 	}
-	x := make([]float64, n*p)
-	for i := 0; i < n; i++ {
-		trendRow(x[i*p:(i+1)*p], t[i], tc, spec.Degree, period, spec.Harmonics)
-	}
-	// A sine column that is rounding noise at every reading (e.g. readings
-	// at exact multiples of half the period give sin ≈ ±1e-16) would pass a
-	// scaled rank test, so seasonal columns are checked against their
-	// natural magnitude 1 first.
-	for j := spec.Degree + 1; j < p; j++ {
-		ss := 0.0
-		for i := 0; i < n; i++ {
-			ss += x[i*p+j] * x[i*p+j]
-		}
-		if math.Sqrt(ss/float64(n)) < 1e-9 {
-			return nil, fmt.Errorf("%w (column %s is zero at every reading time)", ErrRankDeficient, TrendTerms(spec.Degree, spec.Harmonics)[j])
-		}
-	}
-	fit, err := OLS(x, n, p, yc)
+	fit, z, err := trendLeastSquares(t, yc, tc, spec.Degree, period, spec.Harmonics)
 	if err != nil {
 		return nil, err
 	}
@@ -309,9 +290,7 @@ func fitTrend(t, y []float64, spec TrendSpec) (*TrendModel, error) {
 		m.SlopePerYear = b
 		m.SlopeSE = m.SE[1]
 		m.SlopeP = tTwoSided(b, m.SlopeSE, float64(df))
-		c := make([]float64, p)
-		c[1] = 1
-		v := HACVariance(fit, x, c, m.HACLags, true)
+		v := hacSum(z, m.HACLags, p, true)
 		m.HACSlopeSE = math.Sqrt(math.Max(v, 0))
 		m.HACP = tTwoSided(b, m.HACSlopeSE, float64(df))
 		if ne := m.NEff; ne > float64(p) {

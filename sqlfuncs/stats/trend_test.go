@@ -377,7 +377,11 @@ func designCond(t []float64, m *TrendModel) float64 {
 	x := mat.NewDense(len(t), p, nil)
 	row := make([]float64, p)
 	for i, ti := range t {
-		trendRow(row, ti, m.TCenter, m.Degree, m.Period, m.Harm)
+		var s1, c1 float64
+		if m.Harm > 0 {
+			s1, c1 = math.Sincos(2 * math.Pi * seasonPhase(ti, m.Period))
+		}
+		designRow(row, (ti-m.TCenter)/SecondsPerYear, m.Degree, m.Harm, s1, c1)
 		x.SetRow(i, row)
 	}
 	for j := 0; j < p; j++ {
