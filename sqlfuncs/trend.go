@@ -35,7 +35,9 @@ package sqlfuncs
 // window functions with any frame.
 //
 // Model and formulas: stats.FitTrend and stats.TrendModel (sqlfuncs/stats/
-// trend.go; the QR solve and the Newey–West covariance in stats/ols.go). In
+// trend.go; the blocked Householder QR over rows formed on the fly in
+// stats/trend_qr.go, the triangular solve and the Newey–West covariance in
+// stats/ols.go). In
 // short, y is fitted by least squares on a polynomial in centred time,
 // x = (t − mean t) in years of 365.25 d, plus sine/cosine pairs of the
 // period with their phase taken from the unix epoch (so a stored model can
