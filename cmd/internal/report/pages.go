@@ -104,7 +104,7 @@ var pageTmpl = template.Must(template.New("series").Parse(`<!DOCTYPE html>
 var indexTmpl = template.Must(template.New("index").Parse(`<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width, initial-scale=1">
 <title>{{.Title}}</title><style>{{.CSS}}</style></head>
-<body>
+<body class="index">
 <header><div class="kicker">Trend report</div>
 <h1>{{.Title}}</h1>
 <p class="run">{{.RunText}}</p>
@@ -118,11 +118,11 @@ var indexTmpl = template.Must(template.New("index").Parse(`<!DOCTYPE html>
 <h2>Series</h2>
 <p class="note">Click a column heading to sort. Slopes are per year (Sen slope: median of pairwise slopes, with its interval); p rank: the rank trend test's p-value, with its correction for serial correlation where the method has one (see each page); p HAC: least-squares slope with the Newey–West standard error; q FDR: the rank test's p-value adjusted by Benjamini–Hochberg across the run's series.</p>
 <div class="wide"><table class="sortable" id="series-table"><thead><tr>
-<th>trend</th><th>station</th><th>name</th><th>variable (unit)</th><th>n</th><th>years</th>
+<th>trend</th><th>station</th><th>variable (unit)</th><th>n</th><th>years</th>
 <th>slope / year</th><th>slope / decade</th><th>Sen slope / year</th><th>Sen interval</th><th>p rank</th><th>p HAC</th><th>q FDR</th><th>flags</th>
 {{range .MetaCols}}<th>{{.}}</th>{{end}}</tr></thead><tbody>
 {{range .Rows}}<tr><td class="spark" data-v="{{.SlopeKey}}"><a href="{{.Page}}">{{.Spark}}</a></td>
-<td class="id"><a href="{{.Page}}">{{.Station}}</a></td><td>{{.Name}}</td><td data-v="{{.Variable}}">{{.Variable}}{{if .Unit}} <span class="note">({{.Unit}})</span>{{end}}</td>
+<td class="id" data-v="{{.Station}}"><a href="{{.Page}}">{{.Station}}</a>{{if .Name}}<div class="name">{{.Name}}</div>{{end}}</td><td data-v="{{.Variable}}">{{.Variable}}{{if .Unit}} <span class="note">({{.Unit}})</span>{{end}}</td>
 <td class="num" data-v="{{.NKey}}">{{.N}}</td><td class="num" data-v="{{.YearsKey}}">{{.Years}}</td>
 <td class="num" data-v="{{.SlopeKey}}">{{.Slope}}</td><td class="num" data-v="{{.SlopeDecKey}}">{{.SlopeDec}}</td>
 <td class="num" data-v="{{.SenKey}}">{{.Sen}}</td><td class="num">{{.SenCI}}</td>

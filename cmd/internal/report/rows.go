@@ -94,10 +94,10 @@ func figureRows(s *Series, run *Run) []figRow {
 		add("residual lag-1 sample autocorrelation", num(v), "")
 	}
 	if lbl, ok := r.i("lb_lags"); ok {
-		add(fmt.Sprintf("Ljung–Box test, lags 1 to %d", lbl), "Q = "+num(r.f("lb_q"))+", p = "+pval(r.f("lb_p")), "")
+		add(fmt.Sprintf("Ljung–Box test, lags 1 to %d", lbl), "Q = "+num(r.f("lb_q"))+", "+pEquals(r.f("lb_p")), "")
 	}
 	if pt := r.s("pettitt_time_change"); pt != "" {
-		add("Pettitt change point", pt, "p = "+pval(r.f("pettitt_p"))+" (approximate)")
+		add("Pettitt change point", pt, pEquals(r.f("pettitt_p"))+" (approximate)")
 	}
 	var on []string
 	for _, f := range flagNames {

@@ -37,6 +37,8 @@ td.spark svg.chart{width:124px}
 .note{font-size:.86rem;color:var(--soft)}
 dl.params{display:grid;grid-template-columns:max-content 1fr;gap:.1rem .8rem;font-size:.86rem;margin:.3rem 0}
 dl.params dt{color:var(--soft)}dl.params dd{margin:0}
+body.index header,body.index main,body.index footer{max-width:1480px}
+td.id .name{white-space:normal;min-width:7rem;max-width:11rem;font-size:.8rem;color:var(--soft)}
 footer{max-width:1120px;margin:0 auto;padding:1rem 1.2rem 2rem;font-size:.8rem;color:var(--soft)}
 `
 

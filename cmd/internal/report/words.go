@@ -30,6 +30,15 @@ func num(v float64) string {
 }
 
 // pval formats a p-value: three significant digits, "< 0.0001" below.
+// pEquals writes "p = 0.25", or "p < 0.0001" for a tiny p-value.
+func pEquals(p float64) string {
+	s := pval(p)
+	if strings.HasPrefix(s, "<") {
+		return "p " + s
+	}
+	return "p = " + s
+}
+
 func pval(p float64) string {
 	switch {
 	case math.IsNaN(p):
