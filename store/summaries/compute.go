@@ -2,6 +2,7 @@ package summaries
 
 import (
 	"context"
+	"database/sql"
 	"fmt"
 	"math"
 	"runtime"
@@ -9,7 +10,6 @@ import (
 
 	"trendsql/sqlfuncs"
 	"trendsql/sqlfuncs/stats"
-	"trendsql/store"
 )
 
 type seriesResult struct {
@@ -20,7 +20,7 @@ type seriesResult struct {
 }
 
 // computeAll reads and analyses the series with o.Workers goroutines.
-func computeAll(ctx context.Context, s *store.Store, todo []seriesRef, o Options) ([]*seriesResult, error) {
+func computeAll(ctx context.Context, db *sql.DB, todo []seriesRef, o Options) ([]*seriesResult, error) {
 	workers := o.Workers
 	if workers <= 0 {
 		workers = runtime.NumCPU()
@@ -46,7 +46,7 @@ func computeAll(ctx context.Context, s *store.Store, todo []seriesRef, o Options
 			var buf seriesBuffer
 			for i := range jobs {
 				ref := todo[i]
-				if err := loadSeries(ctx, s, ref.id, o.Since, o.Until, &buf); err != nil {
+				if err := loadSeries(ctx, db, ref.id, o.Since, o.Until, &buf); err != nil {
 					errOnce.Do(func() { firstErr = err; cancel() })
 					return
 				}
@@ -120,7 +120,7 @@ type seriesBuffer struct {
 // sqlfuncs.QualifierCountsFunction, both of which reach Go without a boxed
 // value per row. The time bounds are in the statement only when set, so an
 // unbounded read compares only the series key per row.
-func loadSeries(ctx context.Context, s *store.Store, id int64, since, until *int64, b *seriesBuffer) error {
+func loadSeries(ctx context.Context, db *sql.DB, id int64, since, until *int64, b *seriesBuffer) error {
 	where := ` FROM readings WHERE series_id = ?`
 	args := []any{id}
 	if since != nil {
@@ -134,7 +134,7 @@ func loadSeries(ctx context.Context, s *store.Store, id int64, since, until *int
 	q := `SELECT ` + sqlfuncs.PackSeriesFunction + `(t, value), ` + sqlfuncs.QualifierCountsFunction + `(qualifier), count(censored)` + where
 	var packed, quals []byte
 	var censored int64
-	if err := s.DB.QueryRowContext(ctx, q, args...).Scan(&packed, &quals, &censored); err != nil {
+	if err := db.QueryRowContext(ctx, q, args...).Scan(&packed, &quals, &censored); err != nil {
 		return fmt.Errorf("summarize: read series %d: %w", id, err)
 	}
 	var err error
@@ -149,7 +149,7 @@ func loadSeries(ctx context.Context, s *store.Store, id int64, since, until *int
 		return nil
 	}
 	// The marks, in time order like the packed series.
-	rows, err := s.DB.QueryContext(ctx, `SELECT censored`+where+` ORDER BY t`, args...)
+	rows, err := db.QueryContext(ctx, `SELECT censored`+where+` ORDER BY t`, args...)
 	if err != nil {
 		return fmt.Errorf("summarize: read censoring of series %d: %w", id, err)
 	}

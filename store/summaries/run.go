@@ -179,7 +179,7 @@ func Run(ctx context.Context, s *store.Store, o Options) (*Result, error) {
 		return res, runErr
 	}
 
-	results, err := computeAll(ctx, s, todo, o)
+	results, err := computeAll(ctx, s.DB, todo, o)
 	if err != nil {
 		return fail(err)
 	}

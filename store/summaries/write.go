@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"strings"
 	"time"
 
 	"trendsql/sqlfuncs"
@@ -76,17 +77,8 @@ func writeRun(ctx context.Context, s *store.Store, res *Result, results []*serie
 		return fmt.Errorf("summarize: begin write: %w", err)
 	}
 	defer tx.Rollback()
-	ins, err := tx.PrepareContext(ctx, `INSERT INTO series_summaries(
-		run_id, series_id, notes, n, t_first, t_last, time_first, time_last, years, step_s, grid_slots, missing_share,
-		n_qualified, qualifier_counts, mean, unit,
-		trend_model, slope_per_year, slope_se, slope_p, hac_slope_se, hac_lags, hac_p, n_eff, n_eff_p, r2, pct_per_decade,
-		mk_method, mk_s, mk_var_s, mk_z, mk_p, mk_tau, mk_correction_factor,
-		sen_slope_per_year, sen_lower, sen_upper, sen_confidence, sen_interval_basis, sen_var_s, trend_p_fdr,
-		resid_acf1, acf_basis, lb_lags, lb_df, lb_q, lb_p,
-		pettitt_k, pettitt_t_change, pettitt_time_change, pettitt_u, pettitt_p,
-		insufficient_data, trend_detected, residual_dependence, step_change_suspected,
-		censored_share, censoring_limits, highest_limit)
-		VALUES (?,?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?, ?,?,?,?,?,?,?,?,?,?,?, ?,?,?,?,?,?,?, ?,?,?,?,?,?,?, ?,?,?,?,?,?, ?,?,?,?,?, ?,?,?,?, ?,?,?)`)
+	ins, err := tx.PrepareContext(ctx, `INSERT INTO series_summaries(`+strings.Join(summaryColumns, ", ")+`)
+		VALUES (`+store.Placeholders(len(summaryColumns))+`)`)
 	if err != nil {
 		return fmt.Errorf("summarize: prepare: %w", err)
 	}
@@ -97,51 +89,10 @@ func writeRun(ctx context.Context, s *store.Store, res *Result, results []*serie
 	}
 	defer cg.close()
 	for _, r := range results {
-		m := r.sum
-		var tFirst, tLast, timeFirst, timeLast any
-		if m.N > 0 {
-			tFirst, tLast = m.TFirst, m.TLast
-			timeFirst, timeLast = timefmt.FormatUTC(m.TFirst), timefmt.FormatUTC(m.TLast)
-		}
-		var quals any
-		if len(m.QualifierCount) > 0 {
-			b, _ := json.Marshal(m.QualifierCount)
-			quals = string(b)
-		}
-		var model any
-		if m.TrendModel != nil {
-			model = sqlfuncs.TrendModelJSON(m.TrendModel)
-		}
-		var pChange, pTime any
-		if m.PettittTChange != nil {
-			pChange = *m.PettittTChange
-			pTime = timefmt.FormatUTC(*m.PettittTChange)
-		}
-		var unit any
-		if r.ref.unit != "" {
-			unit = r.ref.unit
-		}
-		var mkMethod any
-		if m.MKMethod != "" {
-			mkMethod = m.MKMethod
-		}
-		var senConf any
-		if m.SenSlopePerYear != nil {
-			senConf = m.SenConfidence
-		}
-		if _, err := ins.ExecContext(ctx,
-			res.RunID, r.ref.id, nullStr(m.Problem), m.N, tFirst, tLast, timeFirst, timeLast, m.Years, sqlFloat(m.StepS), sqlInt(m.GridSlots), sqlFloat(m.MissingShare),
-			m.NQualified, quals, sqlFloat(m.Mean), unit,
-			model, sqlFloat(m.SlopePerYear), sqlFloat(m.SlopeSE), sqlFloat(m.SlopeP), sqlFloat(m.HACSlopeSE), sqlInt(m.HACLags), sqlFloat(m.HACP), sqlFloat(m.NEff), sqlFloat(m.NEffP), sqlFloat(m.R2), sqlFloat(m.PctPerDecade),
-			mkMethod, sqlFloat(m.MKS), sqlFloat(m.MKVarS), sqlFloat(m.MKZ), sqlFloat(m.MKP), sqlFloat(m.MKTau), sqlFloat(m.MKCorrectionFactor),
-			sqlFloat(m.SenSlopePerYear), sqlFloat(m.SenLower), sqlFloat(m.SenUpper), senConf, nullStr(m.SenIntervalBasis), sqlFloat(m.SenVarS), sqlFloat(r.pFDR),
-			sqlFloat(m.ResidACF1), nullStr(m.ACFBasis), sqlInt(m.LBLags), sqlInt(m.LBDF), sqlFloat(m.LBQ), sqlFloat(m.LBP),
-			sqlInt(m.PettittK), pChange, pTime, sqlFloat(m.PettittU), sqlFloat(m.PettittP),
-			boolInt(m.InsufficientData), sqlBool(r.trendDetected), sqlBool(m.ResidualDependence), sqlBool(m.StepChangeSuspected),
-			sqlFloat(m.CensoredShare), sqlInt(m.CensoringLimits), sqlFloat(m.HighestLimit),
-		); err != nil {
+		if _, err := ins.ExecContext(ctx, summaryValues(res.RunID, r)...); err != nil {
 			return fmt.Errorf("summarize: write series %d: %w", r.ref.id, err)
 		}
+		m := r.sum
 		for _, c := range m.Correlogram {
 			var pacf, q, p any
 			if c.HasPACF {
@@ -166,6 +117,68 @@ func writeRun(ctx context.Context, s *store.Store, res *Result, results []*serie
 		return fmt.Errorf("summarize: commit: %w", err)
 	}
 	return nil
+}
+
+// summaryColumns are the series_summaries columns a run writes, in the
+// order of summaryValues.
+var summaryColumns = []string{
+	"run_id", "series_id", "notes", "n", "t_first", "t_last", "time_first", "time_last", "years", "step_s", "grid_slots", "missing_share",
+	"n_qualified", "qualifier_counts", "mean", "unit",
+	"trend_model", "slope_per_year", "slope_se", "slope_p", "hac_slope_se", "hac_lags", "hac_p", "n_eff", "n_eff_p", "r2", "pct_per_decade",
+	"mk_method", "mk_s", "mk_var_s", "mk_z", "mk_p", "mk_tau", "mk_correction_factor",
+	"sen_slope_per_year", "sen_lower", "sen_upper", "sen_confidence", "sen_interval_basis", "sen_var_s", "trend_p_fdr",
+	"resid_acf1", "acf_basis", "lb_lags", "lb_df", "lb_q", "lb_p",
+	"pettitt_k", "pettitt_t_change", "pettitt_time_change", "pettitt_u", "pettitt_p",
+	"insufficient_data", "trend_detected", "residual_dependence", "step_change_suspected",
+	"censored_share", "censoring_limits", "highest_limit",
+}
+
+// summaryValues is the series_summaries row of one result (SQL values:
+// nil for NULL).
+func summaryValues(runID int64, r *seriesResult) []any {
+	m := r.sum
+	var tFirst, tLast, timeFirst, timeLast any
+	if m.N > 0 {
+		tFirst, tLast = m.TFirst, m.TLast
+		timeFirst, timeLast = timefmt.FormatUTC(m.TFirst), timefmt.FormatUTC(m.TLast)
+	}
+	var quals any
+	if len(m.QualifierCount) > 0 {
+		b, _ := json.Marshal(m.QualifierCount)
+		quals = string(b)
+	}
+	var model any
+	if m.TrendModel != nil {
+		model = sqlfuncs.TrendModelJSON(m.TrendModel)
+	}
+	var pChange, pTime any
+	if m.PettittTChange != nil {
+		pChange = *m.PettittTChange
+		pTime = timefmt.FormatUTC(*m.PettittTChange)
+	}
+	var unit any
+	if r.ref.unit != "" {
+		unit = r.ref.unit
+	}
+	var mkMethod any
+	if m.MKMethod != "" {
+		mkMethod = m.MKMethod
+	}
+	var senConf any
+	if m.SenSlopePerYear != nil {
+		senConf = m.SenConfidence
+	}
+	return []any{
+		runID, r.ref.id, nullStr(m.Problem), m.N, tFirst, tLast, timeFirst, timeLast, m.Years, sqlFloat(m.StepS), sqlInt(m.GridSlots), sqlFloat(m.MissingShare),
+		m.NQualified, quals, sqlFloat(m.Mean), unit,
+		model, sqlFloat(m.SlopePerYear), sqlFloat(m.SlopeSE), sqlFloat(m.SlopeP), sqlFloat(m.HACSlopeSE), sqlInt(m.HACLags), sqlFloat(m.HACP), sqlFloat(m.NEff), sqlFloat(m.NEffP), sqlFloat(m.R2), sqlFloat(m.PctPerDecade),
+		mkMethod, sqlFloat(m.MKS), sqlFloat(m.MKVarS), sqlFloat(m.MKZ), sqlFloat(m.MKP), sqlFloat(m.MKTau), sqlFloat(m.MKCorrectionFactor),
+		sqlFloat(m.SenSlopePerYear), sqlFloat(m.SenLower), sqlFloat(m.SenUpper), senConf, nullStr(m.SenIntervalBasis), sqlFloat(m.SenVarS), sqlFloat(r.pFDR),
+		sqlFloat(m.ResidACF1), nullStr(m.ACFBasis), sqlInt(m.LBLags), sqlInt(m.LBDF), sqlFloat(m.LBQ), sqlFloat(m.LBP),
+		sqlInt(m.PettittK), pChange, pTime, sqlFloat(m.PettittU), sqlFloat(m.PettittP),
+		boolInt(m.InsufficientData), sqlBool(r.trendDetected), sqlBool(m.ResidualDependence), sqlBool(m.StepChangeSuspected),
+		sqlFloat(m.CensoredShare), sqlInt(m.CensoringLimits), sqlFloat(m.HighestLimit),
+	}
 }
 
 func nullStr(s string) any {
