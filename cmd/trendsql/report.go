@@ -42,7 +42,9 @@ attribute. Charts are inline SVG; pages load nothing from the network.
 
 Figures come from the latest successful summarize run that holds a selected
 series (or --run ID); series the run lacks are computed now with its
-parameters and marked so. A DIR that holds files not written by a report is
+parameters and marked so. When no run holds any selected series, every
+figure is computed now with summarize's default parameters (nothing is
+stored). A DIR that holds files not written by a report is
 refused unless --force; such files are never replaced.`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error { return runReport(cmd.Context(), e, o) },
@@ -69,9 +71,11 @@ func runReport(ctx context.Context, e *env, o reportOptions) error {
 	if o.run < 0 {
 		return usageErr("report: --run must be a positive run id, got %d", o.run)
 	}
+	fallback := summarizeDefaults
+	fallback.Harmonics, fallback.Seasons = 0, 0 // no --period
 	opts := report.Options{
 		Dir: o.out, RunID: o.run, GroupBy: o.groupBy, MetaCols: o.meta, PNG: o.png, Force: o.force,
-		FullDetail: o.fullDetail, Tool: "trendsql " + versionString(),
+		FullDetail: o.fullDetail, Tool: "trendsql " + versionString(), Fallback: &fallback,
 		Selection: report.Selection{Stations: o.stations, Variables: o.variables, Where: o.where},
 	}
 	for _, s := range o.series {
@@ -104,7 +108,11 @@ func runReport(ctx context.Context, e *env, o reportOptions) error {
 	case err != nil:
 		return err
 	}
-	fmt.Fprintf(e.errw, "report %s: %d series from summarize run %d", res.Dir, res.Series, res.Run.ID)
+	if res.Run.Unstored {
+		fmt.Fprintf(e.errw, "report %s: %d series, figures computed now with summarize's defaults (no summarize run holds them; `trendsql summarize` stores them)", res.Dir, res.Series)
+	} else {
+		fmt.Fprintf(e.errw, "report %s: %d series from summarize run %d", res.Dir, res.Series, res.Run.ID)
+	}
 	if res.OnTheFly > 0 {
 		fmt.Fprintf(e.errw, " (%d computed now)", res.OnTheFly)
 	}

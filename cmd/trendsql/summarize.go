@@ -76,13 +76,14 @@ store for longer than --wait (default 10s; --wait 0 does not wait).`,
 	fl.StringVar(&o.since, "since", "", "only readings at or after this time (ISO 8601, YYYY-MM-DD or unix seconds)")
 	fl.StringVar(&o.until, "until", "", "only readings at or before this time")
 	fl.StringVar(&o.period, "period", "", "seasonal period, e.g. 1y (1y = 365.25 d); empty = no seasonal model")
-	fl.IntVar(&o.harmonics, "harmonics", 2, "sine/cosine pairs of the seasonal model (with --period)")
-	fl.IntVar(&o.seasons, "seasons", 12, "seasons per period for the seasonal Kendall test (with --period)")
-	fl.IntVar(&o.maxLag, "max-lag", 24, "residual correlogram lags to store")
-	fl.IntVar(&o.lbLags, "lb-lags", 0, "Ljung–Box lag on the residuals (0 = min(10, n/5), common practice)")
-	fl.Float64Var(&o.alpha, "alpha", 0.05, "significance level for the flags (trend on the FDR-adjusted p)")
-	fl.Float64Var(&o.confidence, "confidence", 0.95, "confidence level of the Sen slope interval")
-	fl.IntVar(&o.minN, "min-n", 10, "fewest readings for a summary; fewer sets insufficient_data")
+	d := summarizeDefaults
+	fl.IntVar(&o.harmonics, "harmonics", d.Harmonics, "sine/cosine pairs of the seasonal model (with --period)")
+	fl.IntVar(&o.seasons, "seasons", d.Seasons, "seasons per period for the seasonal Kendall test (with --period)")
+	fl.IntVar(&o.maxLag, "max-lag", d.MaxLag, "residual correlogram lags to store")
+	fl.IntVar(&o.lbLags, "lb-lags", d.LBLags, "Ljung–Box lag on the residuals (0 = min(10, n/5), common practice)")
+	fl.Float64Var(&o.alpha, "alpha", d.Alpha, "significance level for the flags (trend on the FDR-adjusted p)")
+	fl.Float64Var(&o.confidence, "confidence", d.Confidence, "confidence level of the Sen slope interval")
+	fl.IntVar(&o.minN, "min-n", d.MinN, "fewest readings for a summary; fewer sets insufficient_data")
 	fl.BoolVar(&o.censoredFits, "censored-fits", false, "also store least-squares and correlogram figures for series with censored readings (on the stored numbers: censored values at their limits)")
 	fl.BoolVar(&o.changedOnly, "changed-only", false, "skip series with no readings imported since their last successful summary with the same parameters")
 	fl.DurationVar(&o.writeWait, "write-wait", summaries.DefaultWriteWait, "how long the final write keeps retrying while another writer (e.g. an import) holds the store")
@@ -91,6 +92,11 @@ store for longer than --wait (default 10s; --wait 0 does not wait).`,
 	e.addWaitFlag(c)
 	return c
 }
+
+// summarizeDefaults is the model of summarize without model flags (no
+// seasonal model: Harmonics and Seasons apply only with --period); report
+// computes with it when the store holds no run.
+var summarizeDefaults = stats.SummaryOptions{Harmonics: 2, Seasons: 12, MaxLag: 24, Alpha: 0.05, Confidence: 0.95, MinN: 10}
 
 // runSummarize checks the options, runs one summary run and reports it.
 func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {

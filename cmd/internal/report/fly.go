@@ -8,6 +8,9 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"trendsql/sqlfuncs/stats"
+	"trendsql/store/summaries"
 )
 
 // computeMissing fills the figures of a series that the run lacks, with the
@@ -166,4 +169,38 @@ func flyCorrelogram(ctx context.Context, db *sql.DB, run *Run, s *Series, model 
 		s.Sum["resid_acf1"] = s.Lags[0].ACF
 	}
 	return nil
+}
+
+// computeAllNow computes the figures of every selected series as a
+// summarize run with the model m would (summaries.Compute: the same
+// analysis, censored series through the censoring-aware methods, the
+// Benjamini–Hochberg adjustment across the selection), for a store that
+// holds no run of the selection. Nothing is written.
+func computeAllNow(ctx context.Context, db *sql.DB, m stats.SummaryOptions, series []*Series) (*Run, error) {
+	ids := make([]int64, len(series))
+	byID := map[int64]*Series{}
+	for i, s := range series {
+		ids[i] = s.ID
+		byID[s.ID] = s
+	}
+	got, err := summaries.Compute(ctx, db, ids, summaries.Options{Model: m, Analyze: stats.SummarizeSeries})
+	if err != nil {
+		return nil, fmt.Errorf("report: computing the figures: %w", err)
+	}
+	for _, c := range got {
+		s := byID[c.SeriesID]
+		if s == nil {
+			continue
+		}
+		s.Sum = row(c.Columns)
+		for _, l := range c.Correlogram {
+			s.Lags = append(s.Lags, Lag{Lag: l.Lag, ACF: l.ACF, Band: l.Band, LBP: l.LBP})
+		}
+	}
+	r := &Run{Unstored: true, PeriodS: m.PeriodS, Harmonics: m.Harmonics, Seasons: m.Seasons, MaxLag: m.MaxLag,
+		LBLags: m.LBLags, MinN: m.MinN, Alpha: m.Alpha, Confidence: m.Confidence, SeriesInRun: len(got)}
+	if r.PeriodS <= 0 {
+		r.Harmonics, r.Seasons = 0, 0
+	}
+	return r, nil
 }

@@ -43,6 +43,9 @@ type Run struct {
 	Alpha, Confidence      float64
 	SeriesInRun            int
 	SeriesComputedOnTheFly int
+	// Unstored: no run holds the selection; every figure was computed now
+	// with summarize's default model (ID is 0).
+	Unstored bool
 }
 
 // Station is a station row with its metadata as sorted key/value text.

@@ -58,6 +58,7 @@ type indexRow struct {
 
 type indexPage struct {
 	Title, RunText  string
+	FDRFamily       string
 	Params          []KV
 	Maps, Groups    []*figView
 	GroupBy         string
@@ -116,7 +117,7 @@ var indexTmpl = template.Must(template.New("index").Parse(`<!DOCTYPE html>
 <p class="note">One map per variable: longitude and latitude with the cosine of the mean latitude as the x scale. Symbol: a wedge points up for a rising and down for a falling Sen slope; filled when the run flagged the trend after the FDR adjustment, outlined when not; a ring when there is no estimate or the slope is zero.</p>
 <div class="maps">{{range .Maps}}<figure id="{{.ID}}" data-x-map="{{.XMap}}" data-y-map="{{.YMap}}">{{.SVG}}<figcaption>{{.Caption}}{{if .PNG}} <a href="{{.PNG}}">PNG</a>{{end}}</figcaption></figure>{{end}}</div>{{end}}
 <h2>Series</h2>
-<p class="note">Click a column heading to sort. Slopes are per year (Sen slope: median of pairwise slopes, with its interval); p rank: the rank trend test's p-value, with its correction for serial correlation where the method has one (see each page); p HAC: least-squares slope with the Newey–West standard error; q FDR: the rank test's p-value adjusted by Benjamini–Hochberg across the run's series.</p>
+<p class="note">Click a column heading to sort. Slopes are per year (Sen slope: median of pairwise slopes, with its interval); p rank: the rank trend test's p-value, with its correction for serial correlation where the method has one (see each page); p HAC: least-squares slope with the Newey–West standard error; q FDR: the rank test's p-value adjusted by Benjamini–Hochberg across {{.FDRFamily}}.</p>
 <div class="wide"><table class="sortable" id="series-table"><thead><tr>
 <th>trend</th><th>station</th><th>variable (unit)</th><th>n</th><th>years</th>
 <th>slope / year</th><th>slope / decade</th><th>Sen slope / year</th><th>Sen interval</th><th>p rank</th><th>p HAC</th><th>q FDR</th><th>flags</th>

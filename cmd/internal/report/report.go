@@ -16,12 +16,15 @@ package report
 import (
 	"context"
 	"database/sql"
+	"errors"
 	"fmt"
 	"html/template"
 	"math"
 	"sort"
 	"strings"
 	"time"
+
+	"trendsql/sqlfuncs/stats"
 )
 
 // Options controls Write.
@@ -34,8 +37,13 @@ type Options struct {
 	PNG        bool     // also write each chart as PNG
 	Force      bool     // allow a folder that holds other files (they are never replaced)
 	FullDetail bool     // draw every reading, however long the series
-	Tool       string   // tool name and version for the footer
-	Now        time.Time
+	// Fallback, if set, is the summarize model used when no successful run
+	// holds any selected series (and RunID is 0): every figure is then
+	// computed now, as such a run would compute it, and nothing is stored.
+	// Nil: ErrNoRun.
+	Fallback *stats.SummaryOptions
+	Tool     string // tool name and version for the footer
+	Now      time.Time
 }
 
 // Result summarises a written report.
@@ -57,11 +65,16 @@ func Write(ctx context.Context, db *sql.DB, o Options) (*Result, error) {
 		return nil, err
 	}
 	run, err := findRun(ctx, db, o.RunID, series)
+	if errors.Is(err, ErrNoRun) && o.RunID == 0 && o.Fallback != nil {
+		run, err = computeAllNow(ctx, db, *o.Fallback, series)
+	}
 	if err != nil {
 		return nil, err
 	}
-	if err := loadSummaries(ctx, db, run, series); err != nil {
-		return nil, err
+	if !run.Unstored {
+		if err := loadSummaries(ctx, db, run, series); err != nil {
+			return nil, err
+		}
 	}
 	for _, s := range series {
 		if s.Sum == nil {
@@ -118,6 +131,9 @@ func Write(ctx context.Context, db *sql.DB, o Options) (*Result, error) {
 		o.Now = time.Now()
 	}
 	footer := fmt.Sprintf("Written by %s on %s from the store's summarize run %d.", o.Tool, o.Now.UTC().Format("2006-01-02 15:04 UTC"), run.ID)
+	if run.Unstored {
+		footer = fmt.Sprintf("Written by %s on %s; figures computed now (no summarize run stored them).", o.Tool, o.Now.UTC().Format("2006-01-02 15:04 UTC"))
+	}
 	res := &Result{Dir: o.Dir, Run: run, Series: len(series), OnTheFly: run.SeriesComputedOnTheFly,
 		Info: map[int64]DrawInfo{}, Pages: map[int64]string{}}
 	put := func(name string, data []byte) error {
@@ -142,7 +158,7 @@ func Write(ctx context.Context, db *sql.DB, o Options) (*Result, error) {
 		}
 		rows = append(rows, row)
 	}
-	idx := &indexPage{Title: fmt.Sprintf("%d series", len(series)), RunText: runText(run), Params: runParams(run),
+	idx := &indexPage{Title: fmt.Sprintf("%d series", len(series)), RunText: runText(run), FDRFamily: fdrFamily(run), Params: runParams(run),
 		GroupBy: groupBy, MetaCols: metaCols, Rows: rows, Caution: Caution, Footer: footer, CSS: pageCSS, JS: sortJS}
 	if len(series) == 1 {
 		idx.Title = "1 series"
@@ -267,6 +283,9 @@ func autoMetaCols(series []*Series) []string {
 }
 
 func runText(r *Run) string {
+	if r.Unstored {
+		return "No summarize run holds these series: the figures were computed now with summarize's default parameters (below), with the FDR adjustment across the series of this report, and were not stored. Run trendsql summarize to store them and to choose the model (a seasonal cycle with --period 1y, for instance)."
+	}
 	t := fmt.Sprintf("Figures of summarize run %d (started %s, %s).", r.ID, r.StartedAt, r.ToolVersion)
 	if r.SeriesComputedOnTheFly > 0 {
 		t += fmt.Sprintf(" The run holds %d of the selected series; the figures of the other %d were computed now with the run's parameters and are not part of its FDR adjustment.", r.SeriesInRun, r.SeriesComputedOnTheFly)

@@ -81,7 +81,7 @@ func figureRows(s *Series, run *Run) []figRow {
 	}
 	add("rank trend test", rankWords(r.s("mk_method")), "")
 	add("p, rank trend test", pval(r.f("mk_p")), rankPNote(r.s("mk_method")))
-	add("q, FDR-adjusted", pval(r.f("trend_p_fdr")), fmt.Sprintf("Benjamini–Hochberg across the run's series; the trend flag uses q ≤ %g", run.Alpha))
+	add("q, FDR-adjusted", pval(r.f("trend_p_fdr")), fmt.Sprintf("Benjamini–Hochberg across %s; the trend flag uses q ≤ %g", fdrFamily(run), run.Alpha))
 	sen := "Sen slope"
 	if strings.HasPrefix(r.s("mk_method"), "censored") {
 		sen = "Akritas–Theil–Sen slope"
@@ -137,4 +137,12 @@ func stationRows(st *Station) []KV {
 	coord("longitude", st.Lon, "°")
 	coord("elevation", st.Elev, " m")
 	return append(rows, st.Meta...)
+}
+
+// fdrFamily names the series the FDR adjustment spans.
+func fdrFamily(run *Run) string {
+	if run.Unstored {
+		return "the series of this report"
+	}
+	return "the run's series"
 }

@@ -17,7 +17,7 @@ figcaption{font-size:.82rem;color:var(--soft);margin-top:.3rem}
 svg.chart{display:block;width:100%;height:auto}
 svg.chart text{font-family:"Liberation Sans",Arial,Helvetica,sans-serif !important}
 .pair{display:grid;grid-template-columns:1fr 1fr;gap:0 1rem}
-.maps{display:grid;grid-template-columns:repeat(auto-fill,minmax(440px,1fr));gap:0 1rem}
+.maps{display:grid;grid-template-columns:repeat(auto-fill,minmax(560px,1fr));gap:0 1rem}
 @media (max-width:800px){.pair{grid-template-columns:1fr}}
 table{border-collapse:collapse;font-variant-numeric:tabular-nums;font-size:.86rem;background:var(--card)}
 th,td{padding:.25rem .55rem;border-bottom:1px solid var(--rule);text-align:left;vertical-align:top}
