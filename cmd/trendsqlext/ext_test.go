@@ -487,6 +487,12 @@ var misuse = []string{
 	 SELECT t, trend_slope(t, y) OVER w, sen_slope(t, y) OVER w, regr_slope(y, t) OVER w, cross_corr(t, y, y, 1) OVER w,
 	        sample_acvf(t, y, 1, 'step=1d') OVER w
 	 FROM v WINDOW w AS (ORDER BY rowid ROWS BETWEEN 2 PRECEDING AND CURRENT ROW)`,
+	// rows with a NULL value mark slots of the inferred time grid (step 1 s
+	// here, not 2 s), also in a sliding frame
+	`WITH v(t, y) AS (VALUES (1, 1.0), (2, NULL), (3, 2.0), (4, NULL), (5, 3.0), (6, 2.5), (7, NULL), (8, 4.0))
+	 SELECT correlogram(t, y, 2), sample_acf(t, y, 2), ljung_box(t, y, 2), cross_correlogram(t, y, y, 1) FROM v`,
+	`WITH v(t, y) AS (VALUES (1, 1.0), (2, NULL), (3, 2.0), (4, NULL), (5, 3.0), (6, 2.5), (7, NULL), (8, 4.0))
+	 SELECT t, correlogram(t, y, 1) OVER (ORDER BY t ROWS BETWEEN 3 PRECEDING AND CURRENT ROW) FROM v`,
 	`WITH v(t, y) AS (VALUES (1, 1.0), (2, 2.0), (3, 'x'), (4, 4.0))
 	 SELECT trend_slope(t, y) OVER (ORDER BY t ROWS BETWEEN 1 PRECEDING AND 1 PRECEDING) FROM v`,
 	// censored values: refused by the functions without censoring support,
