@@ -175,7 +175,29 @@ func TestEPAExample14_10(t *testing.T) {
 	// sen_slope rank rule to the 36 within-month pairs with Var(S') = 43
 	// (this project's documented choice); the guidance's interval, if any,
 	// was not available and is not compared.
-	if num(t, sk, "lower") > 0.06 || num(t, sk, "upper") < 0.06 {
-		t.Errorf("interval %v..%v excludes the slope", sk["lower"], sk["upper"])
+	// The within-month slopes are written out here by brute force, in exact
+	// decimal arithmetic (same-month readings are whole years apart), and
+	// the rule gives C = 1.959964·√43, ranks round((36 − C)/2) = 12 and
+	// round((36 + C)/2) + 1 = 25 of the 36 sorted slopes.
+	var slopes []*big.Rat
+	for m := 0; m < 12; m++ {
+		for a := range years {
+			for b := a + 1; b < len(years); b++ {
+				s := exactPairSlopes([]float64{float64(a), float64(b)}, []float64{years[a][m], years[b][m]})
+				slopes = append(slopes, s[0])
+			}
+		}
+	}
+	slices.SortFunc(slopes, func(p, q *big.Rat) int { return p.Cmp(q) })
+	N := len(slopes)
+	c := 1.959963984540054 * math.Sqrt(43)
+	lo := min(max(int(math.RoundToEven((float64(N)-c)/2)), 1), N)
+	hi := min(max(int(math.RoundToEven((float64(N)+c)/2))+1, 1), N)
+	if N != 36 || lo != 12 || hi != 25 {
+		t.Fatalf("%d within-month slopes, ranks %d..%d; want 36, 12..25", N, lo, hi)
+	}
+	if !epaClose(num(t, sk, "lower"), ratF(slopes[lo-1]), 1e-9) || !epaClose(num(t, sk, "upper"), ratF(slopes[hi-1]), 1e-9) {
+		t.Errorf("interval %v..%v per year; the rule on the sorted within-month slopes gives %v..%v",
+			sk["lower"], sk["upper"], ratF(slopes[lo-1]), ratF(slopes[hi-1]))
 	}
 }
