@@ -109,6 +109,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 
 	"trendsql/sqlfuncs/stats"
 	"trendsql/sqlfuncs/timefmt"
@@ -317,6 +318,11 @@ func portmanteauValue(fn string, boxPierce, scalarP bool) func(r Rows, opts []dr
 		}
 		var fitdf int64
 		if len(opts) > 1 && opts[1] != nil {
+			if text, ok := opts[1].(string); ok && strings.Contains(text, "=") {
+				// Options such as the step= a grid error suggests go after fitdf.
+				return nil, fmt.Errorf("%s: argument fitdf must be a whole number, got %s; options go in the argument after fitdf: %s(t, y, %d, 0, '%s')",
+					fn, describe(text), fn, lags, strings.ReplaceAll(text, "'", "''"))
+			}
 			if fitdf, err = argInt(fn, "fitdf", opts[1], 0, maxLagArg); err != nil {
 				return nil, err
 			}
