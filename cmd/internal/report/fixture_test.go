@@ -96,14 +96,17 @@ func buildFixture(path string) error {
 		}
 	}
 	_, err = summaries.Run(ctx, s, summaries.Options{
-		Model: stats.SummaryOptions{PeriodS: secondsPerYear, Harmonics: 2, Seasons: 12, MaxLag: 24,
-			Alpha: 0.05, Confidence: 0.95, MinN: 10},
+		Model:       fixtureModel,
 		ToolVersion: "test", Analyze: stats.SummarizeSeries, WriteWait: time.Minute,
 	})
 	return err
 }
 
 // openDemo opens the shared store read-only.
+// fixtureModel is the summarize model of the fixture's run.
+var fixtureModel = stats.SummaryOptions{PeriodS: secondsPerYear, Harmonics: 2, Seasons: 12, MaxLag: 24,
+	Alpha: 0.05, Confidence: 0.95, MinN: 10}
+
 func openDemo(t *testing.T) *store.Store {
 	t.Helper()
 	s, err := store.Open(context.Background(), demoPath(t), store.Options{ReadOnly: true})

@@ -41,6 +41,8 @@ type Run struct {
 	Harmonics, Seasons     int
 	MaxLag, LBLags, MinN   int
 	Alpha, Confidence      float64
+	CensoredFits           bool
+	Since, Until           *int64 // the run's time window (nil: unbounded)
 	SeriesInRun            int
 	SeriesComputedOnTheFly int
 	// Unstored: no run holds the selection; every figure was computed now
@@ -266,6 +268,9 @@ func findRun(ctx context.Context, db *sql.DB, id int64, series []*Series) (*Run,
 		Alpha      float64 `json:"alpha"`
 		Confidence float64 `json:"confidence"`
 		MinN       int     `json:"min_n"`
+		Censored   bool    `json:"censored_fits"`
+		Since      *int64  `json:"since"`
+		Until      *int64  `json:"until"`
 	}
 	if err := json.Unmarshal([]byte(r.ParamsJSON), &p); err != nil {
 		return nil, fmt.Errorf("report: run %d: parameters: %w", id, err)
@@ -273,6 +278,7 @@ func findRun(ctx context.Context, db *sql.DB, id int64, series []*Series) (*Run,
 	r.PeriodS, r.Harmonics, r.Seasons = p.PeriodS, p.Harmonics, p.Seasons
 	r.MaxLag, r.LBLags, r.MinN = p.MaxLag, p.LBLags, p.MinN
 	r.Alpha, r.Confidence = p.Alpha, p.Confidence
+	r.CensoredFits, r.Since, r.Until = p.Censored, p.Since, p.Until
 	if r.Alpha <= 0 || r.Alpha >= 1 {
 		r.Alpha = 0.05
 	}

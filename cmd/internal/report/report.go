@@ -9,8 +9,10 @@
 // their style and a few lines of sorting script inline: nothing is loaded
 // from the network or from other files, so a report folder can be zipped
 // and mailed. Figures come from one summarize run; only what the run lacks
-// (residuals, fitted curves, and the figures of series the run did not
-// cover) is computed now, with the store's SQL functions.
+// is computed now: residuals and fitted curves with the store's SQL
+// functions, and the figures of series the run did not cover (or of every
+// series, when no run holds any) as summarize computes them
+// (summaries.Compute), without writing.
 package report
 
 import (
@@ -76,13 +78,22 @@ func Write(ctx context.Context, db *sql.DB, o Options) (*Result, error) {
 			return nil, err
 		}
 	}
+	var missing []*Series
 	for _, s := range series {
 		if s.Sum == nil {
-			if err := computeMissing(ctx, db, run, s); err != nil {
-				return nil, err
-			}
-			run.SeriesComputedOnTheFly++
+			missing = append(missing, s)
 		}
+	}
+	if len(missing) > 0 {
+		// With the run's parameters, outside its FDR adjustment.
+		n, err := computeNow(ctx, db, run.model(), run.Since, run.Until, missing, false)
+		if err != nil {
+			return nil, err
+		}
+		for _, s := range missing {
+			s.OnTheFly = s.Sum != nil
+		}
+		run.SeriesComputedOnTheFly = n
 	}
 	censor, err := censorColumn(ctx, db)
 	if err != nil {

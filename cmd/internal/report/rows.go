@@ -59,7 +59,10 @@ func figureRows(s *Series, run *Run) []figRow {
 	if cs := r.f("censored_share"); !math.IsNaN(cs) && cs > 0 {
 		note := ""
 		if k, ok := r.i("censoring_limits"); ok {
-			note = fmt.Sprintf("%d distinct reporting limits, the highest %s %s", k, num(r.f("highest_limit")), u)
+			note = fmt.Sprintf("%s, the highest %s %s", plural(int(k), "reporting limit", "distinct reporting limits"), num(r.f("highest_limit")), u)
+			if k == 1 {
+				note = fmt.Sprintf("one reporting limit, %s %s", num(r.f("highest_limit")), u)
+			}
 		}
 		add("censored readings", fmt.Sprintf("%.1f %%", 100*cs), note)
 	}
