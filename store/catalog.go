@@ -62,6 +62,40 @@ func Variables(ctx context.Context, q Querier) ([]string, error) {
 	return stringColumn(ctx, q, `SELECT DISTINCT variable FROM series ORDER BY variable`)
 }
 
+// SeriesRef is a stored series as a selection names it.
+type SeriesRef struct {
+	ID        int64
+	StationID string
+	Variable  string
+}
+
+// SeriesOf lists the series of the given stations (none: all), in station
+// and variable order.
+func SeriesOf(ctx context.Context, q Querier, stations []string) ([]SeriesRef, error) {
+	query := `SELECT id, station_id, variable FROM series`
+	args := make([]any, len(stations))
+	if len(stations) > 0 {
+		query += ` WHERE station_id IN (` + Placeholders(len(stations)) + `)`
+		for i, s := range stations {
+			args[i] = s
+		}
+	}
+	rows, err := q.QueryContext(ctx, query+` ORDER BY station_id, variable, id`, args...)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []SeriesRef
+	for rows.Next() {
+		var r SeriesRef
+		if err := rows.Scan(&r.ID, &r.StationID, &r.Variable); err != nil {
+			return nil, err
+		}
+		out = append(out, r)
+	}
+	return out, rows.Err()
+}
+
 func stringColumn(ctx context.Context, q Querier, query string) ([]string, error) {
 	rows, err := q.QueryContext(ctx, query)
 	if err != nil {

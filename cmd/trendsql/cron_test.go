@@ -56,6 +56,17 @@ func TestReadmeCronRecipe(t *testing.T) {
 		t.Errorf("mistyped store printed %q, want the failure line", out)
 	}
 	log, _ := os.ReadFile(logFile)
+	// The message the README quotes for the mistyped station is the one
+	// the log holds.
+	quoted := strings.Join(strings.Fields(string(raw)), " ")
+	start := strings.Index(quoted, "`--station VOR-W99: no such station")
+	end := strings.Index(quoted[max(start, 0):], ")`")
+	if start < 0 || end < 0 {
+		t.Fatal("README.md no longer quotes the message for --station VOR-W99")
+	}
+	if msg := quoted[start+1 : start+end+1]; !strings.Contains(string(log), msg) {
+		t.Errorf("README quotes %q; the log says:\n%s", msg, log)
+	}
 	for _, want := range []string{"summarize run", "nothing to do", "no such station (closest: VOR-W09", "no store at this path"} {
 		if !strings.Contains(string(log), want) {
 			t.Errorf("log lacks %q:\n%s", want, log)

@@ -64,13 +64,42 @@ func TestSummarizeUnknownSelectionIsUsageError(t *testing.T) {
 	if strings.Count(errs, "\n") != 1 {
 		t.Errorf("want one line, got %q", errs)
 	}
-	// Known names that match nothing together stay "nothing to do".
+	// Known names that hold no series together are a typo too: the message
+	// says what the station measures (the demo's gauge VOR-G01 has stage only).
 	_, errs, code = runIn("", "--db", db, "summarize", "--variable", "nitrate_n", "--station", "VOR-G01")
-	if code != ExitNothing || !strings.Contains(errs, "no series match") {
+	if code != ExitUsage || !strings.Contains(errs, "--station VOR-G01 --variable nitrate_n: no such series (VOR-G01 measures stage)") {
 		t.Errorf("known names, no series: exit %d, stderr %q", code, errs)
+	}
+	// A --where that matches nothing stays "nothing to do".
+	_, errs, code = runIn("", "--db", db, "summarize", "--station", "VOR-G01", "--where", "st.id = 'VOR-G02'")
+	if code != ExitNothing || !strings.Contains(errs, "no series match") {
+		t.Errorf("--where matching nothing: exit %d, stderr %q", code, errs)
 	}
 	if n := queryInt(t, readOnly(t, db), `SELECT count(*) FROM summary_runs`); n != 0 {
 		t.Errorf("refused selections recorded %d runs", n)
+	}
+}
+
+func TestReportUnknownSelectionIsUsageError(t *testing.T) {
+	db := demoCopy(t)
+	dir := filepath.Join(t.TempDir(), "rep")
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"--station", "VOR-W99"}, "report: --station VOR-W99: no such station (closest: VOR-W09"},
+		{[]string{"--variable", "stag"}, "report: --variable stag: no such variable (closest: stage)"},
+		// The demo store has 49 series with ids 1 to 49 (its tour says 49 series).
+		{[]string{"--series", "9999"}, "report: --series 9999: no such series (the store's 49 series have ids 1 to 49"},
+		{[]string{"--station", "VOR-G01", "--variable", "nitrate_n"}, "no such series (VOR-G01 measures stage)"},
+	} {
+		_, errs, code := runIn("", append([]string{"--db", db, "report", "--out", dir}, c.args...)...)
+		if code != ExitUsage || !strings.Contains(errs, c.want) {
+			t.Errorf("report %v: exit %d, stderr %q; want exit 2 and %q", c.args, code, errs, c.want)
+		}
+	}
+	if _, err := os.Stat(dir); err == nil {
+		t.Errorf("a refused report created %s", dir)
 	}
 }
 

@@ -90,6 +90,9 @@ func runReport(ctx context.Context, e *env, o reportOptions) error {
 		return err
 	}
 	defer s.Close()
+	if err := checkSelection(ctx, s.DB, "report", selection{stations: o.stations, variables: o.variables, series: opts.SeriesIDs}); err != nil {
+		return err
+	}
 	began := time.Now()
 	res, err := report.Write(ctx, s.DB, opts)
 	var de *report.DirError

@@ -1,8 +1,14 @@
 package main
 
 import (
+	"context"
+	"fmt"
+	"slices"
 	"sort"
+	"strconv"
 	"strings"
+
+	"trendsql/store"
 )
 
 // closest returns up to n of known nearest to name by edit distance
@@ -81,4 +87,134 @@ func unknownNames(flag, what string, names, known []string) []string {
 		msgs = append(msgs, msg)
 	}
 	return msgs
+}
+
+// selection is a choice of series by station ids, variables and series ids
+// (summarize and report; the flags are ANDed, an empty one selects all).
+type selection struct {
+	stations  []string
+	variables []string
+	series    []int64
+}
+
+// checkSelection refuses (exit code 2) a --station, --variable or --series
+// that names nothing in the store, and a combination of them that selects
+// no series (a station that does not measure the variable), so a typo in a
+// scheduled job is not taken for "nothing to do". The message offers the
+// closest known names, or what the selected stations do measure. --where
+// is not checked here: a condition that matches nothing is "nothing to do".
+func checkSelection(ctx context.Context, q store.Querier, cmd string, sel selection) error {
+	if len(sel.stations) == 0 && len(sel.variables) == 0 && len(sel.series) == 0 {
+		return nil
+	}
+	var msgs []string
+	if len(sel.stations) > 0 {
+		ids, err := store.StationIDs(ctx, q)
+		if err != nil {
+			return err
+		}
+		msgs = append(msgs, unknownNames("--station", "station", sel.stations, ids)...)
+	}
+	if len(sel.variables) > 0 {
+		vars, err := store.Variables(ctx, q)
+		if err != nil {
+			return err
+		}
+		msgs = append(msgs, unknownNames("--variable", "variable", sel.variables, vars)...)
+	}
+	all, err := store.SeriesOf(ctx, q, nil)
+	if err != nil {
+		return err
+	}
+	if len(sel.series) > 0 {
+		known := make(map[int64]bool, len(all))
+		for _, r := range all {
+			known[r.ID] = true
+		}
+		for _, id := range sel.series {
+			if !known[id] {
+				msgs = append(msgs, fmt.Sprintf("--series %d: no such series (%s)", id, seriesIDRange(all)))
+			}
+		}
+	}
+	if len(msgs) > 0 {
+		return usageErr("%s: %s", cmd, strings.Join(msgs, "; "))
+	}
+	for _, r := range all {
+		if (len(sel.stations) == 0 || slices.Contains(sel.stations, r.StationID)) &&
+			(len(sel.variables) == 0 || slices.Contains(sel.variables, r.Variable)) &&
+			(len(sel.series) == 0 || slices.Contains(sel.series, r.ID)) {
+			return nil
+		}
+	}
+	return usageErr("%s: %s", cmd, noSeriesMessage(all, sel))
+}
+
+// noSeriesMessage words a selection of known names that holds no series
+// together, e.g. "--station VOR-G01 --variable nitrate_n: no such series
+// (VOR-G01 measures stage)".
+func noSeriesMessage(all []store.SeriesRef, sel selection) string {
+	var flags []string
+	if len(sel.stations) > 0 {
+		flags = append(flags, "--station "+strings.Join(sel.stations, ","))
+	}
+	if len(sel.variables) > 0 {
+		flags = append(flags, "--variable "+strings.Join(sel.variables, ","))
+	}
+	if len(sel.series) > 0 {
+		ids := make([]string, len(sel.series))
+		for i, id := range sel.series {
+			ids[i] = strconv.FormatInt(id, 10)
+		}
+		flags = append(flags, "--series "+strings.Join(ids, ","))
+	}
+	var what []string
+	switch {
+	case len(sel.stations) > 0:
+		for _, st := range sel.stations[:min(len(sel.stations), 5)] {
+			var vars []string
+			for _, r := range all {
+				if r.StationID == st && !slices.Contains(vars, r.Variable) {
+					vars = append(vars, r.Variable)
+				}
+			}
+			if len(vars) == 0 {
+				what = append(what, st+" has no readings yet")
+			} else {
+				what = append(what, st+" measures "+strings.Join(vars, ", "))
+			}
+		}
+		if len(sel.stations) > 5 {
+			what = append(what, "…")
+		}
+	case len(sel.series) > 0:
+		for _, id := range sel.series[:min(len(sel.series), 5)] {
+			for _, r := range all {
+				if r.ID == id {
+					what = append(what, fmt.Sprintf("series %d is %s %s", id, r.StationID, r.Variable))
+				}
+			}
+		}
+		if len(sel.series) > 5 {
+			what = append(what, "…")
+		}
+	}
+	msg := strings.Join(flags, " ") + ": no such series"
+	if len(what) > 0 {
+		msg += " (" + strings.Join(what, "; ") + ")"
+	}
+	return msg
+}
+
+// seriesIDRange words the series ids a store holds, for a message about an
+// unknown one.
+func seriesIDRange(all []store.SeriesRef) string {
+	if len(all) == 0 {
+		return "the store has none"
+	}
+	lo, hi := all[0].ID, all[0].ID
+	for _, r := range all {
+		lo, hi = min(lo, r.ID), max(hi, r.ID)
+	}
+	return fmt.Sprintf("the store's %s have ids %d to %d; see the series table", plural(len(all), "series", "series"), lo, hi)
 }

@@ -5,7 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"os"
-	"strings"
 	"time"
 
 	"github.com/schollz/progressbar/v3"
@@ -14,7 +13,6 @@ import (
 
 	"trendsql/sqlfuncs/stats"
 	"trendsql/sqlfuncs/timefmt"
-	"trendsql/store"
 	"trendsql/store/summaries"
 )
 
@@ -63,8 +61,10 @@ that adjustment with their stored p-values.
 
 Exit codes: 0 run stored; 1 run failed (recorded as failed), or no store
 at --db; 2 usage error, including a --station or --variable the store does
-not know (the message names the closest known ones); 3 nothing to do
-(e.g. --changed-only found no changes) or another run or writer held the
+not know (the message names the closest known ones) and stations and
+variables that hold no series together (it names what the stations
+measure); 3 nothing to do (e.g. --changed-only found no changes, or --where
+matches no series) or another run or writer held the
 store for longer than --wait (default 10s; --wait 0 does not wait).`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error { return runSummarize(cmd.Context(), e, o) },
@@ -159,7 +159,7 @@ func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {
 		return err
 	}
 	defer s.Close()
-	if err := checkSelection(ctx, s, o); err != nil {
+	if err := checkSelection(ctx, s.DB, "summarize", selection{stations: o.stations, variables: o.variables}); err != nil {
 		return err
 	}
 
@@ -210,29 +210,4 @@ func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {
 func isTerminalWriter(w any) bool {
 	f, ok := w.(*os.File)
 	return ok && term.IsTerminal(int(f.Fd()))
-}
-
-// checkSelection refuses (exit code 2) a --station or --variable that names
-// nothing in the store, so a typo in a scheduled job is not taken for
-// "nothing to do"; the message offers the closest known names.
-func checkSelection(ctx context.Context, s *store.Store, o summarizeOptions) error {
-	var msgs []string
-	if len(o.stations) > 0 {
-		ids, err := store.StationIDs(ctx, s.DB)
-		if err != nil {
-			return err
-		}
-		msgs = append(msgs, unknownNames("--station", "station", o.stations, ids)...)
-	}
-	if len(o.variables) > 0 {
-		vars, err := store.Variables(ctx, s.DB)
-		if err != nil {
-			return err
-		}
-		msgs = append(msgs, unknownNames("--variable", "variable", o.variables, vars)...)
-	}
-	if len(msgs) > 0 {
-		return usageErr("summarize: %s", strings.Join(msgs, "; "))
-	}
-	return nil
 }
