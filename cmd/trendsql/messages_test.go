@@ -155,4 +155,12 @@ func TestVersionFlag(t *testing.T) {
 	if code != 0 || code2 != 0 || byFlag != byCmd || !strings.HasPrefix(byFlag, "trendsql ") {
 		t.Errorf("--version %q (exit %d), version %q (exit %d)", byFlag, code, byCmd, code2)
 	}
+	// The help lists --version as a flag without a value (pflag reads a
+	// back-quoted word in the usage text as the value's name).
+	help, _, _ := runIn("", "--help")
+	for _, line := range strings.Split(help, "\n") {
+		if f := strings.Fields(line); len(f) > 1 && f[0] == "--version" && f[1] != "print" {
+			t.Errorf("help shows --version taking a value: %q", line)
+		}
+	}
 }

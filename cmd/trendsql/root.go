@@ -148,7 +148,7 @@ review govern decisions about water supply and flood risk.`,
 	// --version prints what the version command prints.
 	root.Version = versionString()
 	root.SetVersionTemplate(versionLine() + "\n")
-	root.Flags().Bool("version", false, "print the trendsql version (as `trendsql version`)")
+	root.Flags().Bool("version", false, "print the trendsql version (as the version command does)")
 	root.PersistentFlags().StringVar(&e.dbFlag, "db", "", "store path (default $"+store.EnvDB+", else ./"+store.DefaultPath+")")
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		if c.HasParent() {
