@@ -118,8 +118,7 @@ func writeCSV(w io.Writer, cols []string, vals []any, next func() (bool, error))
 func writeJSON(w io.Writer, cols []string, vals []any, next func() (bool, error), nest bool) (int, error) {
 	keys := make([]string, len(cols))
 	for i, c := range cols {
-		k, _ := json.Marshal(c)
-		keys[i] = string(k)
+		keys[i] = jsonString(c)
 	}
 	var b strings.Builder
 	b.WriteString("[")
@@ -414,8 +413,7 @@ func jsonValue(v any, nest bool) string {
 	case int64:
 		return strconv.FormatInt(x, 10)
 	case []byte:
-		b, _ := json.Marshal(fmt.Sprintf("%x", x))
-		return string(b)
+		return jsonString(fmt.Sprintf("%x", x))
 	case string:
 		if nest {
 			if t := strings.TrimSpace(x); (strings.HasPrefix(t, "{") || strings.HasPrefix(t, "[")) && json.Valid([]byte(t)) {
@@ -425,10 +423,19 @@ func jsonValue(v any, nest bool) string {
 				}
 			}
 		}
-		b, _ := json.Marshal(x)
-		return string(b)
+		return jsonString(x)
 	default:
-		b, _ := json.Marshal(fmt.Sprint(x))
-		return string(b)
+		return jsonString(fmt.Sprint(x))
 	}
+}
+
+// jsonString quotes s as a JSON string. Unlike json.Marshal it leaves <, >
+// and & as they are (the escapes \u003c… are for JSON embedded in HTML), so
+// a censored value reads "<5" in json output as in the other formats.
+func jsonString(s string) string {
+	var b bytes.Buffer
+	enc := json.NewEncoder(&b)
+	enc.SetEscapeHTML(false)
+	enc.Encode(s) // a string always encodes
+	return strings.TrimSuffix(b.String(), "\n")
 }

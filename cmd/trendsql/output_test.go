@@ -92,6 +92,26 @@ func TestJSONNestsFunctionResults(t *testing.T) {
 	if got[0]["fit"] != `{"slope": 1.5, "n": 3}` {
 		t.Errorf("without --nest-json the result stays a string: %v", got[0])
 	}
+	// A censored value reads as reported ('<5', as readings_view shows it),
+	// not with the \u003c escape meant for JSON inside HTML; the text still
+	// decodes to the same string (RFC 8259 needs only quote, backslash and
+	// control characters escaped).
+	b.Reset()
+	writeRows(&b, &memRows{cols: []string{"value <&>"}, rows: [][]any{{"<5"}, {"a & b > c"}}}, outputOptions{format: FormatJSON})
+	if want := "[\n  {\"value <&>\": \"<5\"},\n  {\"value <&>\": \"a & b > c\"}\n]\n"; b.String() != want {
+		t.Errorf("json %q, want %q", b.String(), want)
+	}
+	got = nil
+	if err := json.Unmarshal(b.Bytes(), &got); err != nil || got[0]["value <&>"] != "<5" || got[1]["value <&>"] != "a & b > c" {
+		t.Errorf("decoded %v, %v", got, err)
+	}
+	// --nest-json outside json output is a usage error, not silently ignored.
+	if _, errs, code := runIn("", "functions", "--nest-json"); code != ExitUsage || !strings.Contains(errs, "--nest-json applies to json output") {
+		t.Errorf("--nest-json with a table: exit %d, %q", code, errs)
+	}
+	if _, errs, code := runIn("", "functions", "--nest-json", "--out", filepath.Join(t.TempDir(), "f.json"), "pettitt"); code != 0 {
+		t.Errorf("--nest-json with --out FILE.json: exit %d, %q", code, errs)
+	}
 }
 
 func TestQueryFromFileStdinAndToFile(t *testing.T) {

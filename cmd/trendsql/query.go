@@ -26,7 +26,7 @@ func addResultFlags(c *cobra.Command, r *resultFlags) {
 	c.Flags().StringVar(&r.format, "format", FormatTable, "output format: "+formatNames+" (one field per line, for wide rows)")
 	c.Flags().StringVar(&r.out, "out", "", "write the results to this file instead of standard output; the format follows --format, else the extension (.csv, .json, .txt)")
 	c.Flags().BoolVar(&r.force, "force", false, "replace an existing --out file")
-	c.Flags().BoolVar(&r.nestJSON, "nest-json", false, "in json output, put the JSON results of trendsql's functions in as JSON objects rather than strings")
+	c.Flags().BoolVar(&r.nestJSON, "nest-json", false, "in json output, put the JSON results of trendsql's functions (any text holding a JSON object or array) in as JSON rather than strings")
 }
 
 // resolve checks the flags and returns the output options and the writer
@@ -43,6 +43,9 @@ func (r resultFlags) resolve(cmdName string, e *env) (outputOptions, io.Writer, 
 	}
 	if !validFormat(format) {
 		return outputOptions{}, nil, noop, usageErr("%s: --format must be %s, got %q", cmdName, formatNames, format)
+	}
+	if r.nestJSON && format != FormatJSON {
+		return outputOptions{}, nil, noop, usageErr("%s: --nest-json applies to json output (--format json, or --out FILE.json)", cmdName)
 	}
 	if r.force && r.out == "" {
 		return outputOptions{}, nil, noop, usageErr("%s: --force only applies with --out", cmdName)
