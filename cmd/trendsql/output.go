@@ -287,7 +287,9 @@ func drawTable(w io.Writer, cols []string, rows [][]string, numeric []bool) {
 func (t *table) start(rows [][]string) {
 	t.width = make([]int, len(t.cols))
 	for i, c := range t.cols {
-		t.width[i] = utf8.RuneCountInString(c)
+		// At least one character, so a later longer cell can be cut to
+		// the mark.
+		t.width[i] = max(1, utf8.RuneCountInString(c))
 	}
 	for _, r := range rows {
 		for i, c := range r {

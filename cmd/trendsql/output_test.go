@@ -59,6 +59,22 @@ func TestTableFitsTerminalAndMarksCuts(t *testing.T) {
 	if !strings.HasSuffix(b.String(), "→ no rows\n") {
 		t.Errorf("empty result footer: %q", b.String())
 	}
+
+	// A column whose name and first tableBuffer cells are empty text, and a
+	// longer cell after them on a terminal: the cell is cut to the column,
+	// which is at least one character wide, and marked.
+	empty := &memRows{cols: []string{""}}
+	for range tableBuffer {
+		empty.rows = append(empty.rows, []any{""})
+	}
+	empty.rows = append(empty.rows, []any{"late and long"})
+	b.Reset()
+	if n, err := writeRows(&b, empty, outputOptions{format: FormatTable, width: 40}); err != nil || n != tableBuffer+1 {
+		t.Fatalf("writeRows: %d rows, %v", n, err)
+	}
+	if !strings.Contains(b.String(), "\n"+cutMark+"\n") {
+		t.Errorf("the late cell is not cut to one marked character: %q", b.String()[b.Len()-200:])
+	}
 }
 
 func TestFieldsLayout(t *testing.T) {
