@@ -241,8 +241,14 @@ SELECT 1`
 			t.Errorf("tie error: exit %d, stderr %q lacks %q", code, errs, want)
 		}
 	}
+	// The readings table holds every series too.
 	_, errs, _ = runIn("", "--db", db, "query", "SELECT trend_slope(r.t, r.value) FROM readings r")
+	if !strings.Contains(errs, "the rows come from readings, which holds every series") || !strings.Contains(errs, "2015-01-13T08:51:00Z") {
+		t.Errorf("tie in the readings table: %q", errs)
+	}
+	// Rows of the user's own making get the time but no word about series.
+	_, errs, _ = runIn("", "--db", db, "query", "SELECT trend_slope(t, y) FROM (SELECT 1421139060 AS t, 1 AS y UNION ALL SELECT 1421139060, 2 UNION ALL SELECT 1421142660, 3)")
 	if strings.Contains(errs, "different series") || !strings.Contains(errs, "2015-01-13T08:51:00Z") {
-		t.Errorf("tie outside readings_view: %q", errs)
+		t.Errorf("tie outside the store's readings: %q", errs)
 	}
 }

@@ -146,8 +146,10 @@ func sqlError(ctx context.Context, conn *sql.Conn, all string, st statement, err
 	if strings.Contains(msg, "attempt to write a readonly database") {
 		msg += readOnlyHint
 	}
-	if strings.Contains(msg, "have the same time") && multiSeriesViewRE.MatchString(st.text) {
-		msg += multiSeriesHint
+	if strings.Contains(msg, "have the same time") {
+		if m := multiSeriesViewRE.FindStringSubmatch(st.text); m != nil {
+			msg += fmt.Sprintf(multiSeriesHint, strings.ToLower(m[1]))
+		}
 	}
 	if m := nearRE.FindStringSubmatch(msg); m != nil && m[1] != "" && conn != nil {
 		if k, ok := syntaxErrorAt(ctx, conn, st.text, m[1]); ok {
@@ -199,10 +201,10 @@ const guardHint = ` (refused by trendsql: without --write the store allows no AT
 // readOnlyHint explains a write refused because the store is open read-only.
 const readOnlyHint = " (the store is open read-only: add --write to change it)"
 
-// multiSeriesViewRE finds the store's view that holds the readings of
-// every series.
-var multiSeriesViewRE = regexp.MustCompile(`(?i)\breadings_view\b`)
+// multiSeriesViewRE finds the store's view and table that hold the readings
+// of every series.
+var multiSeriesViewRE = regexp.MustCompile(`(?i)\b(readings_view|readings)\b`)
 
-// multiSeriesHint explains a tie in times when the rows came from a view of
-// several series.
-const multiSeriesHint = "; the rows come from readings_view, which holds every series, so the two rows may belong to different series: group by series (GROUP BY series_id, or PARTITION BY series_id in a window)"
+// multiSeriesHint explains a tie in times when the rows came from the view
+// or table of every series (named by %s).
+const multiSeriesHint = "; the rows come from %s, which holds every series, so the two rows may belong to different series: group by series (GROUP BY series_id, or PARTITION BY series_id in a window)"
