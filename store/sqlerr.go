@@ -2,6 +2,8 @@ package store
 
 import (
 	"errors"
+	"fmt"
+	"strings"
 
 	"modernc.org/sqlite"
 	sqlite3 "modernc.org/sqlite/lib"
@@ -40,4 +42,23 @@ func sqliteMessage(err error) string {
 		return se.Error()
 	}
 	return err.Error()
+}
+
+// UserMessage is err's text for a person: when err is from SQLite, without
+// the result code the driver appends in parentheses ("(1)") and without the
+// generic text of the code that heads a specific message ("SQL logic error:
+// " before every error of code 1, "constraint failed: " before the
+// constraint that failed), so a function's own message reads as written.
+func UserMessage(err error) string {
+	msg := err.Error()
+	var se *sqlite.Error
+	if !errors.As(err, &se) {
+		return msg
+	}
+	own := se.Error()
+	plain := strings.TrimSuffix(own, fmt.Sprintf(" (%d)", se.Code()))
+	for _, generic := range []string{"SQL logic error: ", "constraint failed: "} {
+		plain = strings.TrimPrefix(plain, generic)
+	}
+	return strings.Replace(msg, own, plain, 1)
 }

@@ -102,7 +102,7 @@ func wordSummarizeError(err error, wait time.Duration) error {
 	case errors.Is(err, summaries.ErrBusy):
 		return withHint(err, fmt.Sprintf(" and did not finish within --wait %s (a longer --wait waits for it)", wait))
 	case errors.As(err, &sel):
-		return &worded{msg: "summarize: select series (check --where): " + sel.Err.Error(), err: err}
+		return &worded{msg: "summarize: select series (check --where): " + store.UserMessage(sel.Err), err: err}
 	}
 	return err
 }

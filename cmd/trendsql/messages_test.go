@@ -164,3 +164,34 @@ func TestVersionFlag(t *testing.T) {
 		}
 	}
 }
+
+func TestSQLErrorsReadAsWritten(t *testing.T) {
+	db := filepath.Join(t.TempDir(), "e.db")
+	initStore(t, db)
+	if _, errs, code := runIn("", "--db", db, "query", "--write", "INSERT INTO stations(id) VALUES ('S1')"); code != 0 {
+		t.Fatal(errs)
+	}
+	// SQLite's result code in parentheses and the generic text of the code
+	// ("SQL logic error", "constraint failed") are the driver's framing,
+	// not part of the message; the message itself keeps its own parentheses.
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"query", "SELECT trend_slope(1)"}, "trendsql: SQL error: trend_slope: wrong number of arguments (1); usage: trend_slope(t, y)\n"},
+		{[]string{"query", "SELECT * FROM no_such_table"}, "trendsql: SQL error: no such table: no_such_table\n"},
+		{[]string{"query", "--write", "INSERT INTO stations(id) VALUES ('S1')"}, "trendsql: SQL error: UNIQUE constraint failed: stations.id\n"},
+		{[]string{"query", "INSERT INTO stations(id) VALUES ('S2')"}, "trendsql: SQL error: attempt to write a readonly database (the store is open read-only: add --write to change it)\n"},
+		{[]string{"query", "SELEC 1"}, "trendsql: SQL error at line 1, column 1: near \"SELEC\": syntax error\n"},
+		{[]string{"summarize", "--where", "st.no_such = 1"}, "trendsql: summarize: select series (check --where): no such column: st.no_such\n"},
+		{[]string{"report", "--out", filepath.Join(t.TempDir(), "r"), "--where", "st.no_such = 1"}, "trendsql: report: selecting series: no such column: st.no_such\n"},
+	} {
+		if _, errs, code := runIn("", append([]string{"--db", db}, c.args...)...); code != ExitFailed || errs != c.want {
+			t.Errorf("%v: exit %d, stderr %q; want %q", c.args, code, errs, c.want)
+		}
+	}
+	_, errs, _ := runIn("SELECT trend_slope(1);\n", "--db", db, "shell")
+	if !strings.Contains(errs, "SQL error: trend_slope: wrong number of arguments (1); usage: trend_slope(t, y)\n") {
+		t.Errorf("shell: %q", errs)
+	}
+}

@@ -10,6 +10,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"trendsql/cmd/internal/report"
+	"trendsql/store"
 )
 
 type reportOptions struct {
@@ -109,7 +110,7 @@ func runReport(ctx context.Context, e *env, o reportOptions) error {
 		}
 		return &exitError{code: ExitNothing, err: fmt.Errorf("report: %w; run `trendsql summarize` first", err)}
 	case err != nil:
-		return err
+		return &worded{msg: store.UserMessage(err), err: err}
 	}
 	if res.Run.Unstored {
 		fmt.Fprintf(e.errw, "report %s: %d series, figures computed now with summarize's defaults (no summarize run holds them; `trendsql summarize` stores them)", res.Dir, res.Series)

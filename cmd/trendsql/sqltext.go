@@ -139,7 +139,7 @@ var nearRE = regexp.MustCompile(`near "([^"]*)": syntax error`)
 // one, to a statement's error. conn (may be nil) is the connection the
 // statement failed on; it locates the token (see syntaxErrorAt).
 func sqlError(ctx context.Context, conn *sql.Conn, all string, st statement, err error) error {
-	msg := err.Error()
+	msg := store.UserMessage(err)
 	if store.IsNotAuthorized(err) {
 		msg += guardHint
 	}
