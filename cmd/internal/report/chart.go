@@ -54,6 +54,7 @@ var (
 	ColUp       = tolRed    // map/slope symbol: increase
 	ColDown     = tolBlue   // map/slope symbol: decrease
 	ColNone     = tolGrey   // no estimate
+	ColLeader   = tolGrey   // map: line from a symbol to its id set further out
 )
 
 // hexColor is the colour as the SVG back end writes it.
@@ -107,6 +108,7 @@ func (m axisMap) attr() string { return fmt.Sprintf("%.12g %.12g %.12g %.12g", m
 type Figure struct {
 	Name    string // short name, also the PNG file suffix
 	Caption string
+	Note    string // said after the caption (e.g. what a chart leaves out)
 	SVG     string // <svg> element, ready to inline
 	PNG     []byte
 	XMap    axisMap

@@ -5,7 +5,7 @@ import (
 	"sort"
 
 	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 )
@@ -91,25 +91,20 @@ func mapFigure(variable string, series, all []*Series, png bool) (*Figure, error
 	p := newPlot("Stations: "+variable, "longitude (°)", "latitude (°)")
 	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = lo0, lo1, la0, la1
 	p.X.Tick.Marker, p.Y.Tick.Marker = plainTicks{}, plainTicks{}
-	var labels plotter.XYLabels
+	labels := &stationLabels{r: vg.Points(4.5), legend: &p.Legend,
+		leader: draw.LineStyle{Color: ColLeader, Width: vg.Points(0.4)}}
+	labels.style = text.Style{Font: fontBody, Color: inkSoft, Handler: plot.DefaultTextHandler}
+	labels.style.Font.Size = 6
 	for _, s := range series {
 		if math.IsNaN(s.Station.Lat) || math.IsNaN(s.Station.Lon) {
 			continue
 		}
 		m, c := markFor(slopeOf(s), significant(s))
 		p.Add(&points{pts: []xy{{s.Station.Lon, s.Station.Lat}}, glyph: draw.GlyphStyle{Color: c, Radius: vg.Points(4.5), Shape: m}})
-		labels.XYs = append(labels.XYs, plotter.XY{X: s.Station.Lon, Y: s.Station.Lat})
-		labels.Labels = append(labels.Labels, s.Station.ID)
+		labels.pts = append(labels.pts, xy{s.Station.Lon, s.Station.Lat})
+		labels.ids = append(labels.ids, s.Station.ID)
 	}
-	if lb, err := plotter.NewLabels(labels); err == nil {
-		for i := range lb.TextStyle {
-			lb.TextStyle[i].Font = fontBody
-			lb.TextStyle[i].Font.Size = 6
-			lb.TextStyle[i].Color = inkSoft
-		}
-		lb.Offset = vg.Point{X: 6, Y: -2}
-		p.Add(lb)
-	}
+	p.Add(labels)
 	p.Legend.Left = false
 	p.Legend.XOffs = -6
 	p.Legend.Padding = 3
@@ -118,7 +113,11 @@ func mapFigure(variable string, series, all []*Series, png bool) (*Figure, error
 	// of axes and title outside it).
 	aspect := (la1 - la0) / ((lo1 - lo0) * k)
 	h := vg.Length(math.Min(560, math.Max(220, (mapW-50)*aspect+60)))
-	return render(p, "map-"+slug(variable), "map of the stations measuring "+variable+" with trend symbols", mapW, h, png)
+	f, err := render(p, "map-"+slug(variable), "map of the stations measuring "+variable+" with trend symbols", mapW, h, png)
+	if f != nil && labels.Omitted > 0 {
+		f.Note = plural(labels.Omitted, "station id", "station ids") + " left out where there was no room beside the symbol (the table lists every station)."
+	}
+	return f, err
 }
 
 func anyCoords(series []*Series) bool {

@@ -187,7 +187,11 @@ func Write(ctx context.Context, db *sql.DB, o Options) (*Result, error) {
 		if err != nil {
 			return nil, err
 		}
-		idx.Maps = append(idx.Maps, view(f, "fig-"+f.Name, plural(len(v.series), "series", "series")+" of "+v.name+".", png))
+		caption := plural(len(v.series), "series", "series") + " of " + v.name + "."
+		if f.Note != "" {
+			caption += " " + f.Note
+		}
+		idx.Maps = append(idx.Maps, view(f, "fig-"+f.Name, caption, png))
 	}
 	if groupBy != "" {
 		for _, v := range variables {
