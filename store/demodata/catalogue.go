@@ -18,6 +18,8 @@ const (
 	yearSec = timefmt.SecondsPerYear
 	// daysPerYear is the length of the year in days (365.25).
 	daysPerYear = yearSec / daySec
+	// hoursPerYear is the length of the year in hours (8766).
+	hoursPerYear = yearSec / hourSec
 )
 
 // Qualifier texts used by the demo, stored verbatim like a source's flags.

@@ -104,7 +104,7 @@ func (s *demoStation) trendAt(t, start int64) float64 {
 func (g *generator) hourly() demoSeries {
 	s := g.st
 	start, n := g.span(hourSec)
-	gaps := g.gapMask(n, 8766, 0.6, 3, 24*45)
+	gaps := g.gapMask(n, hoursPerYear, 0.6, 3, 24*45)
 	if s.id == "VOR-G06" { // the gauge washed out in a flood and was rebuilt
 		k := n / 3
 		for i := k; i < k+24*150 && i < n; i++ {
@@ -144,7 +144,7 @@ func (g *generator) hourly() demoSeries {
 		ar = s.phi*ar + sdE*g.norm()
 		// Storms are twice as likely in the wet half of the year.
 		wet := 1 + math.Cos(2*math.Pi*(yearFrac(t)-s.peakDOY/daysPerYear))
-		if g.rng.Float64() < s.events/8766*wet {
+		if g.rng.Float64() < s.events/hoursPerYear*wet {
 			pending += s.eventSize * g.rng.ExpFloat64()
 		}
 		in := pending / rise

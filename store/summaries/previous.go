@@ -12,7 +12,7 @@ import (
 // ParameterChange is one model parameter whose value differs from the
 // previous successful run on the same selection. Key is the parameter's key
 // in summary_runs.parameters; Previous and Current are its values (nil when
-// unset: no --since, no period...).
+// unset: no Since, no seasonal period...).
 type ParameterChange struct {
 	Key               string
 	Previous, Current any
