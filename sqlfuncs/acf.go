@@ -382,8 +382,8 @@ func init() {
 		compute: correlogramValue,
 	})
 	for _, d := range []struct {
-		name, summary string
-		bp, p         bool
+		name, summary      string
+		boxPierce, scalarP bool
 	}{
 		{"ljung_box", "JSON {q, df, p, n}: Ljung–Box Q = n(n+2)Σρ̂(k)²/(n−k) over lags 1..lags, p from χ²(lags − fitdf)", false, false},
 		{"box_pierce", "JSON {q, df, p, n}: Box–Pierce Q = nΣρ̂(k)² over lags 1..lags, p from χ²(lags − fitdf)", true, false},
@@ -393,7 +393,7 @@ func init() {
 		defineSeries(seriesSpec{
 			doc:      Doc{Name: d.name, Signature: d.name + "(t, y, lags [, fitdf [, 'step=<duration>, detrend=linear']])", Kind: Aggregate, Summary: d.summary},
 			argNames: []string{"t", "y", "lags", "fitdf", "options"}, values: 1, minOptions: 1, maxOptions: 3,
-			compute: portmanteauValue(d.name, d.bp, d.p),
+			compute: portmanteauValue(d.name, d.boxPierce, d.scalarP),
 		})
 	}
 }

@@ -114,8 +114,8 @@ func trendsqlGoRegister(db *C.sqlite3, pzErrMsg **C.char) (rc C.int) {
 	return C.SQLITE_OK
 }
 
-// fn returns the function at index i of the registration list.
-func fn(i C.int) *sqlfuncs.HostFunction { return &lib.funcs[int(i)] }
+// functionAt returns the function at index i of the registration list.
+func functionAt(i C.int) *sqlfuncs.HostFunction { return &lib.funcs[int(i)] }
 
 // recoverResult turns a panic into the SQL error of the call.
 func recoverResult(ctx *C.sqlite3_context, name string) {
@@ -189,7 +189,7 @@ func boxArgs(argc C.int, argv **C.sqlite3_value) []driver.Value {
 
 //export trendsqlGoScalar
 func trendsqlGoScalar(ctx *C.sqlite3_context, index C.int, argc C.int, argv **C.sqlite3_value) {
-	f := fn(index)
+	f := functionAt(index)
 	defer recoverResult(ctx, f.Doc.Name)
 	v, err := f.Call(boxArgs(argc, argv))
 	if err != nil {
@@ -206,7 +206,7 @@ func trendsqlGoScalar(ctx *C.sqlite3_context, index C.int, argc C.int, argv **C.
 //
 //export trendsqlGoAggResult
 func trendsqlGoAggResult(ctx *C.sqlite3_context, index C.int, a *C.ext_agg, final C.int) {
-	f := fn(index)
+	f := functionAt(index)
 	defer recoverResult(ctx, f.Doc.Name)
 	var g *sqlfuncs.HostGroup
 	if a != nil && a.group != 0 {
@@ -349,7 +349,7 @@ type tableRows struct {
 
 //export trendsqlGoTableFilter
 func trendsqlGoTableFilter(index C.int, given C.int, argc C.int, argv **C.sqlite3_value, rows *C.uintptr_t, nrows *C.int) (msg *C.char) {
-	f := fn(index)
+	f := functionAt(index)
 	defer func() {
 		if r := recover(); r != nil {
 			msg = C.CString(fmt.Sprintf("%s: internal error: %v (please report; stack: %s)", f.Doc.Name, r, firstFrames(debug.Stack())))

@@ -147,19 +147,19 @@ func SummarizeSeries(t, y []float64, o SummaryOptions) (s SeriesSummary) {
 		note("trend fit: %v", err)
 	} else {
 		s.TrendModel = model
-		s.SlopePerYear = fp(model.SlopePerYear)
-		s.SlopeSE = fp(model.SlopeSE)
-		s.SlopeP = fp(model.SlopeP)
-		s.HACSlopeSE = fp(model.HACSlopeSE)
+		s.SlopePerYear = finitePtr(model.SlopePerYear)
+		s.SlopeSE = finitePtr(model.SlopeSE)
+		s.SlopeP = finitePtr(model.SlopeP)
+		s.HACSlopeSE = finitePtr(model.HACSlopeSE)
 		lags := model.HACLags
 		s.HACLags = &lags
-		s.HACP = fp(model.HACP)
-		s.NEff = fp(model.NEff)
-		s.NEffP = fp(model.NEffP)
-		s.R2 = fp(model.R2)
-		s.ResidACF1 = fp(model.ResidACF1)
+		s.HACP = finitePtr(model.HACP)
+		s.NEff = finitePtr(model.NEff)
+		s.NEffP = finitePtr(model.NEffP)
+		s.R2 = finitePtr(model.R2)
+		s.ResidACF1 = finitePtr(model.ResidACF1)
 		if mean != 0 && !math.IsNaN(model.SlopePerYear) {
-			s.PctPerDecade = fp(10 * model.SlopePerYear / math.Abs(mean) * 100)
+			s.PctPerDecade = finitePtr(10 * model.SlopePerYear / math.Abs(mean) * 100)
 		}
 		residualDiagnostics(&s, t, y, model, grid, gridErr, o, note)
 	}
@@ -186,10 +186,10 @@ func SummarizeSeries(t, y []float64, o SummaryOptions) (s SeriesSummary) {
 			dep, derr := SeasonalDependent(by, season, cycle, o.Seasons, sk.S)
 			if derr == nil && !math.IsNaN(dep.P) {
 				s.MKMethod = "seasonal-kendall/block-means/hirsch-slack"
-				s.MKVarS, s.MKZ, s.MKP = fp(dep.VarS), fp(dep.Z), fp(dep.P)
+				s.MKVarS, s.MKZ, s.MKP = finitePtr(dep.VarS), finitePtr(dep.Z), finitePtr(dep.P)
 			} else {
 				s.MKMethod = "seasonal-kendall/block-means"
-				s.MKVarS, s.MKZ, s.MKP = fp(sk.VarS), fp(sk.Z), fp(sk.P)
+				s.MKVarS, s.MKZ, s.MKP = finitePtr(sk.VarS), finitePtr(sk.Z), finitePtr(sk.P)
 				if derr != nil {
 					note("between-season covariance not applied: %v", derr)
 				}
@@ -203,11 +203,11 @@ func SummarizeSeries(t, y []float64, o SummaryOptions) (s SeriesSummary) {
 						note("seasonal Sen interval: %v", err)
 					}
 				}
-				s.SenSlopePerYear = fp(sen.Slope * timefmt.SecondsPerYear)
-				s.SenLower = fp(sen.Lower * timefmt.SecondsPerYear)
-				s.SenUpper = fp(sen.Upper * timefmt.SecondsPerYear)
+				s.SenSlopePerYear = finitePtr(sen.Slope * timefmt.SecondsPerYear)
+				s.SenLower = finitePtr(sen.Lower * timefmt.SecondsPerYear)
+				s.SenUpper = finitePtr(sen.Upper * timefmt.SecondsPerYear)
 				if s.SenLower != nil {
-					s.SenIntervalBasis, s.SenVarS = basis, fp(varTest)
+					s.SenIntervalBasis, s.SenVarS = basis, finitePtr(varTest)
 				}
 			}
 		}
@@ -227,7 +227,7 @@ func SummarizeSeries(t, y []float64, o SummaryOptions) (s SeriesSummary) {
 		} else {
 			s.MKMethod = "mann-kendall/hamed-rao"
 			sv := float64(mk.S)
-			s.MKS, s.MKTau = &sv, fp(mk.Tau)
+			s.MKS, s.MKTau = &sv, finitePtr(mk.Tau)
 			varTest, basis = mk.VarS, "mann-kendall"
 			// If the median failed, so would the correction's own.
 			hr, err := HamedRaoResult{}, senErr
@@ -237,31 +237,31 @@ func SummarizeSeries(t, y []float64, o SummaryOptions) (s SeriesSummary) {
 			if err != nil {
 				note("Hamed–Rao correction: %v", err)
 			} else {
-				s.MKCorrectionFactor = fp(hr.Factor)
+				s.MKCorrectionFactor = finitePtr(hr.Factor)
 				if hr.Undefined != "" {
 					note("Hamed–Rao correction undefined (%s); test and Sen interval use the uncorrected variance", hr.Undefined)
 				}
 				if hr.Factor >= 1 {
-					s.MKVarS, s.MKZ, s.MKP = fp(hr.VarS), fp(hr.Z), fp(hr.P)
+					s.MKVarS, s.MKZ, s.MKP = finitePtr(hr.VarS), finitePtr(hr.Z), finitePtr(hr.P)
 					varTest, basis = hr.VarS, "hamed-rao"
 				} else {
 					// Never more liberal than the uncorrected test.
-					s.MKVarS, s.MKZ, s.MKP = fp(mk.VarS), fp(mk.Z), fp(mk.P)
+					s.MKVarS, s.MKZ, s.MKP = finitePtr(mk.VarS), finitePtr(mk.Z), finitePtr(mk.P)
 				}
 			}
 		}
 		if senErr != nil {
 			note("Sen slope: %v", senErr)
 		} else {
-			s.SenSlopePerYear = fp(med.Slope * timefmt.SecondsPerYear)
+			s.SenSlopePerYear = finitePtr(med.Slope * timefmt.SecondsPerYear)
 			if varTest >= 0 {
 				sen, err := sess.withInterval(o.Confidence, varTest)
 				if err != nil {
 					note("Sen interval: %v", err)
 				} else {
-					s.SenLower = fp(sen.Lower * timefmt.SecondsPerYear)
-					s.SenUpper = fp(sen.Upper * timefmt.SecondsPerYear)
-					s.SenIntervalBasis, s.SenVarS = basis, fp(varTest)
+					s.SenLower = finitePtr(sen.Lower * timefmt.SecondsPerYear)
+					s.SenUpper = finitePtr(sen.Upper * timefmt.SecondsPerYear)
+					s.SenIntervalBasis, s.SenVarS = basis, finitePtr(varTest)
 				}
 			}
 		}
@@ -281,7 +281,7 @@ func SummarizeSeries(t, y []float64, o SummaryOptions) (s SeriesSummary) {
 			tc = int64(pettittTimes[pt.K-1])
 		}
 		s.PettittK, s.PettittTChange = &k, &tc
-		s.PettittU, s.PettittP = fp(pt.U), fp(pt.P)
+		s.PettittU, s.PettittP = finitePtr(pt.U), finitePtr(pt.P)
 		if !math.IsNaN(pt.P) {
 			b := pt.P < o.Alpha
 			s.StepChangeSuspected = &b
@@ -331,7 +331,7 @@ func residualDiagnostics(s *SeriesSummary, t, y []float64, model *TrendModel, gr
 	if lb <= len(c.Lags) && !math.IsNaN(c.Lags[lb-1].LBQ) {
 		l := c.Lags[lb-1]
 		df := lb
-		s.LBDF, s.LBQ, s.LBP = &df, fp(l.LBQ), fp(l.LBP)
+		s.LBDF, s.LBQ, s.LBP = &df, finitePtr(l.LBQ), finitePtr(l.LBP)
 		if !math.IsNaN(l.LBP) {
 			b := l.LBP < o.Alpha
 			s.ResidualDependence = &b
@@ -414,7 +414,9 @@ func seasonAnomalies(by []float64, season []int, seasons int) (anom []float64) {
 	return anom
 }
 
-func fp(v float64) *float64 {
+// finitePtr returns a pointer to v, or nil when v is NaN or infinite (a
+// NULL in the stored summary).
+func finitePtr(v float64) *float64 {
 	if math.IsNaN(v) || math.IsInf(v, 0) {
 		return nil
 	}

@@ -66,11 +66,11 @@ func SummarizeCensoredSeries(t, y []float64, c []Censoring, o SummaryOptions) (s
 
 	p := ProfileCensoring(y, c)
 	if n > 0 {
-		s.CensoredShare = fp(p.Share)
+		s.CensoredShare = finitePtr(p.Share)
 		lim := p.Limits
 		s.CensoringLimits = &lim
 		if p.Limits > 0 {
-			s.HighestLimit = fp(p.HighestLimit)
+			s.HighestLimit = finitePtr(p.HighestLimit)
 		}
 	}
 	limits := "limits"
@@ -101,7 +101,7 @@ func SummarizeCensoredSeries(t, y []float64, c []Censoring, o SummaryOptions) (s
 		} else {
 			s.MKMethod = "censored-seasonal-kendall"
 			sv := float64(sk.S)
-			s.MKS, s.MKVarS, s.MKZ, s.MKP = &sv, fp(sk.VarS), fp(sk.Z), fp(sk.P)
+			s.MKS, s.MKVarS, s.MKZ, s.MKP = &sv, finitePtr(sk.VarS), finitePtr(sk.Z), finitePtr(sk.P)
 		}
 	} else {
 		mk, err := CensoredMannKendall(y, c)
@@ -110,7 +110,7 @@ func SummarizeCensoredSeries(t, y []float64, c []Censoring, o SummaryOptions) (s
 		} else {
 			s.MKMethod = "censored-mann-kendall"
 			sv := float64(mk.S)
-			s.MKS, s.MKVarS, s.MKZ, s.MKP, s.MKTau = &sv, fp(mk.VarS), fp(mk.Z), fp(mk.P), fp(mk.Tau)
+			s.MKS, s.MKVarS, s.MKZ, s.MKP, s.MKTau = &sv, finitePtr(mk.VarS), finitePtr(mk.Z), finitePtr(mk.P), finitePtr(mk.Tau)
 		}
 	}
 	if n > MaxCensoredSenValues {
@@ -118,7 +118,7 @@ func SummarizeCensoredSeries(t, y []float64, c []Censoring, o SummaryOptions) (s
 	} else if ats, err := AkritasTheilSen(t, y, c); err != nil {
 		note("Akritas–Theil–Sen slope: %v", err)
 	} else if !math.IsNaN(ats.Slope) {
-		s.SenSlopePerYear = fp(ats.Slope * timefmt.SecondsPerYear)
+		s.SenSlopePerYear = finitePtr(ats.Slope * timefmt.SecondsPerYear)
 	}
 	return s
 }

@@ -46,10 +46,10 @@ func significant(s *Series) bool {
 
 // slopeOf is the Sen slope per year, else the least-squares slope.
 func slopeOf(s *Series) float64 {
-	if v := s.Sum.f("sen_slope_per_year"); !math.IsNaN(v) {
+	if v := s.Sum.number("sen_slope_per_year"); !math.IsNaN(v) {
 		return v
 	}
-	return s.Sum.f("slope_per_year")
+	return s.Sum.number("slope_per_year")
 }
 
 // addMarkLegend adds the five trend symbols to a legend.
@@ -173,7 +173,7 @@ func groupFigure(variable, unit, attr string, series []*Series, png bool) (*Figu
 				continue
 			}
 			m, c := markFor(sl, significant(s))
-			p.Add(&whiskers{Lo: []float64{s.Sum.f("sen_lower")}, Hi: []float64{s.Sum.f("sen_upper")}, Y: []float64{y},
+			p.Add(&whiskers{Lo: []float64{s.Sum.number("sen_lower")}, Hi: []float64{s.Sum.number("sen_upper")}, Y: []float64{y},
 				style: draw.LineStyle{Color: c, Width: vg.Points(0.8)}})
 			p.Add(&points{pts: []xy{{sl, y}}, glyph: draw.GlyphStyle{Color: c, Radius: vg.Points(3.5), Shape: m}})
 		}

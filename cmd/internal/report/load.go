@@ -83,7 +83,8 @@ type Lag struct {
 // row is one summary row by column name (values as the driver returns them).
 type row map[string]any
 
-func (r row) f(k string) float64 {
+// number is column k as a float64, NaN when it is NULL or not a number.
+func (r row) number(k string) float64 {
 	switch v := r[k].(type) {
 	case float64:
 		return v
@@ -93,7 +94,9 @@ func (r row) f(k string) float64 {
 	return math.NaN()
 }
 
-func (r row) i(k string) (int64, bool) {
+// integer is column k as an int64; ok is false when it is NULL or not a
+// number.
+func (r row) integer(k string) (int64, bool) {
 	switch v := r[k].(type) {
 	case int64:
 		return v, true
@@ -103,7 +106,8 @@ func (r row) i(k string) (int64, bool) {
 	return 0, false
 }
 
-func (r row) s(k string) string {
+// text is column k as a string, "" when it is NULL or not text.
+func (r row) text(k string) string {
 	switch v := r[k].(type) {
 	case string:
 		return v
@@ -114,7 +118,7 @@ func (r row) s(k string) string {
 }
 
 func (r row) flag(k string) (on, known bool) {
-	v, ok := r.i(k)
+	v, ok := r.integer(k)
 	return v == 1, ok
 }
 
@@ -324,7 +328,7 @@ func loadSummaries(ctx context.Context, db *sql.DB, run *Run, series []*Series) 
 		for i, c := range cols {
 			r[c] = vals[i]
 		}
-		id, _ := r.i("series_id")
+		id, _ := r.integer("series_id")
 		if s := byID[id]; s != nil {
 			s.Sum = r
 			run.SeriesInRun++
@@ -390,7 +394,7 @@ func loadReadings(ctx context.Context, db *sql.DB, s *Series, censorCol string) 
 	if censorCol != "" {
 		cens = `"` + strings.ReplaceAll(censorCol, `"`, `""`) + `"`
 	}
-	model := s.Sum.s("trend_model")
+	model := s.Sum.text("trend_model")
 	var m any
 	if model != "" {
 		m = model

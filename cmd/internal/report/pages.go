@@ -146,10 +146,12 @@ func execute(t *template.Template, data any) ([]byte, error) {
 	return b.Bytes(), err
 }
 
-// sig formats a value and its sort key.
-func sig(v float64) (string, string) { return num(v), sortKey(v) }
+// withSortKey formats a value and its sort key.
+func withSortKey(v float64) (string, string) { return num(v), sortKey(v) }
 
-func ci(lo, hi float64) string {
+// intervalText formats an interval as "[lo, hi]", "—" when either end is
+// undefined.
+func intervalText(lo, hi float64) string {
 	if math.IsNaN(lo) || math.IsNaN(hi) {
 		return "—"
 	}

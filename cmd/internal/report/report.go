@@ -335,19 +335,19 @@ func writeSeries(ctx context.Context, db *sql.DB, run *Run, s *Series, censor st
 		return indexRow{}, err
 	}
 	d := &seriesPlotData{s: s, rd: rd, full: o.FullDetail}
-	d.step = s.Sum.f("step_s")
+	d.step = s.Sum.number("step_s")
 	if !(d.step > 0) {
 		d.step = typicalStep(rd.T)
 	}
-	if model := s.Sum.s("trend_model"); model != "" && len(rd.T) > 0 {
+	if model := s.Sum.text("trend_model"); model != "" && len(rd.T) > 0 {
 		if err := d.evalModel(ctx, db, model); err != nil {
 			return indexRow{}, err
 		}
 	}
 	stem := strings.TrimSuffix(s.Page, ".html")
 	pg := &seriesPage{S: s, Title: s.Station.ID + " " + s.Variable + " — trend report", RunText: runText(run),
-		Flags: flags(s), ModelText: modelWords(s), RankText: rankWords(s.Sum.s("mk_method")),
-		ACFText: acfWords(s.Sum.s("acf_basis")), Notes: s.Sum.s("notes"), Caution: Caution, Footer: footer, CSS: pageCSS}
+		Flags: flags(s), ModelText: modelWords(s), RankText: rankWords(s.Sum.text("mk_method")),
+		ACFText: acfWords(s.Sum.text("acf_basis")), Notes: s.Sum.text("notes"), Caution: Caution, Footer: footer, CSS: pageCSS}
 	if s.OnTheFly {
 		pg.RunText = fmt.Sprintf("Summarize run %d (started %s) holds no summary of this series: the figures below were computed now with that run's parameters, without its FDR adjustment.", run.ID, run.StartedAt)
 	}
@@ -383,7 +383,7 @@ func writeSeries(ctx context.Context, db *sql.DB, run *Run, s *Series, censor st
 		if err != nil {
 			return indexRow{}, err
 		}
-		pg.ACF = view(f, "fig-acf", fmt.Sprintf("Sample autocorrelation of the residuals at lags 1 to %d %s. Dashed: ±1.96/√n, the approximate 95%% range of a sample ACF of independent errors.", s.Lags[len(s.Lags)-1].Lag, acfWords(s.Sum.s("acf_basis"))), png)
+		pg.ACF = view(f, "fig-acf", fmt.Sprintf("Sample autocorrelation of the residuals at lags 1 to %d %s. Dashed: ±1.96/√n, the approximate 95%% range of a sample ACF of independent errors.", s.Lags[len(s.Lags)-1].Lag, acfWords(s.Sum.text("acf_basis"))), png)
 		f, err = ljungBoxFigure(d, run.Alpha, o.PNG)
 		if err != nil {
 			return indexRow{}, err
@@ -412,16 +412,16 @@ func writeSeries(ctx context.Context, db *sql.DB, run *Run, s *Series, censor st
 		}
 		row.Spark = template.HTML(sp.SVG)
 	}
-	n, _ := s.Sum.i("n")
+	n, _ := s.Sum.integer("n")
 	row.N, row.NKey = fmt.Sprint(n), fmt.Sprint(n)
-	row.Years, row.YearsKey = sig(s.Sum.f("years"))
-	row.Slope, row.SlopeKey = sig(s.Sum.f("slope_per_year"))
-	row.SlopeDec, row.SlopeDecKey = sig(10 * s.Sum.f("slope_per_year"))
-	row.Sen, row.SenKey = sig(s.Sum.f("sen_slope_per_year"))
-	row.SenCI = ci(s.Sum.f("sen_lower"), s.Sum.f("sen_upper"))
-	row.MKP, row.MKPKey = pval(s.Sum.f("mk_p")), sortKey(s.Sum.f("mk_p"))
-	row.HACP, row.HACPKey = pval(s.Sum.f("hac_p")), sortKey(s.Sum.f("hac_p"))
-	row.FDR, row.FDRKey = pval(s.Sum.f("trend_p_fdr")), sortKey(s.Sum.f("trend_p_fdr"))
+	row.Years, row.YearsKey = withSortKey(s.Sum.number("years"))
+	row.Slope, row.SlopeKey = withSortKey(s.Sum.number("slope_per_year"))
+	row.SlopeDec, row.SlopeDecKey = withSortKey(10 * s.Sum.number("slope_per_year"))
+	row.Sen, row.SenKey = withSortKey(s.Sum.number("sen_slope_per_year"))
+	row.SenCI = intervalText(s.Sum.number("sen_lower"), s.Sum.number("sen_upper"))
+	row.MKP, row.MKPKey = pval(s.Sum.number("mk_p")), sortKey(s.Sum.number("mk_p"))
+	row.HACP, row.HACPKey = pval(s.Sum.number("hac_p")), sortKey(s.Sum.number("hac_p"))
+	row.FDR, row.FDRKey = pval(s.Sum.number("trend_p_fdr")), sortKey(s.Sum.number("trend_p_fdr"))
 	return row, nil
 }
 

@@ -42,65 +42,65 @@ func figureRows(s *Series, run *Run) []figRow {
 	u := s.Unit
 	var rows []figRow
 	add := func(label, value, note string) { rows = append(rows, figRow{label, value, note}) }
-	n, _ := r.i("n")
+	n, _ := r.integer("n")
 	add("readings (n)", fmt.Sprint(n), "")
-	if tf, tl := r.s("time_first"), r.s("time_last"); tf != "" {
-		add("period", tf+" to "+tl, num(r.f("years"))+" years")
+	if tf, tl := r.text("time_first"), r.text("time_last"); tf != "" {
+		add("period", tf+" to "+tl, num(r.number("years"))+" years")
 	}
-	if st := r.f("step_s"); !math.IsNaN(st) {
+	if st := r.number("step_s"); !math.IsNaN(st) {
 		add("sampling step", fmtDuration(st), "most common spacing")
 	}
-	if ms := r.f("missing_share"); !math.IsNaN(ms) {
+	if ms := r.number("missing_share"); !math.IsNaN(ms) {
 		add("coverage", fmt.Sprintf("%.1f %%", 100*(1-ms)), fmt.Sprintf("share of grid slots with a reading (%.1f %% missing)", 100*ms))
 	}
-	if q, ok := r.i("n_qualified"); ok {
+	if q, ok := r.integer("n_qualified"); ok {
 		add("readings with a qualifier flag", fmt.Sprint(q), flagSummaryOr(s))
 	}
-	if cs := r.f("censored_share"); !math.IsNaN(cs) && cs > 0 {
+	if cs := r.number("censored_share"); !math.IsNaN(cs) && cs > 0 {
 		note := ""
-		if k, ok := r.i("censoring_limits"); ok {
-			note = fmt.Sprintf("%s, the highest %s %s", plural(int(k), "reporting limit", "distinct reporting limits"), num(r.f("highest_limit")), u)
+		if k, ok := r.integer("censoring_limits"); ok {
+			note = fmt.Sprintf("%s, the highest %s %s", plural(int(k), "reporting limit", "distinct reporting limits"), num(r.number("highest_limit")), u)
 			if k == 1 {
-				note = fmt.Sprintf("one reporting limit, %s %s", num(r.f("highest_limit")), u)
+				note = fmt.Sprintf("one reporting limit, %s %s", num(r.number("highest_limit")), u)
 			}
 		}
 		add("censored readings", fmt.Sprintf("%.1f %%", 100*cs), note)
 	}
-	add("mean", num(r.f("mean")), u)
-	if r.s("trend_model") == "" {
+	add("mean", num(r.number("mean")), u)
+	if r.text("trend_model") == "" {
 		add("least-squares trend", "not fitted", "see the notes below")
 	} else {
-		add("least-squares slope", num(r.f("slope_per_year")), perYear(u))
-		add("least-squares slope per decade", num(10*r.f("slope_per_year")), perDecade(u))
-		if v := r.f("pct_per_decade"); !math.IsNaN(v) {
+		add("least-squares slope", num(r.number("slope_per_year")), perYear(u))
+		add("least-squares slope per decade", num(10*r.number("slope_per_year")), perDecade(u))
+		if v := r.number("pct_per_decade"); !math.IsNaN(v) {
 			add("relative slope", num(v), "% of the mean per decade")
 		}
-		add("standard error of the slope, ordinary", num(r.f("slope_se")), perYear(u)+"; assumes independent errors")
-		add("standard error of the slope, Newey–West", num(r.f("hac_slope_se")), perYear(u)+lagsNote(r))
-		add("p, ordinary least squares", pval(r.f("slope_p")), "two-sided; too small when the errors are autocorrelated")
-		add("p, Newey–West", pval(r.f("hac_p")), "two-sided, autocorrelation-robust")
-		add("p, effective sample size", pval(r.f("n_eff_p")), "n_eff = "+num(r.f("n_eff")))
-		add("R²", num(r.f("r2")), "share of variance explained by trend and cycle")
+		add("standard error of the slope, ordinary", num(r.number("slope_se")), perYear(u)+"; assumes independent errors")
+		add("standard error of the slope, Newey–West", num(r.number("hac_slope_se")), perYear(u)+lagsNote(r))
+		add("p, ordinary least squares", pval(r.number("slope_p")), "two-sided; too small when the errors are autocorrelated")
+		add("p, Newey–West", pval(r.number("hac_p")), "two-sided, autocorrelation-robust")
+		add("p, effective sample size", pval(r.number("n_eff_p")), "n_eff = "+num(r.number("n_eff")))
+		add("R²", num(r.number("r2")), "share of variance explained by trend and cycle")
 	}
-	add("rank trend test", rankWords(r.s("mk_method")), "")
-	add("p, rank trend test", pval(r.f("mk_p")), rankPNote(r.s("mk_method")))
-	add("q, FDR-adjusted", pval(r.f("trend_p_fdr")), fmt.Sprintf("Benjamini–Hochberg across %s; the trend flag uses q ≤ %g", fdrFamily(run), run.Alpha))
+	add("rank trend test", rankWords(r.text("mk_method")), "")
+	add("p, rank trend test", pval(r.number("mk_p")), rankPNote(r.text("mk_method")))
+	add("q, FDR-adjusted", pval(r.number("trend_p_fdr")), fmt.Sprintf("Benjamini–Hochberg across %s; the trend flag uses q ≤ %g", fdrFamily(run), run.Alpha))
 	sen := "Sen slope"
-	if strings.HasPrefix(r.s("mk_method"), "censored") {
+	if strings.HasPrefix(r.text("mk_method"), "censored") {
 		sen = "Akritas–Theil–Sen slope"
 	}
-	add(sen, num(r.f("sen_slope_per_year")), perYear(u))
-	add(sen+" per decade", num(10*r.f("sen_slope_per_year")), perDecade(u))
-	conf := r.f("sen_confidence")
-	add("Sen slope interval", ci(r.f("sen_lower"), r.f("sen_upper")), fmt.Sprintf("%s; %g confidence", perYear(u), conf))
-	if v := r.f("resid_acf1"); !math.IsNaN(v) {
+	add(sen, num(r.number("sen_slope_per_year")), perYear(u))
+	add(sen+" per decade", num(10*r.number("sen_slope_per_year")), perDecade(u))
+	conf := r.number("sen_confidence")
+	add("Sen slope interval", intervalText(r.number("sen_lower"), r.number("sen_upper")), fmt.Sprintf("%s; %g confidence", perYear(u), conf))
+	if v := r.number("resid_acf1"); !math.IsNaN(v) {
 		add("residual lag-1 sample autocorrelation", num(v), "")
 	}
-	if lbl, ok := r.i("lb_lags"); ok {
-		add(fmt.Sprintf("Ljung–Box test, lags 1 to %d", lbl), "Q = "+num(r.f("lb_q"))+", "+pEquals(r.f("lb_p")), "")
+	if lbl, ok := r.integer("lb_lags"); ok {
+		add(fmt.Sprintf("Ljung–Box test, lags 1 to %d", lbl), "Q = "+num(r.number("lb_q"))+", "+pEquals(r.number("lb_p")), "")
 	}
-	if pt := r.s("pettitt_time_change"); pt != "" {
-		add("Pettitt change point", pt, pEquals(r.f("pettitt_p"))+" (approximate)")
+	if pt := r.text("pettitt_time_change"); pt != "" {
+		add("Pettitt change point", pt, pEquals(r.number("pettitt_p"))+" (approximate)")
 	}
 	var on []string
 	for _, f := range flagNames {
@@ -116,14 +116,14 @@ func figureRows(s *Series, run *Run) []figRow {
 }
 
 func lagsNote(r row) string {
-	if l, ok := r.i("hac_lags"); ok {
+	if l, ok := r.integer("hac_lags"); ok {
 		return fmt.Sprintf("; %d lags", l)
 	}
 	return ""
 }
 
 func flagSummaryOr(s *Series) string {
-	if s.Sum.s("qualifier_counts") == "" {
+	if s.Sum.text("qualifier_counts") == "" {
 		return ""
 	}
 	return flagSummary(s)

@@ -169,7 +169,7 @@ func readingsFigure(d *seriesPlotData, png bool) (*Figure, DrawInfo, error) {
 // run's, the intercept only positions the line), from the first reading to
 // the last. Nil without a slope.
 func senLine(d *seriesPlotData) []xy {
-	slope := d.s.Sum.f("sen_slope_per_year")
+	slope := d.s.Sum.number("sen_slope_per_year")
 	n := len(d.rd.T)
 	if math.IsNaN(slope) || n < 2 {
 		return nil
@@ -180,7 +180,7 @@ func senLine(d *seriesPlotData) []xy {
 }
 
 func senName(s *Series) string {
-	if strings.HasPrefix(s.Sum.s("mk_method"), "censored") {
+	if strings.HasPrefix(s.Sum.text("mk_method"), "censored") {
 		return "Akritas–Theil–Sen slope"
 	}
 	return "Sen slope"
@@ -199,7 +199,7 @@ func medianOf(x []float64) float64 {
 
 // flagSummary lists the qualifier counts stored with the summary, or "".
 func flagSummary(s *Series) string {
-	q := s.Sum.s("qualifier_counts")
+	q := s.Sum.text("qualifier_counts")
 	if q == "" {
 		return "see the figures"
 	}
@@ -270,7 +270,7 @@ func lagAxis(s *Series, step float64) (perLag float64, label string) {
 	if n := len(s.Lags); n > 0 {
 		maxLag = s.Lags[n-1].Lag
 	}
-	if s.Sum.s("acf_basis") != "time-grid" || !(step > 0) {
+	if s.Sum.text("acf_basis") != "time-grid" || !(step > 0) {
 		sp := ""
 		if step > 0 {
 			sp = ", typically " + fmtDuration(step) + " apart"

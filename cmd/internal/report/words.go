@@ -80,7 +80,7 @@ type modelInfo struct {
 
 func parseModel(s *Series) (modelInfo, bool) {
 	var m modelInfo
-	t := s.Sum.s("trend_model")
+	t := s.Sum.text("trend_model")
 	return m, t != "" && json.Unmarshal([]byte(t), &m) == nil
 }
 
