@@ -16,8 +16,8 @@ package sqlfuncs
 // which path is in use and why.
 //
 // The adapters share the public implementations' state types and code:
-// the regression state is regr.go's comoments updated by addPair and
-// removePair and read by the public result func; a series group is the
+// the regression state is regr.go's comoments (stats.Comoments) updated by
+// AddPair and RemovePair and read by the public result func; a series group is the
 // public seriesAgg; the qualifier state is qualcount.go's qualCounts. Only
 // rows whose conversion cannot fail are handled here; every other row is
 // boxed and handed to the public Step, so checks and error messages are the
@@ -169,7 +169,7 @@ func finiteNumber(v rawsqlite.Value) (x float64, null, ok bool) {
 var regrGroups rawsqlite.Slots[comoments]
 
 // regrFunction serves one regression aggregate: rows go to comoments'
-// addPair and removePair, the value comes from the public result func.
+// AddPair and RemovePair, the value comes from the public result func.
 func regrFunction(name string, result func(c *comoments) driver.Value) *rawsqlite.Function {
 	newState := func() (*comoments, error) { return &comoments{fn: name}, nil }
 	// argument reads one argument as regr.go's argValue would; anything
@@ -203,9 +203,9 @@ func regrFunction(name string, result func(c *comoments) driver.Value) *rawsqlit
 		switch {
 		case !oky || !okx:
 		case remove:
-			m.removePair(y, x)
+			m.RemovePair(y, x)
 		default:
-			m.addPair(y, x)
+			m.AddPair(y, x)
 		}
 	}
 	value := func(c rawsqlite.Context, final bool) {
@@ -220,7 +220,7 @@ func regrFunction(name string, result func(c *comoments) driver.Value) *rawsqlit
 		if m == nil {
 			m = &comoments{fn: name} // no row was ever stepped: the empty set
 		}
-		m.finish()
+		m.Finish()
 		v, err := checkResult(name, result(m), nil)
 		if err != nil {
 			c.Error(err)

@@ -233,7 +233,7 @@ func (g *HostGroup) StepNumbers(v []float64) (err error) {
 		}
 	case g.regr != nil && len(v)%2 == 0:
 		for ; len(v) >= 2; v = v[2:] {
-			g.regr.addPair(v[0], v[1])
+			g.regr.AddPair(v[0], v[1])
 		}
 	default:
 		return fmt.Errorf("%s: internal error: no numeric rows", g.name)
@@ -279,7 +279,7 @@ func (g *HostGroup) StepColumns(rows int, fill func(cols [3][]float64)) (err err
 		cols[0], cols[1] = (*sp)[:rows], (*sp)[rows:]
 		fill(cols)
 		for i, y := range cols[0] {
-			g.regr.addPair(y, cols[1][i])
+			g.regr.AddPair(y, cols[1][i])
 		}
 	default:
 		return fmt.Errorf("%s: internal error: no numeric rows", g.name)
@@ -304,7 +304,7 @@ func (g *HostGroup) InverseNumbers(v []float64) (err error) {
 		g.boxed = append(g.boxed, a.opts...)
 		return a.WindowInverse(nil, g.boxed)
 	case g.regr != nil && len(v) == 2:
-		g.regr.removePair(v[0], v[1])
+		g.regr.RemovePair(v[0], v[1])
 	default:
 		return fmt.Errorf("%s: internal error: no numeric rows", g.name)
 	}
