@@ -328,9 +328,13 @@ func TestReportInChromium(t *testing.T) {
 	if err := os.MkdirAll(outDir, 0o755); err != nil {
 		t.Fatal(err)
 	}
-	for _, pg := range []struct{ file, shot, extra string }{{"index.html", "index.png", sortByN}, {res.Pages[id], "series-page.png", ""}} {
+	// The index window is tall enough to show the maps and the top of the table.
+	for _, pg := range []struct {
+		file, shot, extra string
+		w, h              int
+	}{{"index.html", "index.png", sortByN, 1440, 2500}, {res.Pages[id], "series-page.png", "", 1280, 1500}} {
 		abs, _ := filepath.Abs(filepath.Join(res.Dir, pg.file))
-		pc, err := c.visit(ctx, "file://"+abs, 1280, 1500, pg.extra)
+		pc, err := c.visit(ctx, "file://"+abs, pg.w, pg.h, pg.extra)
 		if err != nil {
 			t.Fatalf("%s: %v (chromium stderr: %s)", pg.file, err, tail(stderr.String()))
 		}
