@@ -3,8 +3,10 @@ package report
 import (
 	"context"
 	"database/sql"
+	"maps"
 	"math"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strings"
 	"testing"
@@ -466,6 +468,188 @@ func TestSenLineThroughMedians(t *testing.T) {
 			if !near(line[i][0], f.xMap.to(tt), drawTol) || !near(line[i][1], f.yMap.to(want), drawTol) {
 				t.Errorf("%s: Sen line end %d at (%g, %g) pt, want (%g, %g)", st, i, line[i][0], line[i][1], f.xMap.to(tt), f.yMap.to(want))
 			}
+		}
+	}
+}
+
+// The Ljung–Box chart joins the stored p-value of each lag, and its dashed
+// line sits at the run's α.
+func TestLjungBoxPointsEqualStoredP(t *testing.T) {
+	s := openDemo(t)
+	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{"VOR-M01"}, Variables: []string{"nitrate_n"}}})
+	id, page := pageOf(t, s, res, "VOR-M01", "nitrate_n")
+	f := figures(t, page)["fig-ljungbox"]
+	if f == nil {
+		t.Fatal("no Ljung–Box figure")
+	}
+	rows, err := s.DB.Query(`SELECT lag, ljung_box_p FROM series_correlograms WHERE run_id = ? AND series_id = ? AND ljung_box_p IS NOT NULL ORDER BY lag`, res.Run.ID, id)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	var lags, ps []float64
+	for rows.Next() {
+		var l, p float64
+		if err := rows.Scan(&l, &p); err != nil {
+			t.Fatal(err)
+		}
+		lags, ps = append(lags, l), append(ps, p)
+	}
+	if len(ps) < 10 || slices.Max(ps) < 0.05 {
+		t.Fatalf("fixture: %d stored p-values, largest %g; the check wants a series whose p-values are not all near 0", len(ps), slices.Max(ps))
+	}
+	line := longest(f.strokes(hexColor(ColLB)))
+	if len(line) != len(ps) {
+		t.Fatalf("line through %d points, %d p-values stored", len(line), len(ps))
+	}
+	perPt := math.Abs((f.yMap.B - f.yMap.A) / (f.yMap.PB - f.yMap.PA))
+	// Irregular times: the lag axis counts readings, so lag k is at x = k.
+	for i, v := range line {
+		if x := f.xMap.from(v[0]); !near(x, lags[i], 1e-3) {
+			t.Errorf("point %d at lag %g, stored lag %g", i, x, lags[i])
+		}
+		if y := f.yMap.from(v[1]); !near(y, ps[i], drawTol*perPt) {
+			t.Errorf("lag %g: drawn p %.6f, stored %.6f", lags[i], y, ps[i])
+		}
+	}
+	alphaAt := math.NaN()
+	for _, p := range f.strokes(hexColor(ColBand)) {
+		for _, sp := range p.subs {
+			if len(sp) == 2 && sp[1][0]-sp[0][0] > 100 {
+				alphaAt = f.yMap.from(sp[0][1])
+			}
+		}
+	}
+	if !near(alphaAt, res.Run.Alpha, drawTol*perPt) {
+		t.Errorf("α line at %g, run's α %g", alphaAt, res.Run.Alpha)
+	}
+}
+
+// Each station on a map is drawn at its longitude and latitude with the
+// symbol of its stored trend: a wedge pointing up for a positive Sen slope
+// and down for a negative one, filled exactly when the run flagged the
+// trend.
+func TestMapSymbolsFollowStoredTrends(t *testing.T) {
+	s := openDemo(t)
+	res := writeReport(t, s, Options{Selection: Selection{Variables: []string{"stage", "groundwater_level"}, Where: "st.id LIKE 'VOR-%'"}})
+	index := readFile(t, filepath.Join(res.Dir, "index.html"))
+	figs := figures(t, index)
+	rows, err := s.DB.Query(`SELECT s.variable, s.station_id, st.longitude, st.latitude, coalesce(ss.sen_slope_per_year, ss.slope_per_year), coalesce(ss.trend_detected, 0)
+		FROM series_summaries ss JOIN series s ON s.id = ss.series_id JOIN stations st ON st.id = s.station_id
+		WHERE ss.run_id = ? AND s.variable IN ('stage', 'groundwater_level') AND st.id LIKE 'VOR-%'`, res.Run.ID)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	const r = 4.5 // symbol size in the map (pt)
+	seen, filledSeen := 0, 0
+	for rows.Next() {
+		var variable, station string
+		var lon, lat float64
+		var slope *float64
+		var flagged int
+		if err := rows.Scan(&variable, &station, &lon, &lat, &slope, &flagged); err != nil {
+			t.Fatal(err)
+		}
+		f := figs["fig-map-"+slug(variable)]
+		if f == nil {
+			t.Fatalf("no map of %s", variable)
+		}
+		if slope == nil || *slope == 0 {
+			continue // a ring: no direction to check
+		}
+		colour, dir := hexColor(ColUp), 1.0
+		if *slope < 0 {
+			colour, dir = hexColor(ColDown), -1
+		}
+		x, y := f.xMap.to(lon), f.yMap.to(lat)
+		var found, filled int
+		for _, p := range f.paths {
+			if len(p.subs) != 1 || len(p.subs[0]) != 3 {
+				continue
+			}
+			tip := p.subs[0][0]
+			if !near(tip[0], x, drawTol) || !near(tip[1], y+dir*r, drawTol) {
+				continue
+			}
+			if p.style["stroke"] == colour && p.style["fill"] == "none" {
+				found++
+			}
+			if p.style["fill"] == colour {
+				filled++
+			}
+		}
+		if found != 1 {
+			t.Errorf("%s %s: %d outlined wedges in %s pointing %+g at (%g, %g), want 1", variable, station, found, colour, dir, lon, lat)
+		}
+		if (filled == 1) != (flagged == 1) || filled > 1 {
+			t.Errorf("%s %s: %d filled wedges, trend_detected %d", variable, station, filled, flagged)
+		}
+		seen++
+		filledSeen += filled
+	}
+	if seen < 30 || filledSeen == 0 || filledSeen == seen {
+		t.Errorf("fixture: %d symbols checked, %d filled; want both kinds among 30 or more", seen, filledSeen)
+	}
+}
+
+// The grouped chart puts each series' stored Sen slope on the row of its
+// station's attribute value (rows in sorted order, "(none)" for stations
+// without one).
+func TestGroupedSlopesOnTheirRows(t *testing.T) {
+	s := openDemo(t)
+	res := writeReport(t, s, Options{GroupBy: "aquifer", Selection: Selection{Variables: []string{"groundwater_level"}, Where: "st.id LIKE 'VOR-%'"}})
+	f := figures(t, readFile(t, filepath.Join(res.Dir, "index.html")))["fig-group-groundwater-level"]
+	if f == nil {
+		t.Fatal("no grouped chart")
+	}
+	rows, err := s.DB.Query(`SELECT s.station_id, coalesce(st.metadata->>'aquifer', '(none)'), ss.sen_slope_per_year
+		FROM series_summaries ss JOIN series s ON s.id = ss.series_id JOIN stations st ON st.id = s.station_id
+		WHERE ss.run_id = ? AND s.variable = 'groundwater_level' AND st.id LIKE 'VOR-%' AND ss.sen_slope_per_year <> 0`, res.Run.ID)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	type item struct {
+		station, group string
+		slope          float64
+	}
+	var items []item
+	groups := map[string]bool{}
+	for rows.Next() {
+		var it item
+		if err := rows.Scan(&it.station, &it.group, &it.slope); err != nil {
+			t.Fatal(err)
+		}
+		items = append(items, it)
+		groups[it.group] = true
+	}
+	names := slices.Sorted(maps.Keys(groups))
+	if len(names) < 2 || len(items) < 10 {
+		t.Fatalf("fixture: %d series in %d groups", len(items), len(names))
+	}
+	const r = 3.5
+	for _, it := range items {
+		gi := float64(slices.Index(names, it.group))
+		lo, hi := f.yMap.to(gi-0.26), f.yMap.to(gi+0.26)
+		dir := 1.0
+		if it.slope < 0 {
+			dir = -1
+		}
+		x := f.xMap.to(it.slope)
+		found := 0
+		for _, p := range f.paths {
+			if len(p.subs) != 1 || len(p.subs[0]) != 3 || p.style["fill"] != "none" {
+				continue
+			}
+			tip := p.subs[0][0]
+			mid := tip[1] - dir*r
+			if near(tip[0], x, drawTol) && mid >= min(lo, hi)-drawTol && mid <= max(lo, hi)+drawTol {
+				found++
+			}
+		}
+		if found == 0 {
+			t.Errorf("%s: no wedge at Sen slope %g on the row of %q", it.station, it.slope, it.group)
 		}
 	}
 }
