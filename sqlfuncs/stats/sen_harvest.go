@@ -182,23 +182,26 @@ func insertionCountKeysHarvest(a, tmp []keyItem, h *harvest, budget int) int64 {
 	var inv int64
 	for i := 1; i < len(a); i++ {
 		v := a[i]
-		j := i
+		if a[i-1].k <= v.k {
+			continue
+		}
+		// shift the items above v up by one while looking for its place
+		j := i - 1
+		a[i] = a[j]
 		for j > 0 && a[j-1].k > v.k {
+			a[j] = a[j-1]
 			j--
 		}
-		if j < i {
+		a[j] = v
+		if h != nil {
+			h.run(a[j+1:i+1], v.i) // the items v passed, in their order
+		}
+		inv += int64(i - j)
+		if budget -= i - j; budget < 0 {
 			if h != nil {
-				h.run(a[j:i], v.i)
+				return inv + mergeCountKeysHarvest(a, tmp, h)
 			}
-			copy(a[j+1:i+1], a[j:i])
-			a[j] = v
-			inv += int64(i - j)
-			if budget -= i - j; budget < 0 {
-				if h != nil {
-					return inv + mergeCountKeysHarvest(a, tmp, h)
-				}
-				return inv + mergeCountKeys(a, tmp)
-			}
+			return inv + mergeCountKeys(a, tmp)
 		}
 	}
 	return inv
