@@ -5,6 +5,7 @@ package stats
 
 import (
 	"math"
+	"math/bits"
 	"slices"
 )
 
@@ -46,13 +47,13 @@ func (d *senData) cmpPts(i, j int32, v slopeRef) int {
 // exactly on the pairs whose slopes lie between their cuts, so the count
 // at v is the base count plus (v above the base) or minus (v below) the
 // number of inversions of the base order under the keys at v. The base
-// order, as positions, is merge-sorted by the floating-point keys at v,
-// counting inversions on the way; starting near v keeps the inversions few
-// and the merges short. Keys that differ by more than keyTol are in the
-// exact order, so only chains of neighbours closer than keyTol can be
-// misordered: they are re-sorted with the exact
-// comparator and the count corrected by the difference of the chain's
-// inversions after and before.
+// order, as positions, is merge-sorted by the floating-point keys at v
+// (quantised and packed with the position, keyItem), counting inversions
+// on the way; starting near v keeps the inversions few and the merges
+// short. Keys that differ by more than keyTol are in the exact order, so
+// only chains of neighbours closer than that can be misordered: they are
+// re-sorted with the exact comparator and the count corrected by the
+// difference of the chain's inversions after and before.
 func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest, near float64) (less, lessEq int64) {
 	fv := d.slopeF(v)
 	if from == nil {
@@ -81,8 +82,12 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest, nea
 	d.work = grow(d.work, d.n)
 	d.tmp = grow(d.tmp, d.n)
 	d.items = grow(d.items, 2*d.n)
-	g := d.keyTol
 	sv, x, y := d.s, d.x, d.y
+	q := newKeyQuant(d.n, d.maxAbsY+math.Abs(sv)*d.maxAbsX, d.keyTol)
+	if h != nil {
+		h.mask = q.mask
+	}
+	g, sh, mask := q.gap, q.shift, q.mask
 	byPoint := func(a, b int32) int {
 		if c := d.cmpPts(base[a], base[b], v); c != 0 {
 			return c
@@ -96,10 +101,7 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest, nea
 	for b := 0; b+1 < len(d.blocks); b++ {
 		lo, hi := d.blocks[b], d.blocks[b+1]
 		items := d.items[lo:hi]
-		for i := range items {
-			p := base[lo+i]
-			items[i] = keyItem{y[p] - sv*x[p], int32(lo + i)}
-		}
+		q.pack(items, base[lo:hi], y, x, sv, lo)
 		switch {
 		case insertion:
 			// few inversions expected: one insertion sort
@@ -109,23 +111,22 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest, nea
 		default:
 			inv += mergeCountKeys(items, d.items[d.n+lo:d.n+hi])
 		}
-		// One pass writes the points in the new order; a run of neighbours
-		// whose keys are closer than g (a near-tie chain) is re-sorted
-		// exactly first.
+		// One pass writes the points in the new order; then each run of
+		// neighbours whose keys are closer than g (a near-tie chain) is
+		// re-sorted exactly.
 		seg := perm[lo:hi]
-		cs := 0
-		for i := 1; i <= len(items); i++ {
-			if i < len(items) && items[i].k-items[i-1].k <= g {
-				continue
+		seg = seg[:len(items)]
+		for i, it := range items {
+			seg[i] = base[uint64(it)&mask]
+		}
+		for ce := 0; ; {
+			var cs int
+			if cs, ce = nextChain(items, ce, sh, g); cs == ce {
+				break
 			}
-			if i-cs == 1 {
-				seg[cs] = base[items[cs].i]
-				cs = i
-				continue
-			}
-			chain := seg[cs:i] // positions in base, then points
+			chain := seg[cs:ce] // positions in base, then points
 			for q := range chain {
-				chain[q] = items[cs+q].i
+				chain[q] = int32(uint64(items[cs+q]) & mask)
 			}
 			before := d.chainInversions(chain)
 			if len(chain) <= 16 {
@@ -162,7 +163,6 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest, nea
 			for q, p := range chain {
 				chain[q] = base[p]
 			}
-			cs = i
 		}
 	}
 	less = baseLess + dir*inv
@@ -187,6 +187,27 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest, nea
 	}
 	d.chains, d.chainPos = chains, chainPos
 	return
+}
+
+// nextChain returns the first run items[cs:ce] at or after from of two or
+// more neighbours whose quantised keys differ by at most g (cs = ce =
+// len(items) when there is none).
+func nextChain(items []keyItem, from int, sh uint, g uint64) (cs, ce int) {
+	n := len(items)
+	sh &= 63
+	i := from + 1
+	for ; i < n; i++ {
+		if uint64(items[i])>>sh-uint64(items[i-1])>>sh <= g {
+			break
+		}
+	}
+	if i >= n {
+		return n, n
+	}
+	cs = i - 1
+	for i++; i < n && uint64(items[i])>>sh-uint64(items[i-1])>>sh <= g; i++ {
+	}
+	return cs, i
 }
 
 // chainInversions counts the pairs out of order in a (short lists
@@ -219,11 +240,12 @@ func (d *senData) identity() []int32 {
 	return d.ident
 }
 
-// mergeCountKeys stably sorts a by k (merge sort, tmp as scratch of the same
-// length) and returns the number of pairs i < j with a[i].k > a[j].k. It is
-// countInversions for key–index items, written out so that the key
-// comparison is inlined; merges skip the in-order head and tail of each
-// pair of runs, so nearly sorted input costs little more than copying.
+// mergeCountKeys sorts a (merge sort, tmp as scratch of the same length)
+// and returns the number of pairs i < j with a[i] > a[j]: for items
+// packed in position order, the inversions of the quantised keys. It is
+// countInversions written out for keyItem; merges skip the in-order head
+// and tail of each pair of runs, so nearly sorted input costs little more
+// than copying.
 func mergeCountKeys(a, tmp []keyItem) int64 {
 	n := len(a)
 	var inv int64
@@ -233,7 +255,7 @@ func mergeCountKeys(a, tmp []keyItem) int64 {
 		for i := lo + 1; i < hi; i++ {
 			v := a[i]
 			j := i
-			for j > lo && a[j-1].k > v.k {
+			for j > lo && a[j-1] > v {
 				a[j] = a[j-1]
 				j--
 			}
@@ -246,25 +268,26 @@ func mergeCountKeys(a, tmp []keyItem) int64 {
 		for lo := 0; lo < n; lo += 2 * width {
 			mid := min(lo+width, n)
 			hi := min(lo+2*width, n)
-			if mid >= hi || src[mid-1].k <= src[mid].k {
+			if mid >= hi || src[mid-1] < src[mid] {
 				copy(dst[lo:hi], src[lo:hi])
 				continue
 			}
-			// Left items not above the right half's first stay in front,
-			// right items not below the left half's last stay at the back;
+			// Left items below the right half's first stay in front,
+			// right items above the left half's last stay at the back;
 			// only the overlap in between is merged.
-			i := searchAbove(src[lo:mid], src[mid].k) + lo
-			e := searchNotBelow(src[mid:hi], src[mid-1].k) + mid
+			i := searchAbove(src[lo:mid], src[mid]) + lo
+			e := searchAbove(src[mid:hi], src[mid-1]) + mid
 			copy(dst[lo:i], src[lo:i])
 			copy(dst[e:hi], src[e:hi])
 			j, k := mid, i
 			for i < mid && j < e {
 				// branch-free: c = 1 takes the right item (strictly smaller)
+				x, y := src[i], src[j]
 				c := 0
-				if src[j].k < src[i].k {
+				if y < x {
 					c = 1
 				}
-				dst[k] = src[i+(j-i)&-c]
+				dst[k] = min(x, y)
 				inv += int64((mid - i) & -c)
 				i += 1 - c
 				j += c
@@ -281,12 +304,12 @@ func mergeCountKeys(a, tmp []keyItem) int64 {
 	return inv
 }
 
-// searchAbove returns the first index of a (sorted by k) with k > v.
-func searchAbove(a []keyItem, v float64) int {
+// searchAbove returns the first index of a (sorted) with a value > v.
+func searchAbove(a []keyItem, v keyItem) int {
 	lo, hi := 0, len(a)
 	for lo < hi {
 		m := int(uint(lo+hi) >> 1)
-		if a[m].k > v {
+		if a[m] > v {
 			hi = m
 		} else {
 			lo = m + 1
@@ -295,23 +318,61 @@ func searchAbove(a []keyItem, v float64) int {
 	return lo
 }
 
-// searchNotBelow returns the first index of a (sorted by k) with k ≥ v.
-func searchNotBelow(a []keyItem, v float64) int {
-	lo, hi := 0, len(a)
-	for lo < hi {
-		m := int(uint(lo+hi) >> 1)
-		if a[m].k >= v {
-			hi = m
-		} else {
-			lo = m + 1
-		}
-	}
-	return lo
+// keyItem is a point's key at a cut and its position in the base order,
+// packed into one integer: the quantised key in the high bits, the
+// position in the low bits (keyQuant). Packed items compare as the keys
+// with ties broken by position (a stable sort), and an item moves as one
+// machine word.
+type keyItem uint64
+
+// keyQuant maps the floating-point keys k of one cut evaluation to
+// integers q = ⌊(k + K)·scale⌋, K the power of two at or above
+// M·(1 + 2⁻⁵⁰), M = max|y| + |s|·max|x| (so |k| < K), and scale = 2^(B−1)/K
+// a power of two: the product is exact, q is a non-decreasing function of
+// k and q ≤ 2^B. B = min(52, 63 − shift) leaves the low shift bits for
+// positions below 2^shift. The one rounding, of k + K (< 2K), is at most
+// 2^(B−53) ≤ ½ in units of q, so q_a − q_b > gap = ⌈keyTol·scale⌉ + 2
+// implies k_a − k_b > keyTol: items whose quantised keys differ by more
+// than gap are in the exact order, as keys farther apart than keyTol are.
+type keyQuant struct {
+	off, scale float64 // K and scale; scale 0: every q is 0
+	shift      uint
+	mask       uint64 // position bits
+	gap        uint64
 }
 
-type keyItem struct {
-	k float64
-	i int32
+func newKeyQuant(n int, M, keyTol float64) keyQuant {
+	shift := uint(bits.Len(uint(max(n-1, 1))))
+	q := keyQuant{shift: shift, mask: 1<<shift - 1, gap: 1 << 62}
+	B := min(52, 63-int(shift))
+	_, e := math.Frexp(M * (1 + 1.0/(1<<50))) // K = 2^e
+	if !(M > 0) || math.IsInf(M, 0) || B-1-e > 1000 || e > 1000 {
+		// No spread, extreme values or magnitudes too small to scale:
+		// every q is 0 and each block is one chain, sorted exactly.
+		return q
+	}
+	q.off, q.scale = math.Ldexp(1, e), math.Ldexp(1, B-1-e)
+	if gf := math.Ceil(keyTol*q.scale) + 2; gf < 1<<62 {
+		q.gap = uint64(gf)
+	}
+	return q
+}
+
+// pack fills items with the quantised keys y[p] − s·x[p] of the points p
+// of base and the positions off, off+1, …
+func (q *keyQuant) pack(items []keyItem, base []int32, y, x []float64, s float64, off int) {
+	base = base[:len(items)]
+	if q.scale == 0 {
+		for i := range items {
+			items[i] = keyItem(off + i)
+		}
+		return
+	}
+	K, scale, sh := q.off, q.scale, q.shift
+	for i, p := range base {
+		// (k + K)·scale < 2^52: the signed conversion is exact
+		items[i] = keyItem(uint64(int64((y[p]-s*x[p]+K)*scale))<<(sh&63) | uint64(off+i))
+	}
 }
 
 // permFor fills perm with the point order that realises cut c: pair a < b

@@ -26,6 +26,7 @@ type harvest struct {
 
 	// while sorting
 	base      []int32 // point at each position of the base order
+	mask      uint64  // position bits of a keyItem
 	tot, next int64   // inversions met so far; index of the next one drawn
 	lambda    float64 // −log(1 − p)
 	d         *senData
@@ -42,6 +43,9 @@ func (h *harvest) start(d *senData, base []int32) {
 		h.next = h.skip()
 	}
 }
+
+// pos is the base position of a packed item.
+func (h *harvest) pos(it keyItem) int32 { return int32(uint64(it) & h.mask) }
 
 // skip draws the gap before the next sampled inversion (geometric with
 // success probability p).
@@ -68,9 +72,9 @@ func (h *harvest) run(left []keyItem, r int32) {
 		}
 		pr := h.base[r]
 		out := h.items[k : k+len(left)]
-		pts, base := h.d.pts, h.base
+		pts, base, mask := h.d.pts, h.base, h.mask
 		for q, l := range left {
-			pl := base[l.i]
+			pl := base[uint64(l)&mask]
 			a, b := min(pl, pr), max(pl, pr)
 			pa, pb := &pts[a], &pts[b]
 			out[q] = slopeItem{(pb.y - pa.y) / (pb.t - pa.t), slopeRef{a, b}}
@@ -80,7 +84,7 @@ func (h *harvest) run(left []keyItem, r int32) {
 	}
 	c := int64(len(left))
 	for h.next < h.tot+c {
-		p := pairOf(h.base[left[h.next-h.tot].i], h.base[r])
+		p := pairOf(h.base[uint64(left[h.next-h.tot])&h.mask], h.base[r])
 		h.items = append(h.items, slopeItem{h.d.slopeF(p), p})
 		h.next += 1 + h.skip()
 	}
@@ -97,12 +101,12 @@ func mergeCountKeysHarvest(a, tmp []keyItem, h *harvest) int64 {
 		for i := lo + 1; i < hi; i++ {
 			v := a[i]
 			j := i
-			for j > lo && a[j-1].k > v.k {
+			for j > lo && a[j-1] > v {
 				j--
 			}
 			if j < i {
 				if h.enumerate || h.next < h.tot+int64(i-j) {
-					h.run(a[j:i], v.i)
+					h.run(a[j:i], h.pos(v))
 				} else {
 					h.tot += int64(i - j)
 				}
@@ -117,22 +121,22 @@ func mergeCountKeysHarvest(a, tmp []keyItem, h *harvest) int64 {
 		for lo := 0; lo < n; lo += 2 * width {
 			mid := min(lo+width, n)
 			hi := min(lo+2*width, n)
-			if mid >= hi || src[mid-1].k <= src[mid].k {
+			if mid >= hi || src[mid-1] < src[mid] {
 				copy(dst[lo:hi], src[lo:hi])
 				continue
 			}
-			i := searchAbove(src[lo:mid], src[mid].k) + lo
-			e := searchNotBelow(src[mid:hi], src[mid-1].k) + mid
+			i := searchAbove(src[lo:mid], src[mid]) + lo
+			e := searchAbove(src[mid:hi], src[mid-1]) + mid
 			copy(dst[lo:i], src[lo:i])
 			copy(dst[e:hi], src[e:hi])
 			j, k := mid, i
 			if h.enumerate {
 				for i < mid && j < e {
-					if src[i].k <= src[j].k {
+					if src[i] < src[j] {
 						dst[k] = src[i]
 						i++
 					} else {
-						h.run(src[i:mid], src[j].i)
+						h.run(src[i:mid], h.pos(src[j]))
 						dst[k] = src[j]
 						inv += int64(mid - i)
 						j++
@@ -143,17 +147,18 @@ func mergeCountKeysHarvest(a, tmp []keyItem, h *harvest) int64 {
 				// branch-free as in mergeCountKeys; the rare run holding a
 				// draw is handed to h
 				for i < mid && j < e {
+					x, y := src[i], src[j]
 					c := 0
-					if src[j].k < src[i].k {
+					if y < x {
 						c = 1
 					}
 					r := int64((mid - i) & -c)
 					if h.next < h.tot+r {
-						h.run(src[i:mid], src[j].i)
+						h.run(src[i:mid], h.pos(y))
 					} else {
 						h.tot += r
 					}
-					dst[k] = src[i+(j-i)&-c]
+					dst[k] = min(x, y)
 					inv += r
 					i += 1 - c
 					j += c
@@ -182,19 +187,19 @@ func insertionCountKeysHarvest(a, tmp []keyItem, h *harvest, budget int) int64 {
 	var inv int64
 	for i := 1; i < len(a); i++ {
 		v := a[i]
-		if a[i-1].k <= v.k {
+		if a[i-1] < v {
 			continue
 		}
 		// shift the items above v up by one while looking for its place
 		j := i - 1
 		a[i] = a[j]
-		for j > 0 && a[j-1].k > v.k {
+		for j > 0 && a[j-1] > v {
 			a[j] = a[j-1]
 			j--
 		}
 		a[j] = v
 		if h != nil {
-			h.run(a[j+1:i+1], v.i) // the items v passed, in their order
+			h.run(a[j+1:i+1], h.pos(v)) // the items v passed, in their order
 		}
 		inv += int64(i - j)
 		if budget -= i - j; budget < 0 {
