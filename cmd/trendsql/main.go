@@ -17,7 +17,9 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"regexp"
 	"runtime/pprof"
+	"strings"
 	"syscall"
 )
 
@@ -46,6 +48,7 @@ func Main(args []string, in io.Reader, out, errw io.Writer) int {
 	if err == nil {
 		return ExitOK
 	}
+	err = wordUnknownCommand(err)
 	var ee *exitError
 	if !errors.As(err, &ee) && isBusyError(err) {
 		err = &exitError{code: ExitNothing, err: wordBusyError(err)}
@@ -77,4 +80,33 @@ func startCPUProfile(path string) (func(), error) {
 		return nil, fmt.Errorf("%s: %w", EnvCPUProfile, err)
 	}
 	return func() { pprof.StopCPUProfile(); file.Close() }, nil
+}
+
+// cobraUnknownRE reads cobra's unknown-command error: `unknown command "x"
+// for "trendsql import"`, then suggestions on lines of their own.
+var cobraUnknownRE = regexp.MustCompile(`^unknown command ("[^"]*") for "([^"]*)"`)
+
+// wordUnknownCommand puts cobra's unknown-command error on one line without
+// the program name (Main prints it once) and with its suggestions, e.g.
+// unknown command "querry" (did you mean query?), and where to find the list.
+func wordUnknownCommand(err error) error {
+	first, rest, _ := strings.Cut(err.Error(), "\n")
+	m := cobraUnknownRE.FindStringSubmatch(first)
+	if m == nil {
+		return err
+	}
+	msg := "unknown command " + m[1]
+	if _, sub, ok := strings.Cut(m[2], " "); ok {
+		msg = sub + ": " + msg
+	}
+	var near []string
+	for _, l := range strings.Split(rest, "\n") {
+		if l = strings.TrimSpace(l); l != "" && !strings.HasSuffix(l, "?") {
+			near = append(near, l)
+		}
+	}
+	if len(near) > 0 {
+		msg += " (did you mean " + strings.Join(near, " or ") + "?)"
+	}
+	return &usageMarker{fmt.Errorf("%s; see `%s --help`", msg, m[2])}
 }

@@ -77,6 +77,7 @@ func TestMainUsageErrors(t *testing.T) {
 		{"query", "--file", "q.sql", "SELECT 1"},
 		{"version", "extra"},
 		{"no-such-command"},
+		{"querry", "SELECT 1"},
 	}
 	for _, args := range cases {
 		var out, errw bytes.Buffer
@@ -90,6 +91,12 @@ func TestMainUsageErrors(t *testing.T) {
 		if strings.Count(errw.String(), "trendsql:") != 1 || strings.HasPrefix(errw.String(), "trendsql: trendsql") {
 			t.Errorf("trendsql %q: the program name is repeated in %q", args, errw.String())
 		}
+	}
+	// A mistyped command gets the suggestion on the same line.
+	var out, errw bytes.Buffer
+	Main([]string{"querry", "SELECT 1"}, strings.NewReader(""), &out, &errw)
+	if want := "trendsql: unknown command \"querry\" (did you mean query?); see `trendsql --help`\n"; errw.String() != want {
+		t.Errorf("mistyped command: %q, want %q", errw.String(), want)
 	}
 }
 
