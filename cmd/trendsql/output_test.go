@@ -150,6 +150,10 @@ func TestQueryFromFileStdinAndToFile(t *testing.T) {
 	if code != 0 || out != "n\n2\n" {
 		t.Errorf("stdin: exit %d, %q", code, out)
 	}
+	out, _, code = runIn("SELECT count(*) AS n FROM stations;", "--db", db, "query", "--format", "csv", "--file", "-")
+	if code != 0 || out != "n\n2\n" {
+		t.Errorf("--file - (standard input): exit %d, %q", code, out)
+	}
 	// --out: format from the extension, nothing on stdout, no partial file.
 	csvOut := filepath.Join(dir, "st.csv")
 	out, errs, code = runIn("", "--db", db, "query", "--out", csvOut, "SELECT id, name FROM stations ORDER BY id")

@@ -120,7 +120,7 @@ fields format, nothing is cut. In json output an infinite REAL is the string
 		},
 	}
 	addResultFlags(c, &o.results)
-	c.Flags().StringVar(&o.file, "file", "", "read the SQL statements from this file")
+	c.Flags().StringVar(&o.file, "file", "", "read the SQL statements from this file (- for standard input)")
 	c.Flags().BoolVar(&o.write, "write", false, "open the store writable so statements may change it")
 	e.addWaitFlag(c)
 	c.Flags().BoolVar(&o.unsafePragmas, "allow-unsafe-pragmas", false, unsafePragmasUsage)
@@ -131,16 +131,19 @@ fields format, nothing is cut. In json output an infinite REAL is the string
 func runQuery(ctx context.Context, e *env, o queryOptions) error {
 	text := o.sql
 	switch {
-	case o.file != "":
-		b, err := os.ReadFile(o.file)
-		if err != nil {
-			return fmt.Errorf("query: --file: %w", err)
-		}
-		text = string(b)
+	case o.file == "-":
+		o.sql = "-" // --file - reads standard input, as import's "-" does
+		fallthrough
 	case o.sql == "-":
 		b, err := io.ReadAll(e.in)
 		if err != nil {
 			return fmt.Errorf("query: reading standard input: %w", err)
+		}
+		text = string(b)
+	case o.file != "":
+		b, err := os.ReadFile(o.file)
+		if err != nil {
+			return fmt.Errorf("query: --file: %w", err)
 		}
 		text = string(b)
 	}
