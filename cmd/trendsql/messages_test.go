@@ -34,6 +34,9 @@ func TestOnlyInitAndDemoCreateAStore(t *testing.T) {
 		{"query", "--write", "SELECT 1"},
 		{"query", "SELECT 1"},
 		{"shell", "--write"},
+		{"shell"},
+		{"report", "--out", filepath.Join(dir, "report")},
+		{"check"},
 	} {
 		_, errs, code := runIn("", append([]string{"--db", missing}, args...)...)
 		if code != ExitFailed || !strings.Contains(errs, missing) || !strings.Contains(errs, "trendsql init") {
