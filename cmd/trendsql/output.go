@@ -241,7 +241,7 @@ func writeTable(w io.Writer, cols []string, vals []any, next func() (bool, error
 	if t.width == nil {
 		t.start(buffered)
 	}
-	_, err := io.WriteString(w, rowCount(n, t.cut)+"\n")
+	_, err := io.WriteString(w, t.footer(n)+"\n")
 	return n, err
 }
 
@@ -255,6 +255,16 @@ func rowCount(n int, cut bool) string {
 		s += " (cells ending in " + cutMark + " are cut to fit the terminal; --format csv or fields, or --out FILE, shows them whole)"
 	}
 	return s
+}
+
+// footer is the line under the table: the row count, what was cut, and
+// when even cut rows are wider than the terminal (they wrap), the layout
+// that reads them.
+func (t *table) footer(n int) string {
+	if t.tooWide {
+		return rowCount(n, false) + " (rows are wider than the terminal even with cells cut to " + strconv.Itoa(minCutWidth) + " characters: --format fields shows one field per line)"
+	}
+	return rowCount(n, t.cut)
 }
 
 // plural words a count: "1 row", "2 rows".
@@ -273,6 +283,7 @@ type table struct {
 	maxWidth int   // terminal width to fit, 0 = none
 	width    []int // column widths, set by start
 	cut      bool  // a cell was cut
+	tooWide  bool  // rows are wider than maxWidth even with cut cells
 }
 
 // drawTable prints a complete table (header, rule and rows) without a row
@@ -325,6 +336,7 @@ func (t *table) fit() {
 			}
 		}
 		if t.width[widest] <= minCutWidth {
+			t.tooWide = true
 			return
 		}
 		t.width[widest]--

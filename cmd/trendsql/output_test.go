@@ -9,6 +9,7 @@ import (
 	"bytes"
 	"encoding/csv"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -58,6 +59,22 @@ func TestTableFitsTerminalAndMarksCuts(t *testing.T) {
 	writeRows(&b, &memRows{cols: []string{"x"}}, outputOptions{format: FormatTable})
 	if !strings.HasSuffix(b.String(), "→ no rows\n") {
 		t.Errorf("empty result footer: %q", b.String())
+	}
+
+	// Rows that cannot fit even with every cell cut to minCutWidth (ten
+	// columns of 20 characters on a 40-column terminal) point to the
+	// one-field-per-line layout.
+	wide := &memRows{}
+	var cells []any
+	for i := range 10 {
+		wide.cols = append(wide.cols, fmt.Sprintf("column_%d", i))
+		cells = append(cells, strings.Repeat("x", 20))
+	}
+	wide.rows = [][]any{cells}
+	b.Reset()
+	writeRows(&b, wide, outputOptions{format: FormatTable, width: 40})
+	if !strings.HasSuffix(b.String(), "→ 1 row (rows are wider than the terminal even with cells cut to 8 characters: --format fields shows one field per line)\n") {
+		t.Errorf("too wide a table: %q", b.String())
 	}
 
 	// A column whose name and first tableBuffer cells are empty text, and a
