@@ -9,6 +9,8 @@ import (
 	"strings"
 
 	"golang.org/x/term"
+
+	"trendsql/store"
 )
 
 // formatForFile picks the format of results written to path: the given
@@ -96,4 +98,19 @@ func terminalWidth(w io.Writer) int {
 		return 0
 	}
 	return width
+}
+
+// isStoreFile reports whether path is the store at dbPath or one of its
+// companion files (the WAL journal, its index, the summarize lock).
+func isStoreFile(path, dbPath string) bool {
+	out, err := os.Stat(path)
+	if err != nil {
+		return false
+	}
+	for _, suffix := range []string{"", "-wal", "-shm", "-journal", store.SummarizeLockSuffix} {
+		if st, err := os.Stat(dbPath + suffix); err == nil && os.SameFile(out, st) {
+			return true
+		}
+	}
+	return false
 }

@@ -167,6 +167,14 @@ func TestQueryFromFileStdinAndToFile(t *testing.T) {
 	if code != 0 || out != "n\n2\n" {
 		t.Errorf("stdin: exit %d, %q", code, out)
 	}
+	// The store itself is never an --out file, --force or not.
+	before, _ := os.ReadFile(db)
+	if _, errs, code := runIn("", "--db", db, "query", "--format", "csv", "--force", "--out", db, "SELECT 1"); code != ExitUsage || !strings.Contains(errs, "is the store itself") {
+		t.Errorf("--out the store: exit %d, %q", code, errs)
+	}
+	if after, _ := os.ReadFile(db); !bytes.Equal(before, after) {
+		t.Error("--out replaced the store")
+	}
 	out, _, code = runIn("SELECT count(*) AS n FROM stations;", "--db", db, "query", "--format", "csv", "--file", "-")
 	if code != 0 || out != "n\n2\n" {
 		t.Errorf("--file - (standard input): exit %d, %q", code, out)

@@ -55,6 +55,9 @@ func (r resultFlags) resolve(cmdName string, e *env) (outputOptions, io.Writer, 
 		o.width = terminalWidth(e.out)
 		return o, e.out, noop, nil
 	}
+	if isStoreFile(r.out, e.dbPath()) {
+		return o, nil, noop, usageErr("%s: --out %s is the store itself (or its journal); results never replace it, --force or not", cmdName, r.out)
+	}
 	f, err := createResultFile(r.out, r.force)
 	if err != nil {
 		return o, nil, noop, fmt.Errorf("%s: --out: %w", cmdName, err)
