@@ -39,8 +39,10 @@ package stats
 // returned value is that slope correctly rounded. Random sampling affects
 // only the running time. Memory is O(n) throughout (samples and listed
 // windows hold at most 8n pairs each, up to twelve orders of n points are
-// cached; above 2^18 points at most n pairs each and six orders); the
-// scratch buffers are pooled between calls. A caller whose interval
+// cached; above 2^18 points listed windows and the first sample at most
+// n/2 pairs each, later samples about n/4, four orders); the scratch
+// buffers are pooled between calls, except those of a series longer than
+// 2^18 points. A caller whose interval
 // variance depends on the median selects both on one state (senSession).
 //
 // The same machinery selects over the union of within-block pairs (blocks
@@ -149,11 +151,14 @@ func senSlopeBlocks(t, y []float64, blocks []int, confidence, varS float64, medi
 	if medians {
 		res.MedianY = medianOfSorted(ys)
 	}
+	if interval && varS == 0 && len(blocks) == 2 {
+		varS = mkVarSSorted(ys)
+	}
+	if n > bigSen {
+		d.sorted = nil // not kept through the selection of a long series
+	}
 	ks := d.medianRanks()
 	if interval {
-		if varS == 0 && len(blocks) == 2 {
-			varS = mkVarSSorted(ys)
-		}
 		res.setIntervalRanks(confidence, varS)
 		ks = append(ks, res.LowerRank, res.UpperRank)
 	}
@@ -265,6 +270,9 @@ func (s *senSession) withInterval(confidence, varS float64) (SenResult, error) {
 		copy(d.sorted, d.y)
 		d.sortFloats(d.sorted)
 		varS = mkVarSSorted(d.sorted)
+		if d.n > bigSen {
+			d.sorted = nil
+		}
 	}
 	res := s.res
 	res.setIntervalRanks(confidence, varS)
@@ -287,11 +295,32 @@ func (s *senSession) close() {
 // order-preserving integer image of each value (sign bit set for
 // non-negative values, all bits flipped for negative ones). Passes whose
 // digit is the same for every value are skipped. Short slices use
-// slices.Sort.
+// slices.Sort; so do slices longer than bigSen (in place, no scratch of
+// 16 bytes per value), followed by ordering a run of zeros −0 first as
+// the radix sort leaves it.
 func (d *senData) sortFloats(s []float64) {
 	n := len(s)
 	if n < 512 {
 		slices.Sort(s)
+		return
+	}
+	if n > bigSen {
+		// no scratch: a comparison sort in place, then the zeros of a
+		// run of ±0 ordered by sign as the radix sort leaves them
+		slices.Sort(s)
+		lo, _ := slices.BinarySearch(s, 0)
+		neg := 0
+		for i := lo; i < n && s[i] == 0; i++ {
+			if math.Signbit(s[i]) {
+				neg++
+			}
+		}
+		for i := lo; i < n && s[i] == 0; i++ {
+			s[i] = 0
+			if i-lo < neg {
+				s[i] = math.Copysign(0, -1)
+			}
+		}
 		return
 	}
 	d.radixA = grow(d.radixA, n)

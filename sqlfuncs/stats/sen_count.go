@@ -9,8 +9,9 @@ import (
 	"slices"
 )
 
-// setKeys prepares the floating-point keys b_i(s) = y_i − s·x_i at the
-// slope estimate s of v (key) and the bound keyTol on the error of a
+// setKeys prepares the floating-point keys b_i(s) = y_i − s·x_i, x_i the
+// rounded t_i − t_0 (formed with each key), at the slope estimate s of v
+// (key) and the bound keyTol on the error of a
 // difference of two keys.
 //
 // Each key is within 6u·(|y_i| + |s·x_i|) of the exact b_i(v) − v·t_0
@@ -25,7 +26,7 @@ func (d *senData) setKeys(v slopeRef) {
 }
 
 // key is b_i at the slope estimate set by setKeys.
-func (d *senData) key(i int32) float64 { return d.y[i] - d.s*d.x[i] }
+func (d *senData) key(i int32) float64 { return d.y[i] - d.s*(d.t[i]-d.t[0]) }
 
 // cmpPts compares b_i and b_j at the slope v exactly (keys must be set).
 func (d *senData) cmpPts(i, j int32, v slopeRef) int {
@@ -82,7 +83,7 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest, nea
 	d.work = grow(d.work, d.n)
 	d.tmp = grow(d.tmp, d.n)
 	d.items = grow(d.items, 2*d.n)
-	sv, x, y := d.s, d.x, d.y
+	sv, t, y := d.s, d.t, d.y
 	q := newKeyQuant(d.n, d.maxAbsY+math.Abs(sv)*d.maxAbsX, d.keyTol)
 	if h != nil {
 		h.mask = q.mask
@@ -101,7 +102,7 @@ func (d *senData) evalCut(v slopeRef, perm []int32, from *order, h *harvest, nea
 	for b := 0; b+1 < len(d.blocks); b++ {
 		lo, hi := d.blocks[b], d.blocks[b+1]
 		items := d.items[lo:hi]
-		q.pack(items, base[lo:hi], y, x, sv, lo)
+		q.pack(items, base[lo:hi], y, t, sv, lo)
 		switch {
 		case insertion:
 			// few inversions expected: one insertion sort
@@ -358,9 +359,9 @@ func newKeyQuant(n int, M, keyTol float64) keyQuant {
 	return q
 }
 
-// pack fills items with the quantised keys y[p] − s·x[p] of the points p
-// of base and the positions off, off+1, …
-func (q *keyQuant) pack(items []keyItem, base []int32, y, x []float64, s float64, off int) {
+// pack fills items with the quantised keys y[p] − s·(t[p] − t[0]) of the
+// points p of base and the positions off, off+1, …
+func (q *keyQuant) pack(items []keyItem, base []int32, y, t []float64, s float64, off int) {
 	base = base[:len(items)]
 	if q.scale == 0 {
 		for i := range items {
@@ -368,10 +369,10 @@ func (q *keyQuant) pack(items []keyItem, base []int32, y, x []float64, s float64
 		}
 		return
 	}
-	K, scale, sh := q.off, q.scale, q.shift
+	K, scale, sh, t0 := q.off, q.scale, q.shift, t[0]
 	for i, p := range base {
 		// (k + K)·scale < 2^52: the signed conversion is exact
-		items[i] = keyItem(uint64(int64((y[p]-s*x[p]+K)*scale))<<(sh&63) | uint64(off+i))
+		items[i] = keyItem(uint64(int64((y[p]-s*(t[p]-t0)+K)*scale))<<(sh&63) | uint64(off+i))
 	}
 }
 

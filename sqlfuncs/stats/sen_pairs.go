@@ -17,8 +17,8 @@ func (d *senData) interval(lo, hi cut) (seq, pHi []int32) {
 	pLo, pHi := d.ivLo, d.ivHi
 	d.permFor(lo, pLo)
 	d.permFor(hi, pHi)
-	d.ivPos = grow(d.ivPos, d.n)
-	pos := d.ivPos
+	d.work = grow(d.work, d.n) // free here: evalCut's scratch
+	pos := d.work
 	for w, p := range pHi {
 		pos[p] = int32(w)
 	}
@@ -55,8 +55,8 @@ func (d *senData) sampleBetween(lo, hi cut, m int, total int64) []slopeItem {
 		p := pairOf(pHi[a], pHi[b])
 		out = append(out, slopeItem{d.slopeF(p), p})
 	}
-	d.enumTmp = grow(d.enumTmp, len(seq))
-	mergeSample(seq, d.enumTmp, draws, emit)
+	d.tmp = grow(d.tmp, len(seq)) // free here: evalCut's scratch
+	mergeSample(seq, d.tmp, draws, emit)
 	d.sample, d.sampleIsAll = out, false
 	return out
 }

@@ -26,8 +26,7 @@ type cut struct {
 
 type senData struct {
 	t, y             []float64
-	x                []float64 // t − t[0], for floating-point keys
-	pts              []point   // (t, y)
+	pts              []point // (t, y)
 	maxAbsX, maxAbsY float64
 	blocks           []int // block b is points blocks[b]..blocks[b+1]-1
 	n                int
@@ -53,8 +52,6 @@ type senData struct {
 	perm      []int32
 	ivLo      []int32
 	ivHi      []int32
-	ivPos     []int32
-	enumTmp   []int32
 	spacing   []float64
 	draws     []int64
 	sample    []slopeItem
@@ -93,13 +90,11 @@ func newSenData(t, y []float64, blocks []int) *senData {
 	n := len(t)
 	d := senPool.Get().(*senData)
 	d.t, d.y, d.blocks, d.n, d.pairs = t, y, blocks, n, 0
-	d.x = grow(d.x, n)
 	d.pts = grow(d.pts, n)
 	d.maxAbsX, d.maxAbsY = 0, 0
 	for i := range t {
 		d.pts[i] = point{t[i], y[i]}
-		d.x[i] = t[i] - t[0]
-		d.maxAbsX = max(d.maxAbsX, math.Abs(d.x[i]))
+		d.maxAbsX = max(d.maxAbsX, math.Abs(t[i]-t[0]))
 		d.maxAbsY = max(d.maxAbsY, math.Abs(y[i]))
 	}
 	for b := 0; b+1 < len(blocks); b++ {
@@ -119,9 +114,9 @@ func newSenData(t, y []float64, blocks []int) *senData {
 		// Long series: smaller samples, listings and order cache keep
 		// the selection's memory near 100 bytes per point, for a round
 		// or two more of cut evaluations.
-		d.limit = int64(n)
-		d.mFirst, d.mNext = n, n
-		d.maxOrders = 6
+		d.limit = int64(n / 2)
+		d.mFirst, d.mNext = n/2, n/4
+		d.maxOrders = 4
 	}
 	d.dropOrders()
 	d.cuts, d.tieBlocks = d.cuts[:0], d.tieBlocks[:0]
@@ -130,10 +125,30 @@ func newSenData(t, y []float64, blocks []int) *senData {
 }
 
 // release returns d's buffers to the pool; d must not be used afterwards.
+// The buffers of a series longer than bigSen are not kept: they would hold
+// about a hundred bytes per point of that series while the caller goes on
+// (the Hamed–Rao ranks, the next aggregate).
 func (d *senData) release() {
+	big := d.n > bigSen
 	d.t, d.y, d.blocks = nil, nil, nil
 	d.dropOrders()
+	if big {
+		*d = senData{}
+	}
 	senPool.Put(d)
+}
+
+// dropHarvest ends h's use in this selection: its slot, with its buffer,
+// goes to the next newHarvest.
+func (d *senData) dropHarvest(h *harvest) {
+	for i, g := range d.harvests {
+		if g == h {
+			last := len(d.harvests) - 1
+			d.harvests[i], d.harvests[last] = d.harvests[last], h
+			d.harvests = d.harvests[:last]
+			return
+		}
+	}
 }
 
 // dropOrders empties the order cache, keeping its buffers.
@@ -290,7 +305,8 @@ func (d *senData) selectRanks(ks []int64) []slopeRef {
 			// off+1 .. off+len(items).
 			var items []slopeItem
 			off := lo.count
-			if h := d.harvestFor(lo, hi, true); h != nil {
+			h := d.harvestFor(lo, hi, true)
+			if h != nil {
 				items, off = h.items, h.lessLo
 			} else {
 				items = d.enumerateBetween(lo, hi, T)
@@ -298,14 +314,18 @@ func (d *senData) selectRanks(ks []int64) []slopeRef {
 			for _, i := range group {
 				out[i] = d.exactSelect(items, int(ks[i]-off-1))
 			}
+			if h != nil {
+				d.dropHarvest(h) // no later bracket is this one
+			}
 			pending = others
 			continue
 		}
 		// A sample of the pairs with ranks popLo+1 .. popLo+pop.
 		var it []slopeItem
 		popLo, pop := lo.count, T
-		if h := d.harvestFor(lo, hi, false); h != nil && len(h.items) >= 256 {
-			it, popLo, pop = h.items, h.lessLo, h.lessHi-h.lessLo
+		used := d.harvestFor(lo, hi, false)
+		if used != nil && len(used.items) >= 256 {
+			it, popLo, pop = used.items, used.lessLo, used.lessHi-used.lessLo
 		} else if lo.inf == -1 && hi.inf == 1 {
 			it = d.sampleAll(int(min(int64(d.mFirst), T)))
 		} else if d.sampleIsAll && 4*T > d.pairs {
@@ -361,6 +381,9 @@ func (d *senData) selectRanks(ks []int64) []slopeRef {
 		for q, j := range at {
 			vs[q] = it[j].r
 		}
+		if used != nil {
+			d.dropHarvest(used) // no later bracket is this one
+		}
 		upper := make(map[int]bool, len(spans)) // at index of a window's upper bound
 		for _, sp := range spans {
 			if sp.li >= 0 && sp.ui < m && sp.li < sp.ui {
@@ -383,10 +406,18 @@ func (d *senData) selectRanks(ks []int64) []slopeRef {
 				continue
 			}
 			h := d.newHarvest()
+			want := 0.0 // expected number of pairs gathered
 			if e <= float64(d.limit) {
 				h.enumerate, h.limit = true, int(d.limit)
+				want = e
 			} else {
 				h.enumerate, h.p = false, float64(d.sampleSize(e))/e
+				want = h.p * e
+			}
+			if d.n > bigSen {
+				// sized once with a margin: growing by append would
+				// allocate several times the final size on a long series
+				h.items = slices.Grow(h.items[:0], int(min(1.25*want+4096, float64(d.limit))))
 			}
 			if !d.tryCut(v, perm, from, h, e) {
 				d.harvests = d.harvests[:len(d.harvests)-1]

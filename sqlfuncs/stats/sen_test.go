@@ -405,7 +405,7 @@ func TestSenOrderStatisticsMatchEnumeration(t *testing.T) {
 func TestSortFloatsMatchesSort(t *testing.T) {
 	rng := rand.New(rand.NewPCG(13, 17))
 	d := new(senData)
-	for _, n := range []int{0, 1, 5, 511, 512, 513, 3000, 20000} {
+	for _, n := range []int{0, 1, 5, 511, 512, 513, 3000, 20000, bigSen + 3} {
 		for kind := 0; kind < 3; kind++ {
 			s := make([]float64, n)
 			for i := range s {
@@ -424,6 +424,12 @@ func TestSortFloatsMatchesSort(t *testing.T) {
 			for i := range s {
 				if s[i] != want[i] { // −0 == +0: the order between zeros of the two signs is free, as in slices.Sort
 					t.Fatalf("n=%d kind=%d: position %d is %v, sorted %v", n, kind, i, s[i], want[i])
+				}
+				// from 512 values on, both sorts used (radix, and
+				// slices.Sort beyond bigSen) leave −0 before +0 (the
+				// order of their integer images)
+				if n >= 512 && i > 0 && s[i] == 0 && s[i-1] == 0 && math.Signbit(s[i]) && !math.Signbit(s[i-1]) {
+					t.Fatalf("n=%d kind=%d: +0 before −0 at position %d", n, kind, i)
 				}
 			}
 		}
