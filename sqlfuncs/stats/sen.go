@@ -40,7 +40,7 @@ package stats
 // only the running time. Memory is O(n) throughout (samples and listed
 // windows hold at most 8n pairs each, up to twelve orders of n points are
 // cached; above 2^18 points listed windows and the first sample at most
-// n/2 pairs each, later samples about n/4, four orders); the scratch
+// n/2 pairs each, later samples about n/4, three orders); the scratch
 // buffers are pooled between calls, except those of a series longer than
 // 2^18 points. A caller whose interval
 // variance depends on the median selects both on one state (senSession).

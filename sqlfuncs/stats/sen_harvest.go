@@ -73,6 +73,16 @@ func (h *harvest) run(left []keyItem, r int32) {
 		pr := h.base[r]
 		out := h.items[k : k+len(left)]
 		pts, base, mask := h.d.pts, h.base, h.mask
+		if len(pts) == 0 { // a long series: no copy of t and y
+			t, y := h.d.t, h.d.y
+			for q, l := range left {
+				pl := base[uint64(l)&mask]
+				a, b := min(pl, pr), max(pl, pr)
+				out[q] = slopeItem{(y[b] - y[a]) / (t[b] - t[a]), slopeRef{a, b}}
+			}
+			h.items = h.items[:k+len(left)]
+			return
+		}
 		for q, l := range left {
 			pl := base[uint64(l)&mask]
 			a, b := min(pl, pr), max(pl, pr)

@@ -12,9 +12,9 @@ import (
 // interval builds seq (positions in the hi order, listed in lo order) and
 // the hi permutation; inversions of seq are the pairs between the cuts.
 func (d *senData) interval(lo, hi cut) (seq, pHi []int32) {
-	d.ivLo = grow(d.ivLo, d.n)
+	d.perm = grow(d.perm, d.n) // free here: the order a cut evaluation leaves
 	d.ivHi = grow(d.ivHi, d.n)
-	pLo, pHi := d.ivLo, d.ivHi
+	pLo, pHi := d.perm, d.ivHi
 	d.permFor(lo, pLo)
 	d.permFor(hi, pHi)
 	d.work = grow(d.work, d.n) // free here: evalCut's scratch

@@ -8,6 +8,7 @@ import (
 	"cmp"
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"slices"
 	"sync"
 )
@@ -26,7 +27,7 @@ type cut struct {
 
 type senData struct {
 	t, y             []float64
-	pts              []point // (t, y)
+	pts              []point // (t, y); empty above bigSen points
 	maxAbsX, maxAbsY float64
 	blocks           []int // block b is points blocks[b]..blocks[b+1]-1
 	n                int
@@ -50,7 +51,6 @@ type senData struct {
 	orders    []order // orders of evaluated cuts (v, <), oldest first
 	ident     []int32 // 0..n−1
 	perm      []int32
-	ivLo      []int32
 	ivHi      []int32
 	spacing   []float64
 	draws     []int64
@@ -90,10 +90,15 @@ func newSenData(t, y []float64, blocks []int) *senData {
 	n := len(t)
 	d := senPool.Get().(*senData)
 	d.t, d.y, d.blocks, d.n, d.pairs = t, y, blocks, n, 0
-	d.pts = grow(d.pts, n)
+	d.pts = d.pts[:0]
+	if n <= bigSen {
+		d.pts = grow(d.pts, n)
+	}
 	d.maxAbsX, d.maxAbsY = 0, 0
 	for i := range t {
-		d.pts[i] = point{t[i], y[i]}
+		if n <= bigSen {
+			d.pts[i] = point{t[i], y[i]}
+		}
 		d.maxAbsX = max(d.maxAbsX, math.Abs(t[i]-t[0]))
 		d.maxAbsY = max(d.maxAbsY, math.Abs(y[i]))
 	}
@@ -116,7 +121,7 @@ func newSenData(t, y []float64, blocks []int) *senData {
 		// or two more of cut evaluations.
 		d.limit = int64(n / 2)
 		d.mFirst, d.mNext = n/2, n/4
-		d.maxOrders = 4
+		d.maxOrders = 3
 	}
 	d.dropOrders()
 	d.cuts, d.tieBlocks = d.cuts[:0], d.tieBlocks[:0]
@@ -134,6 +139,11 @@ func (d *senData) release() {
 	d.dropOrders()
 	if big {
 		*d = senData{}
+		// a collection now lets the caller's next step reuse the
+		// selection's memory (about a hundred bytes per point) instead
+		// of adding to it until the heap reaches the collector's goal;
+		// one cycle costs far less than the selection
+		runtime.GC()
 	}
 	senPool.Put(d)
 }
@@ -158,6 +168,9 @@ func (d *senData) dropOrders() {
 
 // slopeF is the floating-point estimate of a slope (relative error ≤ 3u).
 func (d *senData) slopeF(r slopeRef) float64 {
+	if len(d.pts) == 0 { // a long series: no copy of t and y
+		return (d.y[r.b] - d.y[r.a]) / (d.t[r.b] - d.t[r.a])
+	}
 	pa, pb := &d.pts[r.a], &d.pts[r.b]
 	return (pb.y - pa.y) / (pb.t - pa.t)
 }

@@ -147,6 +147,64 @@ func TestSenBlocksMatchBruteForce(t *testing.T) {
 	}
 }
 
+// TestSenLongSeriesPathMatchesBruteForce runs the selection with the
+// settings of a series longer than bigSen points (no copy of t and y,
+// samples and listings of n/4 and n/2 pairs sized once, three cached
+// orders, buffers not pooled) on blocks of 24 consecutive points, whose
+// within-block pairs (about 3 million) can still be sorted exactly, and
+// checks the median, the interval's ranks and random ranks against that
+// order.
+func TestSenLongSeriesPathMatchesBruteForce(t *testing.T) {
+	if testing.Short() {
+		t.Skip("sorts about 3 million slopes")
+	}
+	rng := rand.New(rand.NewPCG(41, 43))
+	n := bigSen + 2000
+	for _, kind := range []int{2, 5} {
+		tt, yy := randSeries(rng, n, kind)
+		blocks := []int{0}
+		for b := 24; b < n; b += 24 {
+			blocks = append(blocks, b)
+		}
+		blocks = append(blocks, n)
+		d, order := bruteOrder(tt, yy, blocks)
+		N := int64(len(order))
+		fast := newSenData(tt, yy, blocks)
+		if len(fast.pts) != 0 || fast.maxOrders != 3 {
+			t.Fatalf("n=%d: not the long-series settings", n)
+		}
+		ks := []int64{(N + 1) / 2, N/2 + 1, N/2 - N/50, N/2 + N/50, 1, N, 1 + rng.Int64N(N), 1 + rng.Int64N(N)}
+		got := fast.selectRanks(ks)
+		fast.release()
+		for i, k := range ks {
+			want := order[k-1]
+			if d.cmpSlopes(got[i], want, d.slopeF(got[i]), d.slopeF(want)) != 0 {
+				t.Fatalf("kind=%d rank %d of %d: selected %v, brute force %v", kind, k, N, d.slopeF(got[i]), d.slopeF(want))
+			}
+		}
+		// the whole estimate with its interval and medians
+		res, err := senSlopeBlocks(tt, yy, blocks, 0.95, 1e9, true)
+		if err != nil {
+			t.Fatal(err)
+		}
+		lo, hi := d.exactSlope(order[(N+1)/2-1]), d.exactSlope(order[N/2])
+		want := lo
+		if N%2 == 0 {
+			want = (lo + hi) / 2
+		}
+		if res.Slope != want {
+			t.Fatalf("kind=%d: slope %v, brute force %v", kind, res.Slope, want)
+		}
+		if res.Lower != d.exactSlope(order[res.LowerRank-1]) || res.Upper != d.exactSlope(order[res.UpperRank-1]) {
+			t.Fatalf("kind=%d: interval %v..%v (ranks %d, %d), brute force %v..%v", kind, res.Lower, res.Upper,
+				res.LowerRank, res.UpperRank, d.exactSlope(order[res.LowerRank-1]), d.exactSlope(order[res.UpperRank-1]))
+		}
+		if res.MedianY != Median(yy) || res.MedianT != Median(tt) {
+			t.Fatalf("kind=%d: medians %v, %v; want %v, %v", kind, res.MedianT, res.MedianY, Median(tt), Median(yy))
+		}
+	}
+}
+
 // TestSenSelectionSmallRounds forces tiny samples, enumeration limits and
 // order caches (as long series use smaller ones) so that selection goes
 // through many rounds (windows that miss their target,
