@@ -62,6 +62,7 @@ import (
 	"slices"
 	"strconv"
 
+	"gonum.org/v1/gonum/dsp/fourier"
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -185,10 +186,36 @@ func rankACFSignificant(r float64, n, k int, b RankACFBound) bool {
 }
 
 // rankACF returns the sample autocorrelations r_0..r_maxLag of x (divisor n)
-// through SampleACVF (direct lag sums, or the FFT for many lags). r_k is NaN
-// for every k if x is constant.
+// as ACF(SampleACVF(x, maxLag).ACVF) gives them (direct lag sums, or the FFT
+// for many lags). r_k is NaN for every k if x is constant. x has no missing
+// values, so on the FFT path every lag k has n − k pairs: no pair counts
+// are kept, and γ̂ and r are formed in place on the transform's lag sums
+// (the same operations as SampleACVFFFT and ACF, so the same bits), which
+// keeps a long series' memory to the centred values and the transform's
+// buffers.
 func rankACF(x []float64, maxLag int) []float64 {
-	return ACF(SampleACVF(x, maxLag).ACVF)
+	n := len(x)
+	if !(maxLag >= fftMinLag && n >= fftMinSlots && maxLag < n) {
+		return ACF(SampleACVF(x, maxLag).ACVF)
+	}
+	z, _, _, _ := demeaned(x)
+	s := autocorrSums(fourier.NewFFT(fftSize(2*n)), z, maxLag)
+	for h := range s {
+		s[h] /= float64(n) // γ̂(h) = S(h)/(m(h) + h), m(h) = n − h
+	}
+	g0 := s[0]
+	for h, g := range s {
+		if !(g0 > 0) || math.IsNaN(g) {
+			s[h] = math.NaN()
+			continue
+		}
+		r := g / g0
+		if h == 0 {
+			r = 1
+		}
+		s[h] = math.Max(-1, math.Min(1, r))
+	}
+	return s
 }
 
 // exactSlope is the Theil–Sen median in decimal arithmetic: the slope of

@@ -282,6 +282,37 @@ func TestHamedRaoFFTMatchesDirect(t *testing.T) {
 	}
 }
 
+// TestRankACFSameBitsAsSampleACVF: the Hamed–Rao rank ACF formed in place
+// on the FFT lag sums (no pair counts, no second array) gives the bits of
+// ACF(SampleACVF(x, L).ACVF), the general path checked against the direct
+// sums above and against statsmodels through the Hamed–Rao references.
+func TestRankACFSameBitsAsSampleACVF(t *testing.T) {
+	for _, n := range []int{1100, 3000} {
+		x := make([]float64, n)
+		for i := range x {
+			x[i] = float64((i*7919)%(n/3) + i/5) // ranks-like values with ties
+		}
+		for _, L := range []int{n - 1, 1024, 1500, 10} {
+			got := rankACF(x, L)
+			want := ACF(SampleACVF(x, L).ACVF)
+			if len(got) != len(want) {
+				t.Fatalf("n=%d L=%d: %d lags, want %d", n, L, len(got), len(want))
+			}
+			for k := range want {
+				if math.Float64bits(got[k]) != math.Float64bits(want[k]) {
+					t.Fatalf("n=%d L=%d lag %d: %v, general path %v", n, L, k, got[k], want[k])
+				}
+			}
+		}
+	}
+	flat := make([]float64, 2000) // constant: every r_k NaN
+	for _, r := range rankACF(flat, 1999) {
+		if !math.IsNaN(r) {
+			t.Fatalf("constant series: %v, want NaN", r)
+		}
+	}
+}
+
 func TestSeasonalReference(t *testing.T) {
 	py, _, _ := loadKendallRef(t)
 	if len(py.Seasonal) < 3 {
