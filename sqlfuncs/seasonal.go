@@ -116,28 +116,27 @@ func seasonalKendallValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	if r.Len() < 2 {
 		return nil, nil
 	}
-	season := make([]int, r.Len())
-	for i, t := range r.T {
+	// Season and cycle of each reading from its time when needed (no
+	// arrays of n indices next to a long series).
+	season := func(i int) int {
 		if calendar {
-			season[i] = stats.CalendarMonth(t)
-		} else {
-			season[i] = stats.SeasonOf(t, period, int(seasons))
+			return stats.CalendarMonth(r.T[i])
 		}
+		return stats.SeasonOf(r.T[i], period, int(seasons))
 	}
 	const conf = 0.95
-	res, err := stats.SeasonalKendall(r.T, r.Y, season, int(seasons), conf)
+	res, err := stats.SeasonalKendallBy(r.T, r.Y, season, int(seasons), conf)
 	if err != nil {
 		return nil, fmt.Errorf("%s: %v", fn, err)
 	}
-	cycle := make([]int, r.Len())
-	for i, t := range r.T {
+	cell := func(i int) (int, int) {
+		t := r.T[i]
 		if calendar {
-			cycle[i] = time.Unix(int64(math.Floor(t)), 0).UTC().Year()
-		} else {
-			cycle[i] = int(math.Floor(t / period))
+			return stats.CalendarMonth(t), time.Unix(int64(math.Floor(t)), 0).UTC().Year()
 		}
+		return stats.SeasonOf(t, period, int(seasons)), int(math.Floor(t / period))
 	}
-	dep, depErr := stats.SeasonalDependent(r.Y, season, cycle, int(seasons), res.S)
+	dep, depErr := stats.SeasonalDependentBy(r.Y, cell, int(seasons), res.S)
 	const spy = timefmt.SecondsPerYear
 	var b jsonObj
 	b.int("n", int64(res.N))

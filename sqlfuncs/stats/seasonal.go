@@ -86,8 +86,17 @@ type SeasonalResult struct {
 // season[i] in 0..seasons−1. With 0 < confidence < 1 the seasonal Sen slope
 // gets an interval.
 func SeasonalKendall(t, y []float64, season []int, seasons int, confidence float64) (SeasonalResult, error) {
+	if len(season) != len(t) {
+		return SeasonalResult{}, errors.New("t, y and season differ in length")
+	}
+	return SeasonalKendallBy(t, y, func(i int) int { return season[i] }, seasons, confidence)
+}
+
+// SeasonalKendallBy is SeasonalKendall with the season of value i given
+// by season(i) (called twice per value) instead of an array of n indices.
+func SeasonalKendallBy(t, y []float64, season func(i int) int, seasons int, confidence float64) (SeasonalResult, error) {
 	n := len(t)
-	if len(y) != n || len(season) != n {
+	if len(y) != n {
 		return SeasonalResult{}, errors.New("t, y and season differ in length")
 	}
 	if seasons < 1 {
@@ -95,7 +104,8 @@ func SeasonalKendall(t, y []float64, season []int, seasons int, confidence float
 	}
 	res := SeasonalResult{N: n, Seasons: seasons, PerSeason: make([]SeasonStat, seasons)}
 	counts := make([]int, seasons+1)
-	for _, g := range season {
+	for i := 0; i < n; i++ {
+		g := season(i)
 		if g < 0 || g >= seasons {
 			return res, errors.New("season index out of range")
 		}
@@ -110,7 +120,7 @@ func SeasonalKendall(t, y []float64, season []int, seasons int, confidence float
 	gy := make([]float64, n)
 	fill := append([]int(nil), blocks[:seasons]...)
 	for i := 0; i < n; i++ {
-		g := season[i]
+		g := season(i)
 		gt[fill[g]] = t[i]
 		gy[fill[g]] = y[i]
 		fill[g]++
@@ -211,12 +221,21 @@ const MaxDependenceWork = 4e8
 // It returns an error when a (cycle, season) cell holds two values or the
 // work would exceed MaxDependenceWork.
 func SeasonalDependent(y []float64, season, cycle []int, seasons int, s int64) (SeasonalDependence, error) {
+	return SeasonalDependentBy(y, func(k int) (int, int) { return season[k], cycle[k] }, seasons, s)
+}
+
+// SeasonalDependentBy is SeasonalDependent with the season and cycle of
+// value k given by cell(k) (called twice per value) instead of two arrays
+// of n indices.
+func SeasonalDependentBy(y []float64, cell func(k int) (season, cycle int), seasons int, s int64) (SeasonalDependence, error) {
 	var res SeasonalDependence
 	if len(y) == 0 {
 		return res, errors.New("no values")
 	}
-	c0, c1 := cycle[0], cycle[0]
-	for _, c := range cycle {
+	_, c0 := cell(0)
+	c1 := c0
+	for k := range y {
+		_, c := cell(k)
 		c0, c1 = min(c0, c), max(c1, c)
 	}
 	n := c1 - c0 + 1
@@ -229,11 +248,12 @@ func SeasonalDependent(y []float64, season, cycle []int, seasons int, s int64) (
 		x[i] = math.NaN()
 	}
 	for k, v := range y {
-		cell := (cycle[k]-c0)*seasons + season[k]
-		if !math.IsNaN(x[cell]) {
-			return res, fmt.Errorf("cycle %d, season %d holds more than one value", cycle[k], season[k])
+		g, c := cell(k)
+		at := (c-c0)*seasons + g
+		if !math.IsNaN(x[at]) {
+			return res, fmt.Errorf("cycle %d, season %d holds more than one value", c, g)
 		}
-		x[cell] = v
+		x[at] = v
 	}
 	// ranks within each season, mid-rank for missing cells
 	R := make([]float64, n*seasons)
