@@ -250,7 +250,7 @@ func (d *senData) identity() []int32 {
 func mergeCountKeys(a, tmp []keyItem) int64 {
 	n := len(a)
 	var inv int64
-	const run = 16
+	const run = 32
 	for lo := 0; lo < n; lo += run {
 		hi := min(lo+run, n)
 		for i := lo + 1; i < hi; i++ {

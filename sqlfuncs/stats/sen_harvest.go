@@ -105,7 +105,7 @@ func (h *harvest) run(left []keyItem, r int32) {
 func mergeCountKeysHarvest(a, tmp []keyItem, h *harvest) int64 {
 	n := len(a)
 	var inv int64
-	const run = 16
+	const run = 32
 	for lo := 0; lo < n; lo += run {
 		hi := min(lo+run, n)
 		for i := lo + 1; i < hi; i++ {
