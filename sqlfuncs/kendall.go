@@ -21,42 +21,20 @@ package sqlfuncs
 // Also a window function with any frame. The options must be the same on
 // every row of a group.
 //
-// Formulas (stats/kendall.go). With the values in time order,
-//
-//	S      = Σ_{i<j} sgn(y_j − y_i)                            Mann (1945)
-//	var_s  = [n(n−1)(2n+5) − Σ_g t_g(t_g−1)(2t_g+5)]/18         tie-corrected,
-//	         t_g the sizes of groups of equal y (Kendall 1975, Rank Correlation
-//	         Methods, 4th ed., Griffin, London)
-//	z      = (S − sgn S)/√var_s  (continuity correction; 0 when S = 0)
-//	p      = 2·P(N(0,1) > |z|)   two-sided, normal approximation
-//	tau    = S/√(n0·(n0 − n2)), n0 = n(n−1)/2, n2 = tied pairs in y
-//	         (Kendall's tau-b; times are distinct so there are no time ties)
-//
-// S is counted in O(n log n) by merge-sort inversion counting (Knight 1966).
-// z and p are calibrated under the null model of independent, identically
-// distributed values; with serially correlated data use correct=hamed-rao
-// (Hamed & Rao 1998, J. Hydrology 204:182–196; formula and conventions in
-// stats/hamedrao.go): detrend with the Sen slope, rank, keep the lags k whose
-// rank autocorrelation r_k (divisor n) is significant at 5 %, and
-//
-//	correction_factor = 1 + 2/(n(n−1)(n−2)) · Σ_{kept k} (n−k)(n−k−1)(n−k−2)·r_k
-//	var_s_corrected   = var_s · correction_factor
-//
-// with z_corrected and p_corrected as above. Significance: acf_bound=normal
-// (default) keeps |r_k| > 1.959964/√n; acf_bound=anderson keeps r_k outside
-// [(−1 − 1.959964·√(n−k−1))/(n−k), (−1 + 1.959964·√(n−k−1))/(n−k)]
-// (Anderson 1942); the paper does not fix the bound. Rank ties: the
-// detrended values are ordered exactly, reading each value as the decimal it
-// was written as (3.6 is 36/10), so values equal in real arithmetic share an
-// average rank. The factor multiplies the tie-corrected var_s, which is the
-// paper's n(n−1)(2n+5)/18 when no values are tied. The detrending slope is
-// sen_slope's (per second of t), and the lags count rows, so the correction
-// presumes (near-)regular sampling. Every lag 1..n−1 is examined by default
-// (the rank ACF is computed by FFT); max_lag=L examines lags 1..L only.
-// When every detrended value is equal (an all-equal series, or values
-// exactly on a line) the rank ACF is 0/0 and correction_factor is null with
-// the reason in correction_note; a factor ≤ 0 also leaves the corrected
-// fields null. Needs n ≥ 3 (else the corrected fields are null).
+// Method: the Mann–Kendall test (Mann 1945) with Kendall's tie-corrected
+// variance and tau-b (Kendall 1975); formulas, continuity correction and
+// conventions in stats/kendall.go (MannKendall). s is S, var_s is Var(S),
+// z and p the two-sided normal approximation, tau is tau-b; z and p are
+// calibrated under the null model of independent, identically distributed
+// values. correct=hamed-rao applies the variance correction for serial
+// correlation of Hamed & Rao (1998), in stats/hamedrao.go (detrending by the
+// Sen slope, rank autocorrelations, the two significance bounds, exact rank
+// ties): correction_factor is its n/n*_s, var_s_corrected = var_s ·
+// correction_factor, and z_corrected, p_corrected follow from it. The lags
+// count rows, so the correction presumes (near-)regular sampling. Needs
+// n ≥ 3 (else the corrected fields are null); when every detrended value is
+// equal correction_factor is null with the reason in correction_note, and a
+// factor ≤ 0 also leaves the corrected fields null.
 //
 // JSON keys: n, s, var_s, z, p, tau, concordant, discordant, tied_pairs
 // (pairs with equal y), tie_groups; with correct=hamed-rao also correction

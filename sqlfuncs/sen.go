@@ -30,33 +30,18 @@ package sqlfuncs
 // with the same t are an error naming the time. Fewer than 2 rows → NULL.
 // Both are also window functions with any frame.
 //
-// Formulas (stats/sen.go). Over all N = n(n−1)/2 pairs a < b (distinct
-// times, so every pair counts):
-//
-//	slope_per_year = median of (y_b − y_a)/(t_b − t_a) × 31 557 600 s
-//	                 (1 y = 365.25 d; Theil 1950, Sen 1968); for even N the
-//	                 mean of the two middle slopes
-//	interval       C = z_{(1+confidence)/2}·√var_s, var_s the variance
-//	               chosen above; M1 = (N − C)/2 and M2 = (N + C)/2,
-//	               each rounded half to even; lower = the M1-th smallest
-//	               slope, upper = the (M2+1)-th, ranks clamped to 1..N
-//	               (Sen 1968 eq. 2.6; also given in Gilbert 1987, Statistical
-//	               Methods for Environmental Pollution Monitoring) — exactly
-//	               scipy.stats.theilslopes(y, x, alpha=confidence) in scipy
-//	               1.10.1 (whose "alpha" is the confidence level)
-//	intercept      median(y) − slope_per_year · median(t)/31 557 600 s: the
-//	               line through (median t, median y), evaluated at t = 0
-//	               (1970-01-01T00:00:00Z); this is scipy.stats.theilslopes'
-//	               default ("separate") intercept with x = years since the
-//	               unix epoch. For a value at a time T use
-//	               median_y + slope_per_year·(T − median_t)/31 557 600.
-//
-// The median and the interval ends are selected exactly — the order
-// statistics of the exact slopes of the stored values, each rounded to the
-// nearest float before the (rounded) conversion to per year — in
-// O(n log n) expected time and O(n) memory by randomised slope selection,
-// so long series are fine (benchmarks in stats/kendall_bench_test.go,
-// figures in BENCHMARKS.md). Tests compare the selection with the sorted list of all slopes for n up to 3000.
+// Method: the Theil–Sen slope (Theil 1950, Sen 1968) over all
+// N = n(n−1)/2 pairs and Sen's rank interval from the chosen var_s, both in
+// stats/sen.go (SenSlope: the median of the pairwise slopes, the mean of
+// the two middle ones for even N; the interval's ranks M1, M2 + 1 with their
+// rounding and clamping, as scipy.stats.theilslopes). Both are selected
+// exactly, without listing every slope, so long series are fine. Slopes are
+// reported per year (× 31 557 600 s; 1 y = 365.25 d). The intercept is
+// median(y) − slope_per_year · median(t)/31 557 600 s: the line through
+// (median t, median y), evaluated at t = 0 (1970-01-01T00:00:00Z); this is
+// scipy.stats.theilslopes' default ("separate") intercept with x = years
+// since the unix epoch. For a value at a time T use
+// median_y + slope_per_year·(T − median_t)/31 557 600.
 //
 // JSON keys: n, n_pairs, slope_per_year, lower, upper, confidence,
 // lower_rank, upper_rank (the 1-based order statistics used; when a rank is
