@@ -39,32 +39,20 @@ package sqlfuncs
 // more from its slot, or two readings in one slot, is an error that names
 // the times and suggests a step. Slots without a reading are missing values.
 //
-// Formulas (n = readings present, N = grid slots, ȳ = mean of the present
-// values; S(h) = Σ (y_i − ȳ)(y_{i+h} − ȳ) over the m(h) pairs of slots h
-// apart with both readings present):
+// Method: the sample autocovariance γ̂(h) with divisor m(h) + h (the usual
+// n without missing slots; R's acf with na.action = na.pass with them), the
+// sample ACF ρ̂(h) = γ̂(h)/γ̂(0) clamped to [−1, 1] and the PACF α̂(h) by the
+// Durbin–Levinson recursion are defined in stats/acf.go; the Ljung–Box and
+// Box–Pierce statistics, their χ²(lags − fitdf) p-values and the n they use
+// (the PRESENT readings, as R's Box.test) in stats/ljungbox.go. The same n
+// gives the band 1.96/√n.
 //
-//	γ̂(h) = S(h) / (m(h) + h)
-//
-// Without missing slots m(h) + h = n for every lag: the usual divisor n,
-// not n − h (common practice; Brockwell & Davis, Introduction to Time Series
-// and Forecasting, 2nd ed., 2002, §1.4). With missing slots this is exactly
-// R's acf(x, type = "covariance", na.action = na.pass) (R 4.2.2); it is not
-// statsmodels' acovf(missing = "conservative"), which divides by n.
-//
-//	ρ̂(h) = γ̂(h) / γ̂(0), clamped to [−1, 1] as R does; NULL when γ̂(0) = 0.
-//	α̂(h) (PACF) = φ_hh of the Durbin–Levinson recursion on ρ̂ (Durbin 1960),
-//	never outside [−1, 1]: with missing slots ρ̂ need not be positive
-//	definite, and from the first lag where the matrix [ρ̂(|i−j|)] over lags
-//	0..h is not (|φ_hh| ≥ 1), or where ρ̂(h) is undefined, α̂ is NULL for
-//	that lag and every later one; pacf_null_from and pacf_note say where
-//	and why (stats.PartialACF).
-//	Ljung–Box   Q = n(n+2) Σ_{k=1}^{h} ρ̂(k)²/(n−k)  (Ljung & Box 1978)
-//	Box–Pierce  Q = n Σ_{k=1}^{h} ρ̂(k)²            (Box & Pierce 1970)
-//	p = P(χ²_{h−fitdf} > Q); NULL when h − fitdf ≤ 0.
-//
-// n in Q and in the band 1.96/√n is the number of PRESENT readings, as in
-// R's Box.test. NULL results: no readings, lag ≥ N, a lag with no complete
-// pair, a constant series (for ρ̂, α̂ and Q), and for the tests lags ≥ n.
+// NULL results: no readings, lag ≥ N (grid slots), a lag with no complete
+// pair, a constant series (for ρ̂, α̂ and Q), for the tests lags ≥ n, and
+// the p-values when lags − fitdf ≤ 0. The PACF is NULL from the first lag
+// where the matrix [ρ̂(|i−j|)] is not positive definite or ρ̂ is undefined
+// (with missing slots ρ̂ need not be positive definite), and at every later
+// lag; pacf_null_from and pacf_note say where and why.
 //
 // correlogram JSON keys:
 //

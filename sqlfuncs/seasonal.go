@@ -28,40 +28,27 @@ package sqlfuncs
 // 2 values, s = 0, var_s = 0 and z, p, the slope and its interval are null.
 // Also a window function with any frame.
 //
-// Formulas (stats/seasonal.go; Hirsch, Slack & Smith 1982, Water Resources
-// Research 18(1):107–121). Per season g, S_g and var(S_g) are the
-// Mann–Kendall statistic and its tie-corrected variance (see mann_kendall)
-// over that season's values in time order; then
-//
-//	s = Σ_g S_g,   var_s = Σ_g var(S_g)     (seasons treated as independent:
-//	                                         no between-season covariance term)
-//	z = (s − sgn s)/√var_s,  p = 2·P(N(0,1) > |z|)
-//	slope_per_year = median over all within-season pairs of
-//	                 (y_b − y_a)/(t_b − t_a) × 31 557 600 s
-//	lower, upper   = the sen_slope rank rule at 95 % confidence with N the
-//	                 number of within-season pairs and var_s as above (this
-//	                 project's choice, the direct analogue of the one-series
-//	                 interval; it is not checked against an outside library);
-//	                 it pairs with p
-//	lower_dependent, upper_dependent
-//	               = the same rule with var_s_dependent: the interval that
-//	                 pairs with p_dependent (null where that is null)
+// Method: the seasonal Kendall test and seasonal Sen slope of Hirsch, Slack
+// & Smith (1982), in stats/seasonal.go. s and var_s sum the seasons'
+// Mann–Kendall S_g and tie-corrected var(S_g) (see mann_kendall), the
+// seasons treated as independent; z and p as in mann_kendall;
+// slope_per_year is the median of all within-season pairwise slopes
+// (× 31 557 600 s); lower, upper are sen_slope's rank rule at 95 %
+// confidence over the within-season pairs with var_s, and pair with p.
 //
 // Between-season dependence. The seasons of one cycle (for period P the
 // cycle of t is floor(t/P), counted from the epoch; for calendar-month the
 // UTC calendar year) are often correlated, which the independent-seasons
 // variance ignores. When every (cycle, season) cell holds at most one value
-// the JSON also carries the covariance-corrected variance of Dietz &
-// Killeen (1981) / Hirsch & Slack (1984), stats/seasonal.go:
-//
-//	var_s_dependent = Σ_g Σ_h [K_gh + 4·Σ_i R_ig R_ih − n(n_g+1)(n_h+1)]/3
-//
-// with z_dependent, p_dependent — the "global p-value (dep)" of
-// scipy.stats.mstats.kendalltau_seasonal (scipy 1.10.1). Otherwise (several
-// readings per season and cycle, e.g. daily data with monthly seasons — reduce
-// to one value per season and cycle first — or more than
-// seasons²·cycles²/2 = 4e8 operations) those fields are null and
-// dependent_note says why.
+// the JSON also carries var_s_dependent, the covariance-corrected variance
+// of Dietz & Killeen (1981) / Hirsch & Slack (1984) (stats/seasonal.go,
+// SeasonalDependent), with z_dependent, p_dependent — the "global p-value
+// (dep)" of scipy.stats.mstats.kendalltau_seasonal (scipy 1.10.1) — and
+// lower_dependent, upper_dependent, the interval from var_s_dependent that
+// pairs with p_dependent. Otherwise (several readings per season and cycle,
+// e.g. daily data with monthly seasons — reduce to one value per season and
+// cycle first — or more than seasons²·cycles²/2 = 4e8 operations) those
+// fields are null and dependent_note says why.
 //
 // JSON keys: n, period_s (null for calendar-month), season_definition
 // ("epoch-slices" or "calendar-month"), seasons, seasons_used (seasons with

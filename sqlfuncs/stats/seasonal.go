@@ -23,7 +23,9 @@ package stats
 // 1982), selected exactly as in sen.go. Its interval uses the rank rule of
 // SenSlope with N = number of within-season pairs and Var(S) the variance of
 // the test it is reported with: the summed variance above, or the
-// covariance-corrected Var_dep(S) below (SenWithVar).
+// covariance-corrected Var_dep(S) below (SenWithVar). This interval is
+// this project's choice, the direct analogue of the one-series interval; it
+// is not checked against an outside library.
 
 import (
 	"errors"
