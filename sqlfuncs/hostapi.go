@@ -228,9 +228,7 @@ func (g *HostGroup) StepNumbers(v []float64) (err error) {
 		}
 		// The rows head.. stay in strictly increasing time order only if
 		// the new ones continue it.
-		for i := max(n0, a.head+1); a.sorted && i < len(a.t); i++ {
-			a.sorted = a.t[i] > a.t[i-1]
-		}
+		a.sorted = a.sorted && increasingFrom(a.t, max(n0, a.head+1))
 	case g.regr != nil && len(v)%2 == 0:
 		for ; len(v) >= 2; v = v[2:] {
 			g.regr.AddPair(v[0], v[1])
@@ -269,9 +267,7 @@ func (g *HostGroup) StepColumns(rows int, fill func(cols [3][]float64)) (err err
 		fill(cols)
 		// The rows head.. stay in strictly increasing time order only if
 		// the new ones continue it.
-		for i := max(n0, a.head+1); a.sorted && i < len(a.t); i++ {
-			a.sorted = a.t[i] > a.t[i-1]
-		}
+		a.sorted = a.sorted && increasingFrom(a.t, max(n0, a.head+1))
 	case g.regr != nil:
 		sp := hostScratch.Get().(*[]float64)
 		defer hostScratch.Put(sp)
@@ -285,6 +281,16 @@ func (g *HostGroup) StepColumns(rows int, fill func(cols [3][]float64)) (err err
 		return fmt.Errorf("%s: internal error: no numeric rows", g.name)
 	}
 	return nil
+}
+
+// increasingFrom says whether t[i] > t[i-1] for every i ≥ from (from ≥ 1).
+func increasingFrom(t []float64, from int) bool {
+	for i := from; i < len(t); i++ {
+		if !(t[i] > t[i-1]) {
+			return false
+		}
+	}
+	return true
 }
 
 // InverseNumbers removes the oldest row of a window frame given as

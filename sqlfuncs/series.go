@@ -308,9 +308,12 @@ func (a *seriesAgg) frame() (Rows, error) {
 			}
 		}
 	}
-	for i := 1; i < len(t); i++ {
-		if t[i] == t[i-1] {
-			return Rows{}, fmt.Errorf("%s: two rows have the same time %s (t = %s); each time may appear once per group, so a group holds one series", a.name(), timefmt.FormatUTC(int64(t[i])), strconv.FormatFloat(t[i], 'f', -1, 64))
+	// Times kept in strictly increasing order (a.sorted) hold no tie.
+	if !a.sorted {
+		for i := 1; i < len(t); i++ {
+			if t[i] == t[i-1] {
+				return Rows{}, fmt.Errorf("%s: two rows have the same time %s (t = %s); each time may appear once per group, so a group holds one series", a.name(), timefmt.FormatUTC(int64(t[i])), strconv.FormatFloat(t[i], 'f', -1, 64))
+			}
 		}
 	}
 	var missing []float64

@@ -34,11 +34,8 @@ func UnitScale(x []float64) ([]float64, int) {
 			m = a
 		}
 	}
-	if m == 0 {
-		return x, 0
-	}
-	_, k := math.Frexp(m)
-	if k >= -scaleLimit && k <= scaleLimit {
+	k := unitExponent(m)
+	if k == 0 {
 		return x, 0
 	}
 	out := make([]float64, len(x))
@@ -46,4 +43,18 @@ func UnitScale(x []float64) ([]float64, int) {
 		out[i] = math.Ldexp(v, -k)
 	}
 	return out, k
+}
+
+// unitExponent is UnitScale's k for a largest finite magnitude m: 0 when m
+// is 0 or within 2^−scaleLimit … 2^scaleLimit, else the binary exponent of
+// m.
+func unitExponent(m float64) int {
+	if m == 0 {
+		return 0
+	}
+	_, k := math.Frexp(m)
+	if k >= -scaleLimit && k <= scaleLimit {
+		return 0
+	}
+	return k
 }

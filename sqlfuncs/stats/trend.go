@@ -327,8 +327,15 @@ func TrendSlope(t, y []float64) float64 {
 	if n <= 2 || len(y) != n {
 		return math.NaN()
 	}
-	y, k := UnitScale(y)
-	tc, ybar := compensatedMean(t), compensatedMean(y)
+	// The two means and the scale of y in one pass; the results are those
+	// of compensatedMean(t), UnitScale(y) and compensatedMean of the
+	// scaled y, bit for bit.
+	tc, ybar, ymax := meansAndMaxAbs(t, y)
+	k := unitExponent(ymax)
+	if k != 0 {
+		y, k = UnitScale(y)
+		ybar = compensatedMean(y)
+	}
 	sxx, sxy := 0.0, 0.0
 	for i := range t {
 		x := (t[i] - tc) / SecondsPerYear
@@ -339,6 +346,37 @@ func TrendSlope(t, y []float64) float64 {
 		return math.NaN()
 	}
 	return math.Ldexp(sxy/sxx, k)
+}
+
+// meansAndMaxAbs returns compensatedMean(t), compensatedMean(y) and the
+// largest finite magnitude of y (as UnitScale finds it) from one pass over
+// both series (len(y) ≥ len(t) > 0): the two sums are independent chains
+// of additions, so interleaving them costs little more than one.
+func meansAndMaxAbs(t, y []float64) (tm, ym, ymax float64) {
+	y = y[:len(t)]
+	st, ct, sy, cy := 0.0, 0.0, 0.0, 0.0
+	for i, x := range t {
+		u := st + x
+		if math.Abs(st) >= math.Abs(x) {
+			ct += (st - u) + x
+		} else {
+			ct += (x - u) + st
+		}
+		st = u
+		v := y[i]
+		w := sy + v
+		if math.Abs(sy) >= math.Abs(v) {
+			cy += (sy - w) + v
+		} else {
+			cy += (v - w) + sy
+		}
+		sy = w
+		if a := math.Abs(v); a > ymax && !math.IsInf(a, 0) {
+			ymax = a
+		}
+	}
+	n := float64(len(t))
+	return (st + ct) / n, (sy + cy) / n, ymax
 }
 
 // compensatedMean is the mean with a compensated sum (Neumaier 1974, ZAMM 54:39–51),
