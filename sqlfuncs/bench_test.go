@@ -19,8 +19,11 @@ package sqlfuncs_test
 // Reported metrics: ns/row (wall time of the whole GROUP BY query divided by
 // the rows it reads), x_avg (that time over the avg() scan's, measured in
 // the same benchmark right after), extra_ns/row (the difference: what the
-// aggregate's Step and final value cost per row) and allocs/row (Go heap
-// allocations per row, runtime.MemStats; SQLite's own heap is not counted).
+// aggregate's Step and final value cost per row), cpu_x_avg (the same ratio
+// of the process's user + system CPU time, which other work on a shared
+// machine disturbs less than wall time; the garbage collector's work on
+// other threads is included) and allocs/row (Go heap allocations per row,
+// runtime.MemStats; SQLite's own heap is not counted).
 // Functions not defined in this build are skipped.
 
 import (
@@ -163,19 +166,26 @@ func benchQuery(b *testing.B, s *store.Store, q string, rows int64) {
 	runtime.ReadMemStats(&m0)
 	b.ReportAllocs()
 	b.ResetTimer()
+	c0 := processCPU()
 	t0 := time.Now()
 	for i := 0; i < b.N; i++ {
 		drain(b, s.DB, q)
 	}
 	el := time.Since(t0)
+	cpu := processCPU() - c0
 	b.StopTimer()
 	runtime.ReadMemStats(&m1)
 	k := min(b.N, 10)
+	c1 := processCPU()
 	t1 := time.Now()
 	for i := 0; i < k; i++ {
 		drain(b, s.DB, benchmark.Queries[0].SQL)
 	}
 	base := time.Since(t1)
+	baseCPU := processCPU() - c1
+	if cpu > 0 && baseCPU > 0 {
+		b.ReportMetric(float64(cpu)/float64(b.N)/(float64(baseCPU)/float64(k)), "cpu_x_avg")
+	}
 	perRow := float64(el.Nanoseconds()) / float64(b.N) / float64(rows)
 	basePerRow := float64(base.Nanoseconds()) / float64(k) / float64(rows)
 	b.ReportMetric(perRow, "ns/row")
