@@ -10,6 +10,7 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/lapack"
 	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
@@ -188,13 +189,27 @@ func HACVariance(fit *OLSFit, x []float64, c []float64, lags int, correction boo
 // products z_i = (x_iᵀ h) e_i in time order, p coefficients.
 func hacSum(z []float64, lags, p int, correction bool) float64 {
 	n := len(z)
-	if lags < 0 {
-		lags = 0
+	s := make([]float64, hacLagCount(lags, n))
+	for j := range s {
+		s[j] = floats.Dot(z[j:], z[:n-j])
 	}
-	v := dot(z, z)
-	for j := 1; j <= lags && j < n; j++ {
+	return hacFromLagSums(s, lags, n, p, correction)
+}
+
+// hacLagCount is the number of lag sums S_0..S_L' the HAC sum needs for n
+// products: L' = min(lags, n − 1), lags < 0 counting as 0.
+func hacLagCount(lags, n int) int {
+	return max(min(lags, n-1), 0) + 1
+}
+
+// hacFromLagSums is hacSum from the lag sums s[j] = Σ_{i>j} z_i z_{i−j},
+// j = 0..len(s)−1 (lags beyond len(s)−1 have no pairs), with Bartlett
+// weights for the given lags.
+func hacFromLagSums(s []float64, lags, n, p int, correction bool) float64 {
+	v := s[0]
+	for j := 1; j < len(s); j++ {
 		w := 1 - float64(j)/float64(lags+1)
-		v += 2 * w * dot(z[j:], z)
+		v += 2 * w * s[j]
 	}
 	if correction {
 		v *= float64(n) / float64(n-p)
@@ -218,9 +233,33 @@ func DefaultHACLags(n int) int {
 // (the package convention, see doc.go): Σ_{i=1}^{n−1} (e_i−ē)(e_{i+1}−ē) /
 // Σ (e_i−ē)². It is NaN when n < 2 or the denominator is 0.
 func lag1ACF(e []float64) float64 {
-	g0, g1, _ := ACVFAtLag(e, 1)
-	if !(g0 > 0) {
+	n := len(e)
+	if n < 2 {
 		return math.NaN()
 	}
-	return g1 / g0
+	sum := 0.0
+	for _, v := range e {
+		sum += v
+	}
+	mean := sum / float64(n)
+	// Sums of d_i = e_i − mean; the corrected mean mean + δ (δ the mean of
+	// the d_i, as in demeaned) is applied to the sums afterwards:
+	// Σ(d−δ)² = Σd² − nδ², Σ(d_i−δ)(d_{i+1}−δ) = Σd_i d_{i+1} −
+	// δ(2Σd − d_1 − d_n) + (n−1)δ².
+	d0 := e[0] - mean
+	s0, s1, sd, prev := d0*d0, 0.0, d0, d0
+	for _, v := range e[1:] {
+		d := v - mean
+		s0 += d * d
+		s1 += prev * d
+		sd += d
+		prev = d
+	}
+	delta := sd / float64(n)
+	s0 -= float64(n) * delta * delta
+	s1 += -delta*(2*sd-d0-prev) + float64(n-1)*delta*delta
+	if !(s0 > 0) {
+		return math.NaN()
+	}
+	return s1 / s0
 }

@@ -237,18 +237,16 @@ func fitTrend(t, y []float64, spec TrendSpec) (*TrendModel, error) {
 	}
 	tc := compensatedMean(t)
 	ybar := compensatedMean(y)
-	yc := make([]float64, n)
-	sst := 0.0
-	for i, v := range y {
-		yc[i] = v - ybar
-		sst += yc[i] * yc[i]
-	}
 
 	period := spec.Period
 	if spec.Harmonics == 0 {
 		period = 0
 	}
-	fit, z, err := trendLeastSquares(t, yc, tc, spec.Degree, period, spec.Harmonics)
+	lags := spec.HACLags
+	if lags < 0 {
+		lags = DefaultHACLags(n)
+	}
+	fit, sst, hac, err := trendLeastSquares(t, y, ybar, tc, spec.Degree, period, spec.Harmonics, lags)
 	if err != nil {
 		return nil, err
 	}
@@ -281,16 +279,13 @@ func fitTrend(t, y []float64, spec TrendSpec) (*TrendModel, error) {
 	default:
 		m.NEff = float64(n) * (1 - rho) / (1 + rho)
 	}
-	m.HACLags = spec.HACLags
-	if m.HACLags < 0 {
-		m.HACLags = DefaultHACLags(n)
-	}
+	m.HACLags = lags
 	if spec.Degree >= 1 {
 		b := fit.Coef[1]
 		m.SlopePerYear = b
 		m.SlopeSE = m.SE[1]
 		m.SlopeP = tTwoSided(b, m.SlopeSE, float64(df))
-		v := hacSum(z, m.HACLags, p, true)
+		v := hacFromLagSums(hac, lags, n, p, true)
 		m.HACSlopeSE = math.Sqrt(math.Max(v, 0))
 		m.HACP = tTwoSided(b, m.HACSlopeSE, float64(df))
 		if ne := m.NEff; ne > float64(p) {

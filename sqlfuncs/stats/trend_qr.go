@@ -5,7 +5,14 @@ package stats
 import (
 	"fmt"
 	"math"
+
+	"gonum.org/v1/gonum/floats"
 )
+
+// perYear is 1/Y: the time column is formed as (t − t_c)·(1/Y), a product
+// in place of the quotient (within about one rounding of it, a relative
+// perturbation of the column of the size the QR's own bound allows).
+const perYear = 1 / SecondsPerYear
 
 // qrBlock is the number of design rows reduced together by one set of
 // Householder reflections in rowQR.
@@ -40,7 +47,7 @@ func (q *rowQR) flush() {
 	}
 	for j := 0; j < p; j++ {
 		cj := q.blk[j*qrBlock : j*qrBlock+b]
-		ss := sumSq(cj)
+		ss := floats.Dot(cj, cj)
 		if ss == 0 {
 			continue // H = I, as dlarfg gives for a zero tail
 		}
@@ -56,154 +63,248 @@ func (q *rowQR) flush() {
 		q.r[j*m+j] = beta
 		for k := j + 1; k < m; k++ {
 			ck := q.blk[k*qrBlock : k*qrBlock+b]
-			w := (q.r[j*m+k] + dot(cj, ck)) * tau
+			w := (q.r[j*m+k] + floats.Dot(cj, ck)) * tau
 			q.r[j*m+k] -= w
-			ck = ck[:len(cj)]
-			for i, v := range cj {
-				ck[i] -= w * v
-			}
+			floats.AddScaled(ck, -w, cj)
 		}
 	}
 	q.rows = 0
 }
 
 // trendLeastSquares solves the trend model's least-squares problem for
-// times t (centre tc) and centred values yc. It returns the fit and, when
-// degree ≥ 1, the products z_i = (x_iᵀ h) e_i with h the column of (XᵀX)⁻¹
-// for the slope c_1, which HACVariance's sum needs.
+// times t (centre tc) and the values y centred on ybar, yc = y − ybar
+// (formed on the fly, not stored). It returns the fit, Σ yc², and, when
+// degree ≥ 1, the lag sums S_j = Σ_{i>j} z_i z_{i−j}, j = 0..min(lags,
+// n−1), of the products z_i = (x_iᵀ h) e_i with h the column of (XᵀX)⁻¹
+// for the slope c_1, from which hacFromLagSums gives HACVariance's sum.
 //
-// Method and stability. The design rows are formed twice, never stored
-// (only sin and cos of the first harmonic are kept, 2n numbers):
-// once to build R and Qᵀy by the blocked Householder reduction of rowQR,
-// once for the residuals e = yc − X b. The factorisation is Householder QR
-// of [X | yc]: a sequence of p·⌈n/qrBlock⌉ Householder reflections, each
-// acting on qrBlock + 1 rows, so the error analysis of a product of
-// Householder transformations applies (Higham, Accuracy and Stability of
-// Numerical Algorithms, 2nd ed., 2002, Lemma 19.3 and Theorem 19.4, recalled
-// from memory): the computed R is the exact factor of X + ΔX with
-// ‖ΔX e_j‖ ≤ c·p·n·u·‖X e_j‖ column by column (u the unit roundoff, c a
-// small constant), the same order as one dgeqrf call on X, and the normal
-// equations are never formed, so the coefficient error grows with the
-// condition number of the design and not with its square. Because that
-// bound is column by column, the columns' scale does not enter it: the
-// column norms ‖X e_j‖ = ‖R e_j‖ are read off R afterwards, and the rank
-// test and the solve use R D⁻¹ (D the column norms), exactly the matrix
-// the factorisation of the column-scaled design would give in exact
+// Method. Every column but the constant is centred on its mean over the
+// readings: with m_j the computed mean of column j and Z̃ the centred
+// columns, X b = 1·(c_0 + Σ_j m_j c_j) + Z̃ c exactly, for any m, so the
+// slope and seasonal coefficients c are those of the centred design and
+// c_0 = c̃_0 − Σ_j m_j c_j with c̃_0 the mean of yc. The centred columns are
+// orthogonal to the constant, so the constant drops out of the reduction:
+// only [Z̃ | yc] (p − 1 columns and y) is factorised, and c is the same for
+// yc and its projection orthogonal to the constant, so yc need not be
+// centred exactly. (XᵀX)⁻¹ of the original parametrisation follows from
+// V = (Z̃ᵀZ̃)⁻¹: V for the non-constant block, −V m beside it and
+// 1/n + mᵀ V m for the constant (a sum of non-negative terms). The rank
+// test below works on the column-scaled centred design; its condition
+// number is the fit's Cond (1 when the constant is the only column).
+//
+// Passes. The first computes sin and cos of the first harmonic (kept, 2n
+// numbers; the phase is reduced to [0, 1) before them) and the column sums
+// (summed in blocks of qrBlock rows whose totals are added); the second
+// forms the centred rows, never stored, and builds R and Qᵀy by the
+// blocked Householder reduction of rowQR; the third forms them again for
+// the residuals e = yc − c̃_0 − Z̃ c and the products z_i, whose lag sums
+// are taken block by block with the last min(lags, n−1) products of the
+// blocks before kept, so z is never stored.
+//
+// Stability. The factorisation is Householder QR of [Z̃ | yc]: a sequence
+// of (p−1)·⌈n/qrBlock⌉ Householder reflections, each acting on qrBlock + 1
+// rows, so the error analysis of a product of Householder transformations
+// applies (Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed.,
+// 2002, Lemma 19.3 and Theorem 19.4, recalled from memory): the computed R
+// is the exact factor of Z̃ + ΔZ with ‖ΔZ e_j‖ ≤ c·p·n·u·‖Z̃ e_j‖ column by
+// column (u the unit roundoff, c a small constant), the same order as one
+// dgeqrf call, and the normal equations are never formed, so the
+// coefficient error grows with the condition number of the design and not
+// with its square. Centring adds two perturbations of the same kind, each
+// column by column and measured against the original column x_j = X e_j
+// (‖Z̃ e_j‖ ≤ ‖x_j‖ up to rounding, the mean being the least-squares
+// constant). First, the subtraction x_ij − m_j rounds each entry by at
+// most u·|x_ij − m_j|. Second, dropping the constant treats the computed
+// centred columns as exactly orthogonal to it, while their exact sum is
+// the rounding error of n·m_j, at most about k·u·Σ_i |x_ij| with
+// k = qrBlock + n/qrBlock + 2 for the blocked sums: the computation is
+// exact for the column minus its own mean, a change of norm at most
+// k·u·‖x_j‖ (Cauchy–Schwarz). How accurate m is otherwise does not
+// matter: any m gives the same model exactly. Because every bound is
+// column by column, the columns' scale does not enter it: the column norms
+// ‖Z̃ e_j‖ = ‖R e_j‖ are read off R afterwards, and the rank test and the
+// solve use R D⁻¹ (D the column norms), exactly the matrix the
+// factorisation of the column-scaled centred design would give in exact
 // arithmetic. The time column is centred on the mean time before any of
 // this, so unix-second times near 1.7e9 s lose no digits to the constant.
-func trendLeastSquares(t, yc []float64, tc float64, degree int, period float64, harmonics int) (*OLSFit, []float64, error) {
+func trendLeastSquares(t, y []float64, ybar, tc float64, degree int, period float64, harmonics, lags int) (fit *OLSFit, sst float64, hac []float64, err error) {
 	n, p := len(t), 1+degree+2*harmonics
-	q := newRowQR(p)
-	row := make([]float64, p)
+	pq := p - 1 // centred columns in the reduction
+	fn := float64(n)
+
+	// Pass 1: sin and cos of the first harmonic, column means.
 	var sc []float64 // sin and cos of the first harmonic, row by row
 	if harmonics > 0 {
 		sc = make([]float64, 2*n)
 	}
-	for i := 0; i < n; i++ {
-		var s1, c1 float64
-		if harmonics > 0 {
-			s1, c1 = math.Sincos(2 * math.Pi * seasonPhase(t[i], period))
-			sc[2*i], sc[2*i+1] = s1, c1
+	mean := make([]float64, pq)
+	part := make([]float64, pq)
+	for i0 := 0; i0 < n; i0 += qrBlock {
+		i1 := min(i0+qrBlock, n)
+		clear(part)
+		for i := i0; i < i1; i++ {
+			x := (t[i] - tc) * perYear
+			pw := 1.0
+			for k := 0; k < degree; k++ {
+				pw *= x
+				part[k] += pw
+			}
+			if harmonics > 0 {
+				s1, c1 := math.Sincos(2 * math.Pi * seasonPhase(t[i], period))
+				sc[2*i], sc[2*i+1] = s1, c1
+				s, c := s1, c1
+				for j := degree; j < pq; j += 2 {
+					part[j] += s
+					part[j+1] += c
+					s, c = nextHarmonic(s, c, s1, c1)
+				}
+			}
 		}
-		designRow(row, (t[i]-tc)/SecondsPerYear, degree, harmonics, s1, c1)
-		k := q.rows
-		for j, v := range row {
-			q.blk[j*qrBlock+k] = v
-		}
-		q.blk[p*qrBlock+k] = yc[i]
-		q.rows++
-		if q.rows == qrBlock {
-			q.flush()
-		}
-	}
-	q.flush()
-
-	m := q.m
-	scale := make([]float64, p)
-	for j := 0; j < p; j++ {
-		s := 0.0
-		for i := 0; i <= j; i++ {
-			s += q.r[i*m+j] * q.r[i*m+j]
-		}
-		scale[j] = math.Sqrt(s)
-	}
-	// A sine column that is rounding noise at every reading (e.g. readings
-	// at exact multiples of half the period give sin ≈ ±1e-16) would pass a
-	// scaled rank test, so seasonal columns are checked against their
-	// natural magnitude 1 first.
-	for j := degree + 1; j < p; j++ {
-		if scale[j]/math.Sqrt(float64(n)) < 1e-9 {
-			return nil, nil, fmt.Errorf("%w (column %s is zero at every reading time)", ErrRankDeficient, TrendTerms(degree, harmonics)[j])
+		for j, v := range part {
+			mean[j] += v
 		}
 	}
-	for j, s := range scale {
-		if s == 0 || math.IsNaN(s) || math.IsInf(s, 0) {
-			return nil, nil, fmt.Errorf("%w (column %d is all zero or not finite)", ErrRankDeficient, j+1)
-		}
-	}
-	rs := make([]float64, p*p)
-	rhs := make([]float64, p)
-	for i := 0; i < p; i++ {
-		for j := i; j < p; j++ {
-			rs[i*p+j] = q.r[i*m+j] / scale[j]
-		}
-		rhs[i] = q.r[i*m+p]
-	}
-	coef, inv, cond, err := solveScaledR(rs, rhs, scale, p)
-	if err != nil {
-		return nil, nil, err
+	for j := range mean {
+		mean[j] /= fn
 	}
 
+	// Pass 2: the centred rows, reduced block by block.
+	q := newRowQR(pq)
+	ysum := 0.0
+	for i0 := 0; i0 < n; i0 += qrBlock {
+		b := min(qrBlock, n-i0)
+		centredBlock(q.blk, t[i0:i0+b], sc[min(2*i0, len(sc)):], tc, degree, harmonics, mean)
+		yb := q.blk[pq*qrBlock : pq*qrBlock+b]
+		for k, v := range y[i0 : i0+b] {
+			v -= ybar
+			yb[k] = v
+			ysum += v
+			sst += v * v
+		}
+		q.rows = b
+		q.flush()
+	}
+	c0 := ysum / fn // the constant of the centred design
+
+	coef, inv, cond := make([]float64, p), make([]float64, p*p), 1.0
+	var cv, vv []float64 // c and V of the centred design
+	if pq > 0 {
+		m := q.m
+		scale := make([]float64, pq)
+		for j := 0; j < pq; j++ {
+			s := 0.0
+			for i := 0; i <= j; i++ {
+				s += q.r[i*m+j] * q.r[i*m+j]
+			}
+			scale[j] = math.Sqrt(s)
+		}
+		// A seasonal column that takes one value at every reading up to
+		// rounding (e.g. readings at exact multiples of half the period give
+		// sin ≈ ±1e-16) would pass a scaled rank test, so seasonal columns
+		// are checked against their natural magnitude 1 first.
+		for j := degree; j < pq; j++ {
+			if scale[j]/math.Sqrt(fn) < 1e-9 {
+				return nil, 0, nil, fmt.Errorf("%w (column %s has the same value at every reading time)", ErrRankDeficient, TrendTerms(degree, harmonics)[j+1])
+			}
+		}
+		for j, s := range scale {
+			if s == 0 || math.IsNaN(s) || math.IsInf(s, 0) {
+				return nil, 0, nil, fmt.Errorf("%w (column %d is constant or not finite)", ErrRankDeficient, j+2)
+			}
+		}
+		rs := make([]float64, pq*pq)
+		rhs := make([]float64, pq)
+		for i := 0; i < pq; i++ {
+			for j := i; j < pq; j++ {
+				rs[i*pq+j] = q.r[i*m+j] / scale[j]
+			}
+			rhs[i] = q.r[i*m+pq]
+		}
+		cv, vv, cond, err = solveScaledR(rs, rhs, scale, pq)
+		if err != nil {
+			return nil, 0, nil, err
+		}
+	}
+	// Back to the original parametrisation.
+	coef[0] = c0
+	inv[0] = 1 / fn
+	for j := 0; j < pq; j++ {
+		coef[j+1] = cv[j]
+		coef[0] -= mean[j] * cv[j]
+		vm := 0.0
+		for k := 0; k < pq; k++ {
+			vm += vv[j*pq+k] * mean[k]
+			inv[(j+1)*p+k+1] = vv[j*pq+k]
+		}
+		inv[j+1] = -vm
+		inv[(j+1)*p] = -vm
+		inv[0] += mean[j] * vm
+	}
+
+	// Pass 3: residuals and the HAC lag sums.
 	resid := make([]float64, n)
-	var z, h []float64
+	var h, zr []float64
+	L := hacLagCount(lags, n) - 1
 	if degree >= 1 {
-		z = make([]float64, n)
-		h = make([]float64, p)
+		h = make([]float64, pq) // column of V for the slope
 		for j := range h {
-			h[j] = inv[j*p+1]
+			h[j] = vv[j*pq]
 		}
+		hac = make([]float64, L+1)
+		zr = make([]float64, L+qrBlock) // L products before the block, then the block's
 	}
 	ssr := 0.0
-	for i := 0; i < n; i++ {
-		var s1, c1 float64
-		if harmonics > 0 {
-			s1, c1 = sc[2*i], sc[2*i+1]
+	blk := q.blk
+	for i0 := 0; i0 < n; i0 += qrBlock {
+		b := min(qrBlock, n-i0)
+		centredBlock(blk, t[i0:i0+b], sc[min(2*i0, len(sc)):], tc, degree, harmonics, mean)
+		rb := resid[i0 : i0+b]
+		for k, v := range y[i0 : i0+b] {
+			rb[k] = (v - ybar) - c0
 		}
-		designRow(row, (t[i]-tc)/SecondsPerYear, degree, harmonics, s1, c1)
-		f := 0.0
-		for j, v := range row {
-			f += v * coef[j]
+		for j := 0; j < pq; j++ {
+			floats.AddScaled(rb, -cv[j], blk[j*qrBlock:j*qrBlock+b])
 		}
-		e := yc[i] - f
-		resid[i] = e
-		ssr += e * e
-		if z != nil {
-			g := 0.0
-			for j, v := range row {
-				g += v * h[j]
+		ssr += floats.Dot(rb, rb)
+		if h != nil {
+			zb := zr[L : L+b]
+			copy(zb, blk[:b])
+			floats.Scale(h[0], zb)
+			for j := 1; j < pq; j++ {
+				floats.AddScaled(zb, h[j], blk[j*qrBlock:j*qrBlock+b])
 			}
-			z[i] = g * e
+			floats.Mul(zb, rb)
+			for j := range hac {
+				hac[j] += floats.Dot(zb, zr[L-j:L-j+b])
+			}
+			copy(zr, zr[b:b+L])
 		}
 	}
-	return &OLSFit{N: n, P: p, Coef: coef, Resid: resid, SSR: ssr, XtXInv: inv, Cond: cond}, z, nil
+	return &OLSFit{N: n, P: p, Coef: coef, Resid: resid, SSR: ssr, XtXInv: inv, Cond: cond}, sst, hac, nil
 }
 
-// dot is Σ a_i b_i over len(a) (b at least as long) with four partial sums.
-func dot(a, b []float64) float64 {
-	b = b[:len(a)]
-	var s0, s1, s2, s3 float64
-	i := 0
-	for ; i+4 <= len(a); i += 4 {
-		s0 += a[i] * b[i]
-		s1 += a[i+1] * b[i+1]
-		s2 += a[i+2] * b[i+2]
-		s3 += a[i+3] * b[i+3]
+// centredBlock writes the centred design columns of the rows with times
+// tb (at most qrBlock) into blk, column j at blk[j*qrBlock:]: x^k − m
+// for k = 1..degree, then the harmonics from sc (sin and cos of the first
+// harmonic, row by row, starting at the block's first row) minus their
+// means.
+func centredBlock(blk, tb, sc []float64, tc float64, degree, harmonics int, mean []float64) {
+	pq := degree + 2*harmonics
+	for k, tv := range tb {
+		x := (tv - tc) * perYear
+		pw := 1.0
+		for d := 0; d < degree; d++ {
+			pw *= x
+			blk[d*qrBlock+k] = pw - mean[d]
+		}
+		if harmonics > 0 {
+			s1, c1 := sc[2*k], sc[2*k+1]
+			s, c := s1, c1
+			for j := degree; j < pq; j += 2 {
+				blk[j*qrBlock+k] = s - mean[j]
+				blk[(j+1)*qrBlock+k] = c - mean[j+1]
+				s, c = nextHarmonic(s, c, s1, c1)
+			}
+		}
 	}
-	for ; i < len(a); i++ {
-		s0 += a[i] * b[i]
-	}
-	return (s0 + s1) + (s2 + s3)
 }
-
-// sumSq is Σ a_i² with four partial sums.
-func sumSq(a []float64) float64 { return dot(a, a) }

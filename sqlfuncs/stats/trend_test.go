@@ -334,6 +334,14 @@ func TestFitTrendLiveStatsmodels(t *testing.T) {
 		c.TEval = []float64{c.T[0] - 1e6, c.T[n/2] + 0.5, c.T[n-1] + 1e7}
 		cases = append(cases, c)
 	}
+	// HAC lags beyond one block of the residual pass (64 rows) and beyond
+	// several: the n = 1000 and n = 5000 series again, seasonal, with
+	// L = 70 and L = 300.
+	for k, L := range []int{70, 300} {
+		c := cases[7+k]
+		c.Degree, c.PeriodS, c.Harmonics, c.HACLags = 1, SecondsPerYear, 2, L
+		cases = append(cases, c)
+	}
 	req, _ := json.Marshal(map[string]any{"cases": cases})
 	cmd := exec.Command(py, filepath.Join("..", "..", "testdata", "reference", "trend_ref.py"), "--stdin")
 	cmd.Stdin = bytes.NewReader(req)
@@ -413,6 +421,7 @@ func BenchmarkFitTrendKernel(b *testing.B) {
 			spec TrendSpec
 		}{
 			{"degree=1", TrendSpec{Degree: 1, HACLags: -1}},
+			{"degree=1,period=1y,harmonics=2", TrendSpec{Degree: 1, Period: SecondsPerYear, Harmonics: 2, HACLags: -1}},
 			{"degree=2,period=1y,harmonics=2", TrendSpec{Degree: 2, Period: SecondsPerYear, Harmonics: 2, HACLags: -1}},
 		} {
 			b.Run(fmt.Sprintf("n=%d/%s", n, sp.name), func(b *testing.B) {
