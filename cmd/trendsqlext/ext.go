@@ -19,6 +19,7 @@ import (
 	"encoding/binary"
 	"fmt"
 	"math"
+	"runtime"
 	"runtime/cgo"
 	"runtime/debug"
 	"strings"
@@ -205,7 +206,11 @@ func trendsqlGoScalar(ctx *C.sqlite3_context, index C.int, argc C.int, argv **C.
 // final, releases the group afterwards.
 //
 //export trendsqlGoAggResult
-func trendsqlGoAggResult(ctx *C.sqlite3_context, index C.int, a *C.ext_agg, final C.int) {
+func trendsqlGoAggResult(ctx *C.sqlite3_context, index C.int, a *C.ext_agg, final, yield C.int) {
+	if yield != 0 {
+		// See yield_due in ext.c.
+		runtime.Gosched()
+	}
 	f := functionAt(index)
 	defer recoverResult(ctx, f.Doc.Name)
 	var g *sqlfuncs.HostGroup

@@ -108,7 +108,7 @@ void ext_result_error_owned(sqlite3_context *ctx, char *msg);
 /* Go side (ext.go). */
 extern int trendsqlGoRegister(sqlite3 *db, char **pzErrMsg);
 extern void trendsqlGoScalar(sqlite3_context *ctx, int index, int argc, sqlite3_value **argv);
-extern void trendsqlGoAggResult(sqlite3_context *ctx, int index, ext_agg *a, int final);
+extern void trendsqlGoAggResult(sqlite3_context *ctx, int index, ext_agg *a, int final, int yield);
 extern void trendsqlGoAggRelease(uintptr_t group);
 extern char *trendsqlGoTableFilter(int index, int given, int argc, sqlite3_value **argv, uintptr_t *rows, int *nrows);
 extern void trendsqlGoTableColumn(sqlite3_context *ctx, uintptr_t rows, int row, int col);
