@@ -505,8 +505,7 @@ static void agg_inverse(sqlite3_context *ctx, int argc, sqlite3_value **argv) {
  * enters Go only through these calls never schedules one. Without the
  * yield, every call after the first 10 ms of a query finds its processor
  * taken, and each return to C wakes the monitor, which takes it again and
- * polls every 20 µs: about 4 % of a trend_slope scan's CPU time over 1,000
- * groups. A yield costs a few thread switches; at most one per 5 ms keeps
+ * polls every 20 µs (BENCHMARKS.md has the cost). A yield costs a few thread switches; at most one per 5 ms keeps
  * the processor with the thread. */
 #define EXT_YIELD_NS 5000000
 static int yield_due(void) {

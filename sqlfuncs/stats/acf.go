@@ -354,22 +354,29 @@ func SampleACVFFFT(x []float64, maxLag int) Autocov {
 // (as R's acf); every entry is NaN when γ̂(0) is 0 or NaN.
 func ACF(acvf []float64) []float64 {
 	out := make([]float64, len(acvf))
+	copy(out, acvf)
+	acfInPlace(out)
+	return out
+}
+
+// acfInPlace turns the sample autocovariances in s into ACF's sample
+// autocorrelations, overwriting them (same rules as ACF).
+func acfInPlace(s []float64) {
 	g0 := math.NaN()
-	if len(acvf) > 0 {
-		g0 = acvf[0]
+	if len(s) > 0 {
+		g0 = s[0]
 	}
-	for h, g := range acvf {
+	for h, g := range s {
 		if !(g0 > 0) || math.IsNaN(g) {
-			out[h] = math.NaN()
+			s[h] = math.NaN()
 			continue
 		}
 		r := g / g0
 		if h == 0 {
 			r = 1
 		}
-		out[h] = math.Max(-1, math.Min(1, r))
+		s[h] = math.Max(-1, math.Min(1, r))
 	}
-	return out
 }
 
 // PACF returns the sample partial autocorrelations α̂(1..K) of

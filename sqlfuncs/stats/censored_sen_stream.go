@@ -80,7 +80,7 @@ type atsBracket struct {
 	eqWeight []int64
 	eqCount  []int64
 	sampling bool
-	shares   *atsBracket // uses that bracket's pivots and counts this round
+	shares   *atsBracket // another bracket whose pivots and counts serve this one in the current selection round
 }
 
 type atsStep struct {

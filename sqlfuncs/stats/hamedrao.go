@@ -203,18 +203,7 @@ func rankACF(x []float64, maxLag int) []float64 {
 	for h := range s {
 		s[h] /= float64(n) // γ̂(h) = S(h)/(m(h) + h), m(h) = n − h
 	}
-	g0 := s[0]
-	for h, g := range s {
-		if !(g0 > 0) || math.IsNaN(g) {
-			s[h] = math.NaN()
-			continue
-		}
-		r := g / g0
-		if h == 0 {
-			r = 1
-		}
-		s[h] = math.Max(-1, math.Min(1, r))
-	}
+	acfInPlace(s)
 	return s
 }
 
