@@ -6,9 +6,6 @@ import (
 	"path/filepath"
 	"testing"
 	"time"
-
-	"trendsql/migrations"
-	"trendsql/sqlfuncs"
 )
 
 // TestOpenWaitsToMigrate: a writable open of a store with a migration due
@@ -20,29 +17,8 @@ import (
 func TestOpenWaitsToMigrate(t *testing.T) {
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "v2.db")
-	if err := sqlfuncs.Register(); err != nil {
-		t.Fatal(err)
-	}
-	db, err := sqlfuncs.OpenDB(DSN(path, false))
-	if err != nil {
-		t.Fatal(err)
-	}
+	db := createAtVersion(t, path, 2)
 	defer db.Close()
-	all, err := migrations.All()
-	if err != nil {
-		t.Fatal(err)
-	}
-	if _, err := db.Exec(`CREATE TABLE schema_migrations (version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
-		t.Fatal(err)
-	}
-	for _, m := range all[:2] {
-		if _, err := db.Exec(m.SQL); err != nil {
-			t.Fatalf("%s: %v", m.Name, err)
-		}
-		if _, err := db.Exec(`INSERT INTO schema_migrations VALUES (?, ?, '2026-01-01T00:00:00Z')`, m.Version, m.Name); err != nil {
-			t.Fatal(err)
-		}
-	}
 	tx, err := db.BeginTx(ctx, nil) // immediate: the write lock
 	if err != nil {
 		t.Fatal(err)

@@ -2,6 +2,7 @@ package store
 
 import (
 	"context"
+	"database/sql"
 	"path/filepath"
 	"testing"
 
@@ -16,31 +17,7 @@ import (
 func TestMigrationCensoringKeepsOldStores(t *testing.T) {
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "v2.db")
-	if err := sqlfuncs.Register(); err != nil {
-		t.Fatal(err)
-	}
-	db, err := sqlfuncs.OpenDB(DSN(path, false))
-	if err != nil {
-		t.Fatal(err)
-	}
-	all, err := migrations.All()
-	if err != nil {
-		t.Fatal(err)
-	}
-	if _, err := db.Exec(`CREATE TABLE schema_migrations (version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
-		t.Fatal(err)
-	}
-	for _, m := range all {
-		if m.Version > 2 {
-			break
-		}
-		if _, err := db.Exec(m.SQL); err != nil {
-			t.Fatalf("%s: %v", m.Name, err)
-		}
-		if _, err := db.Exec(`INSERT INTO schema_migrations VALUES (?, ?, '2026-01-01T00:00:00Z')`, m.Version, m.Name); err != nil {
-			t.Fatal(err)
-		}
-	}
+	db := createAtVersion(t, path, 2)
 	for _, q := range []string{
 		`INSERT INTO stations (id, name) VALUES ('S1', 'old station')`,
 		`INSERT INTO series (id, station_id, variable, unit) VALUES (1, 'S1', 'tp', 'ug/L')`,
@@ -109,4 +86,41 @@ func TestMigrationCensoringKeepsOldStores(t *testing.T) {
 	if err := s.IntegrityCheck(ctx); err != nil {
 		t.Fatal(err)
 	}
+}
+
+// createAtVersion creates a store at path with the schema of the migrations
+// up to version only, as a binary of that schema left it, and returns a
+// connection to it (the caller closes it).
+func createAtVersion(t *testing.T, path string, version int) *sql.DB {
+	t.Helper()
+	if err := sqlfuncs.Register(); err != nil {
+		t.Fatal(err)
+	}
+	db, err := sqlfuncs.OpenDB(DSN(path, false))
+	if err != nil {
+		t.Fatal(err)
+	}
+	all, err := migrations.All()
+	if err != nil {
+		db.Close()
+		t.Fatal(err)
+	}
+	if _, err := db.Exec(`CREATE TABLE schema_migrations (version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
+		db.Close()
+		t.Fatal(err)
+	}
+	for _, m := range all {
+		if m.Version > version {
+			break
+		}
+		if _, err := db.Exec(m.SQL); err != nil {
+			db.Close()
+			t.Fatalf("%s: %v", m.Name, err)
+		}
+		if _, err := db.Exec(`INSERT INTO schema_migrations VALUES (?, ?, '2026-01-01T00:00:00Z')`, m.Version, m.Name); err != nil {
+			db.Close()
+			t.Fatal(err)
+		}
+	}
+	return db
 }

@@ -12,6 +12,7 @@ import (
 	"testing"
 
 	"trendsql/store"
+	"trendsql/store/storetest"
 )
 
 // TestConcurrentWritersAndReaders runs, against one copy of the demo
@@ -23,7 +24,7 @@ import (
 // check, holds every imported row, and the run is complete (ok, one
 // summary per selected series) or absent.
 func TestConcurrentWritersAndReaders(t *testing.T) {
-	db := demoCopy(t)
+	db := storetest.Copy(t, demoStore(t))
 	exe := bin(t)
 	const rows = 200000
 	var csv bytes.Buffer
@@ -35,7 +36,7 @@ func TestConcurrentWritersAndReaders(t *testing.T) {
 	if err := os.WriteFile(file, csv.Bytes(), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	ro := readOnly(t, db)
+	ro := storetest.View(t, db).DB
 	runsBefore := queryInt(t, ro, `SELECT coalesce(max(id), 0) FROM summary_runs`)
 
 	sum := startSummarize(t, db, "--period", "1y", "--workers", "1", "--quiet")
@@ -104,7 +105,7 @@ func TestConcurrentWritersAndReaders(t *testing.T) {
 	}
 
 	checkIntegrity(t, db)
-	final := readOnly(t, db)
+	final := storetest.View(t, db).DB
 	wantReadings := int64(0)
 	if exitCode(errImp) == ExitOK {
 		wantReadings = rows

@@ -4,7 +4,6 @@ import (
 	"bufio"
 	"fmt"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -12,33 +11,13 @@ import (
 	"testing"
 	"time"
 
-	"trendsql/store"
 	"trendsql/store/storetest"
 )
 
 // startImport starts `trendsql import readings` of file in the background.
 func startImport(t *testing.T, db, file string) *bgRun {
 	t.Helper()
-	r := &bgRun{done: make(chan struct{})}
-	r.cmd = exec.Command(bin(t), "import", "readings", "--variable", "level", "--db", db, file)
-	r.cmd.Dir = workDir
-	for _, kv := range os.Environ() {
-		if !strings.HasPrefix(kv, store.EnvDB+"=") {
-			r.cmd.Env = append(r.cmd.Env, kv)
-		}
-	}
-	r.cmd.Stderr = &r.stderr
-	if err := r.cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	go func() { r.err = r.cmd.Wait(); close(r.done) }()
-	t.Cleanup(func() {
-		if !r.ended() {
-			r.cmd.Process.Kill()
-			<-r.done
-		}
-	})
-	return r
+	return startBackground(t, "import", "readings", "--variable", "level", "--db", db, file)
 }
 
 // readOffset is how far the process of r has read file, from

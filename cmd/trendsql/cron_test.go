@@ -6,6 +6,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"trendsql/store/storetest"
 )
 
 // TestReadmeCronRecipe runs the command of the README's crontab line with
@@ -31,7 +33,7 @@ func TestReadmeCronRecipe(t *testing.T) {
 	dir := t.TempDir()
 	logFile := filepath.Join(dir, "summarize.log")
 	command = strings.ReplaceAll(command, "/var/log/trendsql/summarize.log", logFile)
-	db := demoCopy(t)
+	db := storetest.Copy(t, demoStore(t))
 	run := func(storePath, extra string) string {
 		t.Helper()
 		c := strings.Replace(command, "/usr/local/bin/trendsql summarize", bin(t)+" summarize --station VOR-W01"+extra, 1)

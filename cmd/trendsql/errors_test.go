@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"trendsql/store"
+	"trendsql/store/storetest"
 )
 
 // runMain runs the CLI in this process and returns stderr and the exit code.
@@ -51,7 +52,7 @@ func TestStoreErrorsWordedWithFlags(t *testing.T) {
 	}
 
 	// A summary selection that is not valid SQL.
-	db := demoCopy(t)
+	db := storetest.Copy(t, demoStore(t))
 	errs, code = runMain("--db", db, "summarize", "--where", "no_such_column = 1")
 	if code != ExitFailed || !strings.Contains(errs, "summarize: select series (check --where): ") || !strings.Contains(errs, "no_such_column") {
 		t.Errorf("summarize with a bad --where: exit %d, stderr %q", code, errs)

@@ -10,6 +10,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"trendsql/store/storetest"
 )
 
 // runIn runs the CLI in this process with stdin and returns stdout,
@@ -55,7 +57,7 @@ func TestOnlyInitAndDemoCreateAStore(t *testing.T) {
 }
 
 func TestSummarizeUnknownSelectionIsUsageError(t *testing.T) {
-	db := demoCopy(t)
+	db := storetest.Copy(t, demoStore(t))
 	_, errs, code := runIn("", "--db", db, "summarize", "--station", "VOR-W99")
 	if code != ExitUsage || !strings.Contains(errs, "--station VOR-W99: no such station (closest: VOR-W09") {
 		t.Errorf("unknown station: exit %d, stderr %q", code, errs)
@@ -78,13 +80,13 @@ func TestSummarizeUnknownSelectionIsUsageError(t *testing.T) {
 	if code != ExitNothing || !strings.Contains(errs, "no series match") {
 		t.Errorf("--where matching nothing: exit %d, stderr %q", code, errs)
 	}
-	if n := queryInt(t, readOnly(t, db), `SELECT count(*) FROM summary_runs`); n != 0 {
+	if n := queryInt(t, storetest.View(t, db).DB, `SELECT count(*) FROM summary_runs`); n != 0 {
 		t.Errorf("refused selections recorded %d runs", n)
 	}
 }
 
 func TestReportUnknownSelectionIsUsageError(t *testing.T) {
-	db := demoCopy(t)
+	db := storetest.Copy(t, demoStore(t))
 	dir := filepath.Join(t.TempDir(), "rep")
 	for _, c := range []struct {
 		args []string
@@ -111,7 +113,7 @@ func TestDemoStoreIsMarkedAndRecognised(t *testing.T) {
 	if p := (&env{}).demoPath(); p != DemoPath {
 		t.Errorf("demo without --db builds %q, want %q whatever TRENDSQL_DB says", p, DemoPath)
 	}
-	db := demoCopy(t)
+	db := storetest.Copy(t, demoStore(t))
 	_, errs, code := runIn("", "--db", db, "init")
 	if code != 0 || !strings.Contains(errs, "warning: "+db+" is the demo store") {
 		t.Errorf("init on the demo store: exit %d, stderr %q; want a warning", code, errs)

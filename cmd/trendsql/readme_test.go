@@ -16,7 +16,7 @@ import (
 	"testing"
 
 	"trendsql/sqlfuncs"
-	"trendsql/store"
+	"trendsql/store/storetest"
 )
 
 type readmeExample struct {
@@ -91,11 +91,7 @@ func TestReadmeExamples(t *testing.T) {
 			t.Fatalf("%v: exit %d: %s", args, code, errw.String())
 		}
 	}
-	s, err := store.Open(context.Background(), db, store.Options{ReadOnly: true})
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer s.Close()
+	s := storetest.View(t, db)
 	update := os.Getenv("TRENDSQL_UPDATE_README") == "1"
 	// Replace from the last example backwards so line numbers stay valid.
 	for i := len(examples) - 1; i >= 0; i-- {

@@ -6,10 +6,12 @@ import (
 	"regexp"
 	"strings"
 	"testing"
+
+	"trendsql/store/storetest"
 )
 
 func TestReportCommand(t *testing.T) {
-	db := demoCopy(t)
+	db := storetest.Copy(t, demoStore(t))
 	dir := filepath.Join(t.TempDir(), "rep")
 	sel := []string{"--db", db, "--station", "VOR-M01,VOR-M02"}
 

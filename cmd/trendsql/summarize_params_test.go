@@ -8,6 +8,8 @@ import (
 	"testing"
 
 	_ "modernc.org/sqlite"
+
+	"trendsql/store/storetest"
 )
 
 // A run whose parameters differ from the previous successful run on the same
@@ -16,7 +18,7 @@ import (
 // set and never mixes it with another, and the earlier rows stay in
 // latest_series_summaries_by_parameters.
 func TestSummarizeParameterChangeNote(t *testing.T) {
-	db := demoCopy(t)
+	db := storetest.Copy(t, demoStore(t))
 	if errs, code := runMain("--db", db, "summarize", "--quiet", "--period", "1y", "--station", "VOR-W03,VOR-W06"); code != 0 {
 		t.Fatalf("first run: exit %d, %s", code, errs)
 	}

@@ -9,7 +9,6 @@ import (
 	"context"
 	"database/sql"
 	"fmt"
-	"io"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -19,47 +18,8 @@ import (
 	"time"
 
 	"trendsql/store"
+	"trendsql/store/storetest"
 )
-
-// demoCopy copies the shared demo store into a fresh directory.
-func demoCopy(t *testing.T) string {
-	t.Helper()
-	src := demoStore(t)
-	dst := filepath.Join(t.TempDir(), "demo.db")
-	for _, suffix := range []string{"", "-wal"} {
-		in, err := os.Open(src + suffix)
-		if err != nil {
-			if suffix != "" && os.IsNotExist(err) {
-				continue
-			}
-			t.Fatal(err)
-		}
-		out, err := os.Create(dst + suffix)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if _, err := io.Copy(out, in); err != nil {
-			t.Fatal(err)
-		}
-		in.Close()
-		if err := out.Close(); err != nil {
-			t.Fatal(err)
-		}
-	}
-	return dst
-}
-
-// readOnly opens a store read-only: the "other process" view of the tests
-// (the summarize runs are separate processes).
-func readOnly(t *testing.T, path string) *sql.DB {
-	t.Helper()
-	s, err := store.Open(context.Background(), path, store.Options{ReadOnly: true})
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { s.Close() })
-	return s.DB
-}
 
 func queryInt(t *testing.T, db *sql.DB, q string, args ...any) int64 {
 	t.Helper()
@@ -78,32 +38,18 @@ func viewDigest(t *testing.T, db *sql.DB) string {
 	if err != nil {
 		t.Fatal(err)
 	}
-	defer rows.Close()
-	cols, _ := rows.Columns()
+	all := storetest.ScanAll(t, rows)
 	var b strings.Builder
-	n := 0
-	for rows.Next() {
-		vals := make([]any, len(cols))
-		ptrs := make([]any, len(cols))
-		for i := range vals {
-			ptrs[i] = &vals[i]
-		}
-		if err := rows.Scan(ptrs...); err != nil {
-			t.Fatal(err)
-		}
+	for _, vals := range all {
 		fmt.Fprintln(&b, vals...)
-		n++
 	}
-	if err := rows.Err(); err != nil {
-		t.Fatal(err)
-	}
-	if n == 0 {
+	if len(all) == 0 {
 		t.Fatal("latest_series_summaries is empty")
 	}
 	return b.String()
 }
 
-// bgRun is a `trendsql summarize` running in the background.
+// bgRun is a trendsql process running in the background.
 type bgRun struct {
 	cmd    *exec.Cmd
 	stderr bytes.Buffer
@@ -125,8 +71,16 @@ func (r *bgRun) ended() bool {
 // startSummarize starts `trendsql summarize` in the background.
 func startSummarize(t *testing.T, db string, args ...string) *bgRun {
 	t.Helper()
+	return startBackground(t, append([]string{"summarize", "--db", db}, args...)...)
+}
+
+// startBackground starts the binary with args in the background, without
+// TRENDSQL_DB in its environment; it is killed when the test ends unless it
+// has ended by then.
+func startBackground(t *testing.T, args ...string) *bgRun {
+	t.Helper()
 	r := &bgRun{done: make(chan struct{})}
-	r.cmd = exec.Command(bin(t), append([]string{"summarize", "--db", db}, args...)...)
+	r.cmd = exec.Command(bin(t), args...)
 	r.cmd.Dir = workDir
 	for _, kv := range os.Environ() {
 		if !strings.HasPrefix(kv, store.EnvDB+"=") {
@@ -239,11 +193,11 @@ func killWhen(t *testing.T, r *bgRun, what string, ready func() bool) {
 // the store intact, the earlier run untouched and nothing of the killed run
 // visible; the next run marks the dead run interrupted and succeeds.
 func TestSummarizeSurvivesSIGKILL(t *testing.T) {
-	db := demoCopy(t)
+	db := storetest.Copy(t, demoStore(t))
 	if _, errs, code := runBin(t, "", "summarize", "--db", db, "--period", "1y", "--quiet"); code != 0 {
 		t.Fatalf("first summarize exited %d: %s", code, errs)
 	}
-	ro := readOnly(t, db)
+	ro := storetest.View(t, db).DB
 	first := queryInt(t, ro, `SELECT max(id) FROM summary_runs WHERE status = 'ok'`)
 	ss1, cg1 := runCounts(t, ro, first)
 	if ss1 < 40 || cg1 == 0 {
@@ -326,8 +280,8 @@ func TestSummarizeSurvivesSIGKILL(t *testing.T) {
 // TestSummarizeChangedOnlyAfterImport imports readings for exactly three
 // demo series and checks that --changed-only recomputes exactly those.
 func TestSummarizeChangedOnlyAfterImport(t *testing.T) {
-	db := demoCopy(t)
-	ro := readOnly(t, db)
+	db := storetest.Copy(t, demoStore(t))
+	ro := storetest.View(t, db).DB
 	if n := queryInt(t, ro, `SELECT count(*) FROM series`); n < 40 {
 		t.Fatalf("demo store has %d series, want 40 or more", n)
 	}
@@ -455,13 +409,13 @@ func TestSummarizeChangedOnlyAfterImport(t *testing.T) {
 // a run that another process is writing: every observation (one SELECT, so
 // one snapshot) shows either none or all of the new run.
 func TestSummarizeReadersSeeOldOrNew(t *testing.T) {
-	db := demoCopy(t)
+	db := storetest.Copy(t, demoStore(t))
 	// A long correlogram makes the final write transaction large.
 	args := []string{"--period", "1y", "--max-lag", "400", "--quiet"}
 	if _, errs, code := runBin(t, "", append([]string{"summarize", "--db", db}, args...)...); code != 0 {
 		t.Fatalf("first summarize exited %d: %s", code, errs)
 	}
-	ro := readOnly(t, db)
+	ro := storetest.View(t, db).DB
 	first := queryInt(t, ro, `SELECT max(id) FROM summary_runs WHERE status = 'ok'`)
 	ss1, cg1 := runCounts(t, ro, first)
 	nSeries := queryInt(t, ro, `SELECT count(*) FROM series`)
@@ -514,8 +468,8 @@ func TestSummarizeReadersSeeOldOrNew(t *testing.T) {
 // TestSummarizeLock: a second summarize while one runs exits 3 with a clear
 // message; with --wait it runs after the first has finished.
 func TestSummarizeLock(t *testing.T) {
-	db := demoCopy(t)
-	ro := readOnly(t, db)
+	db := storetest.Copy(t, demoStore(t))
+	ro := storetest.View(t, db).DB
 	// One worker and a long correlogram keep the first run busy for seconds.
 	a := startSummarize(t, db, "--period", "1y", "--workers", "1", "--max-lag", "5000", "--quiet")
 	runA := waitRunning(t, ro, a, 0)
@@ -581,7 +535,7 @@ func TestSummarizeOnTerminal(t *testing.T) {
 	if err != nil {
 		t.Skip("script(1) not installed: cannot make a pseudo-terminal")
 	}
-	db := demoCopy(t)
+	db := storetest.Copy(t, demoStore(t))
 	for _, quiet := range []bool{false, true} {
 		line := bin(t) + " summarize --db " + db + " --period 1y"
 		if quiet {

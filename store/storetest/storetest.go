@@ -1,11 +1,14 @@
 // Package storetest holds the helpers tests share: a scratch store in the
-// test's temporary directory, a series inserted in one call, the integrity
-// check, and reading a result set whole.
+// test's temporary directory, a copy of an existing store, a read-only view
+// of one, a series inserted in one call, the integrity check, and reading a
+// result set whole.
 package storetest
 
 import (
 	"context"
 	"database/sql"
+	"io"
+	"os"
 	"path/filepath"
 	"testing"
 
@@ -55,13 +58,55 @@ func Integrity(tb testing.TB, s *store.Store) {
 // (stopping the test unless it says ok) and closes it when the test ends.
 func OpenReadOnly(tb testing.TB, path string) *store.Store {
 	tb.Helper()
-	s, err := store.Open(context.Background(), path, store.Options{ReadOnly: true})
-	if err != nil {
-		tb.Fatalf("open %s: %v", path, err)
-	}
-	tb.Cleanup(func() { s.Close() })
+	s := View(tb, path)
 	Integrity(tb, s)
 	return s
+}
+
+// View opens the store at path read-only and closes it when the test ends,
+// without the integrity check of OpenReadOnly: the view tests take of a
+// store that another process may be writing, or of a shared fixture that
+// many tests open.
+func View(tb testing.TB, path string) *store.Store {
+	tb.Helper()
+	s, err := store.Open(context.Background(), path, store.Options{ReadOnly: true})
+	if err != nil {
+		tb.Fatalf("open %s read-only: %v", path, err)
+	}
+	tb.Cleanup(func() { s.Close() })
+	return s
+}
+
+// Copy copies the store at src, with its write-ahead log when there is one,
+// into a fresh directory under tb's temporary directory and returns the
+// copy's path (same file name as src).
+func Copy(tb testing.TB, src string) string {
+	tb.Helper()
+	dst := filepath.Join(tb.TempDir(), filepath.Base(src))
+	for _, suffix := range []string{"", "-wal"} {
+		in, err := os.Open(src + suffix)
+		if err != nil {
+			if suffix != "" && os.IsNotExist(err) {
+				continue
+			}
+			tb.Fatal(err)
+		}
+		out, err := os.Create(dst + suffix)
+		if err != nil {
+			in.Close()
+			tb.Fatal(err)
+		}
+		_, err = io.Copy(out, in)
+		in.Close()
+		if err != nil {
+			out.Close()
+			tb.Fatal(err)
+		}
+		if err := out.Close(); err != nil {
+			tb.Fatal(err)
+		}
+	}
+	return dst
 }
 
 // InsertSeries stores one series: station (created with its id as name

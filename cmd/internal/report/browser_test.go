@@ -17,6 +17,8 @@ import (
 	"sync"
 	"testing"
 	"time"
+
+	"trendsql/store/storetest"
 )
 
 // The real-browser check: Debian's Chromium, headless, driven over the
@@ -283,7 +285,7 @@ func TestReportInChromium(t *testing.T) {
 		}
 		t.Skip("Chromium not found at /usr/bin/chromium (apt-get install chromium); skipping the browser check")
 	}
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	// The demo basin only (the fixture's hostile station stays out of the
 	// README's pictures).
 	res := writeReport(t, s, Options{GroupBy: "aquifer", Selection: Selection{Where: "st.id LIKE 'VOR-%'"}})

@@ -15,6 +15,7 @@ import (
 	"trendsql/sqlfuncs/stats"
 	"trendsql/store"
 	"trendsql/store/demodata"
+	"trendsql/store/storetest"
 	"trendsql/store/summaries"
 )
 
@@ -46,7 +47,7 @@ func longest(ps []svgPath) (best [][2]float64) {
 // The ACF bars must stand on the zero line and reach the stored sample
 // ACF of each lag; the dashed band must sit at ±(stored band).
 func TestACFBarsEqualStoredACF(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{"VOR-W01"}}})
 	id, page := pageOf(t, s, res, "VOR-W01", "groundwater_level")
 	f := figures(t, page)["fig-acf"]
@@ -109,7 +110,7 @@ func TestACFBarsEqualStoredACF(t *testing.T) {
 // reading to that at the last, and the seasonal curve from trend_value at
 // the first reading to trend_value at the last (evaluated here in SQL).
 func TestTrendLineEndsAtTrendValue(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{"VOR-W01"}}})
 	id, page := pageOf(t, s, res, "VOR-W01", "groundwater_level")
 	f := figures(t, page)["fig-readings"]
@@ -239,7 +240,7 @@ func checkEveryReading(t *testing.T, f *svgFigure, runs [][][2]float64, n int) {
 }
 
 func TestEveryReadingDrawnWithGapsAsBreaks(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	for _, c := range []struct {
 		station, variable string
 		full              bool
@@ -257,7 +258,7 @@ func TestEveryReadingDrawnWithGapsAsBreaks(t *testing.T) {
 // A long hourly series is drawn thinned: every stretch keeps its lowest and
 // highest reading, and no more than four points per column are drawn.
 func TestThinnedSeriesKeepsExtremes(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{"VOR-G01"}}})
 	id, page := pageOf(t, s, res, "VOR-G01", "stage")
 	f := figures(t, page)["fig-readings"]
@@ -310,7 +311,7 @@ func countSingles(runs [][][2]float64) int {
 // reporting limit) with an open triangle pointing down, in a colour of
 // their own, and the figures name the censored share.
 func TestCensoredReadingsMarked(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{censoredStation}}})
 	id, page := pageOf(t, s, res, censoredStation, "nitrate_n")
 	var nCens int
@@ -434,7 +435,7 @@ func TestSeriesMissingFromRunComputedNow(t *testing.T) {
 // The dotted Sen line has the stored Sen slope and passes through the
 // median time and median value of the readings (medians taken here in SQL).
 func TestSenLineThroughMedians(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	for _, st := range []string{"VOR-W01", censoredStation} {
 		res := writeReport(t, s, Options{Selection: Selection{Stations: []string{st}}})
 		var id int64
@@ -475,7 +476,7 @@ func TestSenLineThroughMedians(t *testing.T) {
 // The Ljung–Box chart joins the stored p-value of each lag, and its dashed
 // line sits at the run's α.
 func TestLjungBoxPointsEqualStoredP(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{"VOR-M01"}, Variables: []string{"nitrate_n"}}})
 	id, page := pageOf(t, s, res, "VOR-M01", "nitrate_n")
 	f := figures(t, page)["fig-ljungbox"]
@@ -530,7 +531,7 @@ func TestLjungBoxPointsEqualStoredP(t *testing.T) {
 // and down for a negative one, filled exactly when the run flagged the
 // trend.
 func TestMapSymbolsFollowStoredTrends(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	res := writeReport(t, s, Options{Selection: Selection{Variables: []string{"stage", "groundwater_level"}, Where: "st.id LIKE 'VOR-%'"}})
 	index := readFile(t, filepath.Join(res.Dir, "index.html"))
 	figs := figures(t, index)
@@ -597,7 +598,7 @@ func TestMapSymbolsFollowStoredTrends(t *testing.T) {
 // station's attribute value (rows in sorted order, "(none)" for stations
 // without one).
 func TestGroupedSlopesOnTheirRows(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	res := writeReport(t, s, Options{GroupBy: "aquifer", Selection: Selection{Variables: []string{"groundwater_level"}, Where: "st.id LIKE 'VOR-%'"}})
 	f := figures(t, readFile(t, filepath.Join(res.Dir, "index.html")))["fig-group-groundwater-level"]
 	if f == nil {

@@ -102,20 +102,9 @@ func buildFixture(path string) error {
 	return err
 }
 
-// openDemo opens the shared store read-only.
 // fixtureModel is the summarize model of the fixture's run.
 var fixtureModel = stats.SummaryOptions{PeriodS: secondsPerYear, Harmonics: 2, Seasons: 12, MaxLag: 24,
 	Alpha: 0.05, Confidence: 0.95, MinN: 10}
-
-func openDemo(t *testing.T) *store.Store {
-	t.Helper()
-	s, err := store.Open(context.Background(), demoPath(t), store.Options{ReadOnly: true})
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { s.Close() })
-	return s
-}
 
 // writeReport writes a report of the selection into a fresh folder.
 func writeReport(t *testing.T, s *store.Store, o Options) *Result {

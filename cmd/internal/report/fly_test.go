@@ -2,7 +2,6 @@ package report
 
 import (
 	"context"
-	"os"
 	"path/filepath"
 	"regexp"
 	"strings"
@@ -11,6 +10,7 @@ import (
 
 	"trendsql/sqlfuncs/stats"
 	"trendsql/store"
+	"trendsql/store/storetest"
 	"trendsql/store/summaries"
 )
 
@@ -21,20 +21,7 @@ import (
 // and the trend flag taken from it, which belong to a whole run.
 func TestMissingSeriesComputedAsSummarizeWould(t *testing.T) {
 	ctx := context.Background()
-	path := filepath.Join(t.TempDir(), "copy.db")
-	src := demoPath(t)
-	for _, suffix := range []string{"", "-wal"} {
-		b, err := os.ReadFile(src + suffix)
-		if os.IsNotExist(err) && suffix != "" {
-			continue
-		}
-		if err != nil {
-			t.Fatal(err)
-		}
-		if err := os.WriteFile(path+suffix, b, 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
+	path := storetest.Copy(t, demoPath(t))
 	s, err := store.Open(ctx, path, store.Options{})
 	if err != nil {
 		t.Fatal(err)

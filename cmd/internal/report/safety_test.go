@@ -9,12 +9,14 @@ import (
 	"regexp"
 	"strings"
 	"testing"
+
+	"trendsql/store/storetest"
 )
 
 // Station names, metadata, variables and units reach the pages as text,
 // never as markup, in the HTML and inside the SVG charts.
 func TestHostileTextIsEscaped(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{hostileStation, "VOR-M01"}}, MetaCols: []string{"owner", "aquifer"}, GroupBy: "aquifer"})
 	_, page := pageOf(t, s, res, hostileStation, hostileVar)
 	index := readFile(t, filepath.Join(res.Dir, "index.html"))
@@ -99,7 +101,7 @@ func TestPageNames(t *testing.T) {
 // never replaced. A report folder can be rewritten, and pages no longer
 // selected are removed.
 func TestOutputFolderSafety(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	ctx := context.Background()
 	dir := filepath.Join(t.TempDir(), "out")
 	os.MkdirAll(dir, 0o755)
@@ -153,7 +155,7 @@ func TestOutputFolderSafety(t *testing.T) {
 // Pages load nothing: no external scripts, style sheets, images, fonts or
 // frames, and every link is to another file of the report.
 func TestPagesAreSelfContained(t *testing.T) {
-	s := openDemo(t)
+	s := storetest.View(t, demoPath(t))
 	res := writeReport(t, s, Options{Selection: Selection{Stations: []string{"VOR-M01", "VOR-W01"}}, PNG: true})
 	files := map[string]bool{}
 	for _, f := range res.Files {
