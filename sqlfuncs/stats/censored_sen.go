@@ -145,6 +145,9 @@ func akritasTheilSen(t, y []float64, c []Censoring, bound float64) (CensoredSenR
 			return res, fmt.Errorf("times must be strictly increasing (value %d)", i+1)
 		}
 	}
+	if err := checkStepRange(t, y); err != nil {
+		return res, err
+	}
 	// Steps by kind: both-sided, up-only (+1 up to s), down-only (−1 from s).
 	var nTwo, nUp, nDown int
 	for i := 0; i < n; i++ {
@@ -260,6 +263,29 @@ func akritasTheilSen(t, y []float64, c []Censoring, bound float64) (CensoredSenR
 	}
 	res.CILower, res.CIUpper = ends[2].v, ends[3].v
 	return res, nil
+}
+
+// checkStepRange refuses series whose steps (y_j − y_i)/(t_j − t_i) cannot
+// all be formed in float64: a time span or value range wider than the
+// largest float64 makes some difference infinite and its step NaN (∞/∞ or
+// ∞ − ∞), which has no place in the order of the steps. Times are sorted
+// and finite, so their span is t[n−1] − t[0].
+func checkStepRange(t, y []float64) error {
+	n := len(t)
+	if n < 2 {
+		return nil
+	}
+	if span := t[n-1] - t[0]; math.IsInf(span, 0) || math.IsNaN(span) {
+		return fmt.Errorf("Akritas–Theil–Sen slope: times from %g to %g span more than the largest float64; rescale the times", t[0], t[n-1])
+	}
+	lo, hi := y[0], y[0]
+	for _, v := range y[1:] {
+		lo, hi = min(lo, v), max(hi, v)
+	}
+	if math.IsInf(hi-lo, 0) {
+		return fmt.Errorf("Akritas–Theil–Sen slope: values from %g to %g span more than the largest float64; rescale the values", lo, hi)
+	}
+	return nil
 }
 
 // pairKind classifies the pair (i earlier, j later): 2 when the residual

@@ -18,6 +18,7 @@ package stats
 import (
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 )
 
@@ -522,5 +523,38 @@ func TestRecensorAndProfile(t *testing.T) {
 	// After re-censoring there is a single limit.
 	if p := ProfileCensoring(ry, rc); p.Limits != 1 || p.Below != 4 {
 		t.Errorf("re-censored profile %+v", p)
+	}
+}
+
+// TestAkritasTheilSenSpanOverflow: a value range or time span wider than
+// the largest float64 makes some steps NaN (∞/∞); the slope must be
+// refused with an error naming the range, on the sorted and the streaming
+// path, instead of walking steps that compare unequal to themselves.
+func TestAkritasTheilSenSpanOverflow(t *testing.T) {
+	saved := atsSortedSteps
+	defer func() { atsSortedSteps = saved }()
+	for _, limit := range []int64{saved, 0} {
+		atsSortedSteps = limit
+		for _, tc := range []struct {
+			name string
+			t, y []float64
+			want string
+		}{
+			{"values", []float64{0, 1, 2}, []float64{1e308, 0, -1e308}, "values from"},
+			{"times", []float64{-1e308, 0, 1e308}, []float64{1, 2, 3}, "times from"},
+			{"both", []float64{-1e308, 1e308}, []float64{-1e308, 1e308}, "times from"},
+		} {
+			c := make([]Censoring, len(tc.t))
+			_, err := AkritasTheilSenInterval(tc.t, tc.y, c, 0.95)
+			if err == nil || !strings.Contains(err.Error(), tc.want) {
+				t.Errorf("%s (sorted limit %d): error %v, want one containing %q", tc.name, limit, err, tc.want)
+			}
+		}
+		// Near the limit but finite: accepted, and the slope is the exact
+		// median step (2e307/1 for values ±1e307 at times 0, 1).
+		r, err := AkritasTheilSen([]float64{0, 1}, []float64{-1e307, 1e307}, []Censoring{0, 0})
+		if err != nil || r.Slope != 2e307 {
+			t.Errorf("finite range near the limit (sorted limit %d): %+v %v", limit, r, err)
+		}
 	}
 }
