@@ -65,7 +65,8 @@ func atsEachStep(t, y []float64, c []Censoring, fn func(s float64, w int64)) {
 }
 
 type atsBracket struct {
-	lo, hi float64 // the end lies in (lo, hi]
+	lo, hi float64 // the end lies in (lo, hi], or [lo, hi] with withLo
+	withLo bool    // lo itself belongs (the first bracket, lo = −∞, so that steps of −∞ count)
 	dLo    int64   // D(lo)
 	count  int64   // steps in (lo, hi]
 	want   int64   // w
@@ -99,7 +100,7 @@ func atsStreamEnds(t, y []float64, c []Censoring, wants []int64, steps, total in
 		if w <= 0 || w > total {
 			continue
 		}
-		br = append(br, &atsBracket{lo: math.Inf(-1), hi: math.Inf(1), count: steps, want: w})
+		br = append(br, &atsBracket{lo: math.Inf(-1), withLo: true, hi: math.Inf(1), count: steps, want: w})
 	}
 	rng := rand.New(rand.NewPCG(1995, 170))
 	for {
@@ -133,7 +134,7 @@ func atsStreamEnds(t, y []float64, c []Censoring, wants []int64, steps, total in
 		if len(pass) > 0 {
 			atsEachStep(t, y, c, func(s float64, w int64) {
 				for _, b := range pass {
-					if !(s > b.lo && s <= b.hi) {
+					if !b.holds(s) {
 						continue
 					}
 					if !b.sampling {
@@ -168,6 +169,12 @@ func atsStreamEnds(t, y []float64, c []Censoring, wants []int64, steps, total in
 						break
 					}
 				}
+				if !b.done {
+					// Unreachable while the bracket invariant holds (its
+					// steps carry D from dLo past want); a NaN end rather
+					// than another pass.
+					b.v, b.done = math.NaN(), true
+				}
 				b.collect = nil
 				continue
 			}
@@ -196,7 +203,7 @@ func atsStreamEnds(t, y []float64, c []Censoring, wants []int64, steps, total in
 		// (piv[k−1], piv[k]], the last cell above the last pivot.
 		atsEachStep(t, y, c, func(s float64, w int64) {
 			for _, b := range sampling {
-				if !(s > b.lo && s <= b.hi) {
+				if !b.holds(s) {
 					continue
 				}
 				// k = the first pivot ≥ s (len(pivots) when none).
@@ -222,17 +229,17 @@ func atsStreamEnds(t, y []float64, c []Censoring, wants []int64, steps, total in
 			if o := b.shares; o != nil {
 				b.pivots, b.weight, b.cells, b.eqWeight, b.eqCount = o.pivots, o.weight, o.cells, o.eqWeight, o.eqCount
 			}
-			d, lo, found := b.dLo, b.lo, false
+			d, lo, withLo, found := b.dLo, b.lo, b.withLo, false
 			for k, pv := range b.pivots {
 				if d+b.weight[k] < b.want {
 					d += b.weight[k]
-					lo = pv
+					lo, withLo = pv, false
 					continue
 				}
 				found = true
 				// The end is pv or a step of the cell below pv.
 				if d+b.weight[k]-b.eqWeight[k] >= b.want {
-					b.lo, b.hi, b.dLo, b.count = lo, math.Nextafter(pv, math.Inf(-1)), d, b.cells[k]-b.eqCount[k]
+					b.lo, b.withLo, b.hi, b.dLo, b.count = lo, withLo, math.Nextafter(pv, math.Inf(-1)), d, b.cells[k]-b.eqCount[k]
 				} else {
 					b.v, b.done = pv, true
 				}
@@ -240,7 +247,7 @@ func atsStreamEnds(t, y []float64, c []Censoring, wants []int64, steps, total in
 			}
 			if !found {
 				// D stays below w up to the last pivot: the end is above it.
-				b.lo, b.dLo, b.count = lo, d, b.cells[len(b.pivots)]
+				b.lo, b.withLo, b.dLo, b.count = lo, withLo, d, b.cells[len(b.pivots)]
 			}
 		}
 		for _, b := range settle {
@@ -256,6 +263,11 @@ func atsStreamEnds(t, y []float64, c []Censoring, wants []int64, steps, total in
 		k++
 	}
 	return out
+}
+
+// holds reports whether step value s lies in the bracket.
+func (b *atsBracket) holds(s float64) bool {
+	return (s > b.lo || b.withLo && s == b.lo) && s <= b.hi
 }
 
 // atsDrawPivots draws b's pivots from uniformly random pairs, skipping the

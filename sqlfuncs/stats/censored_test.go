@@ -558,3 +558,49 @@ func TestAkritasTheilSenSpanOverflow(t *testing.T) {
 		}
 	}
 }
+
+// TestAkritasTheilSenInfiniteSteps: finite times and values whose steps
+// overflow to ±∞ (a huge change over a tiny time gap) are ordinary steps at
+// the ends of the order; the streaming path (forced, with small pivot and
+// collection sizes so that brackets are sampled and shrunk, including to
+// −∞ itself) must give the sorted walk's ends exactly, and terminate.
+func TestAkritasTheilSenInfiniteSteps(t *testing.T) {
+	savedSorted, savedPiv, savedFirst, savedCollect := atsSortedSteps, atsPivotCount, atsFirstPivots, atsCollectMax
+	defer func() {
+		atsSortedSteps, atsPivotCount, atsFirstPivots, atsCollectMax = savedSorted, savedPiv, savedFirst, savedCollect
+	}()
+	rng := rand.New(rand.NewPCG(71, 73))
+	for k := 0; k < 60; k++ {
+		n := 6 + rng.IntN(30)
+		tt := make([]float64, n)
+		y := make([]float64, n)
+		c := make([]Censoring, n)
+		for i := range tt {
+			if i > 0 {
+				tt[i] = tt[i-1] + 1
+				if rng.IntN(3) == 0 {
+					tt[i] = math.Nextafter(tt[i-1], math.Inf(1)) // a tiny gap
+				}
+			}
+			y[i] = float64(rng.IntN(7) - 3)
+			if rng.IntN(3) == 0 {
+				y[i] *= 1e300
+			}
+			c[i] = Censoring(rng.IntN(4) / 3 * (1 - 2*rng.IntN(2))) // mostly uncensored
+		}
+		atsSortedSteps, atsPivotCount, atsFirstPivots, atsCollectMax = savedSorted, savedPiv, savedFirst, savedCollect
+		want, err := AkritasTheilSenInterval(tt, y, c, 0.9)
+		if err != nil {
+			t.Fatal(err)
+		}
+		atsSortedSteps, atsPivotCount, atsFirstPivots, atsCollectMax = 0, 4, 4, 3
+		got, err := AkritasTheilSenInterval(tt, y, c, 0.9)
+		if err != nil {
+			t.Fatal(err)
+		}
+		same := func(a, b float64) bool { return a == b || math.IsNaN(a) && math.IsNaN(b) }
+		if !same(got.Lower, want.Lower) || !same(got.Upper, want.Upper) || !same(got.CILower, want.CILower) || !same(got.CIUpper, want.CIUpper) {
+			t.Fatalf("case %d: streaming %+v, sorted %+v (t %v y %v c %v)", k, got, want, tt, y, c)
+		}
+	}
+}
