@@ -34,7 +34,12 @@ func runInit(ctx context.Context, e *env) error {
 	if err != nil {
 		return err
 	}
-	e.warnIfDemo(ctx, s)
+	if e.warnIfDemo(ctx, s) {
+		// The store is current, but it is not a store for the user's data:
+		// the last line says so rather than "ready".
+		fmt.Fprintf(e.errw, "%s is the demo store (schema version %d), not a store for your own data: create one with `trendsql init --db FILE` naming a new FILE\n", s.Path, cur)
+		return nil
+	}
 	fmt.Fprintf(e.errw, "store %s ready (schema version %d)\n", s.Path, cur)
 	return nil
 }

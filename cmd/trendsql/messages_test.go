@@ -118,6 +118,13 @@ func TestDemoStoreIsMarkedAndRecognised(t *testing.T) {
 	if code != 0 || !strings.Contains(errs, "warning: "+db+" is the demo store") {
 		t.Errorf("init on the demo store: exit %d, stderr %q; want a warning", code, errs)
 	}
+	// The last line does not contradict the warning: it names the demo
+	// store and the command that creates a store for one's own data.
+	lines := strings.Split(strings.TrimSuffix(errs, "\n"), "\n")
+	if last := lines[len(lines)-1]; strings.Contains(last, "ready") || !strings.Contains(last, db+" is the demo store") ||
+		!strings.Contains(last, "trendsql init --db FILE") {
+		t.Errorf("init on the demo store: last line %q; want it to name the demo store and `trendsql init --db FILE`, not \"ready\"", last)
+	}
 	file := filepath.Join(t.TempDir(), "r.csv")
 	if err := os.WriteFile(file, []byte("station,time,value\nMY-1,2021-01-01,1\n"), 0o644); err != nil {
 		t.Fatal(err)

@@ -110,11 +110,15 @@ func (e *env) create(ctx context.Context) (*store.Store, error) {
 }
 
 // warnIfDemo warns on stderr when s is the demo store: its readings are
-// invented, and a user's own data belong in a store of their own.
-func (e *env) warnIfDemo(ctx context.Context, s *store.Store) {
-	if demo, err := demodata.IsDemo(ctx, s.DB); err == nil && demo {
-		fmt.Fprintf(e.errw, "warning: %s is the demo store built by `trendsql demo` (invented readings of an invented basin); keep your own data in a store of their own (`trendsql init --db FILE`)\n", s.Path)
+// invented, and a user's own data belong in a store of their own. It
+// reports whether it warned.
+func (e *env) warnIfDemo(ctx context.Context, s *store.Store) bool {
+	demo, err := demodata.IsDemo(ctx, s.DB)
+	if err != nil || !demo {
+		return false
 	}
+	fmt.Fprintf(e.errw, "warning: %s is the demo store built by `trendsql demo` (invented readings of an invented basin); keep your own data in a store of their own (`trendsql init --db FILE`)\n", s.Path)
+	return true
 }
 
 // openForSQL opens the store for SQL typed by the user (query, shell):
