@@ -65,7 +65,7 @@ counts; --max-reject-share fails it also when a larger share of rows is
 rejected (for scheduled imports).`,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if len(args) == 0 {
-				return cmd.Help()
+				return missingSubcommand(cmd, "name what to import, `trendsql import stations FILE.csv` or `trendsql import readings FILE.csv`")
 			}
 			return usageErr("import: unknown kind %q: use `trendsql import stations FILE.csv` or `trendsql import readings FILE.csv`", args[0])
 		},

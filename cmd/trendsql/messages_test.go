@@ -8,8 +8,11 @@ import (
 	"bytes"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
+
+	"github.com/spf13/cobra"
 
 	"trendsql/store/storetest"
 )
@@ -205,5 +208,44 @@ func TestSQLErrorsReadAsWritten(t *testing.T) {
 	_, errs, _ := runIn("SELECT trend_slope(1);\n", "--db", db, "shell")
 	if !strings.Contains(errs, "SQL error: trend_slope: wrong number of arguments (1); usage: trend_slope(t, y)\n") {
 		t.Errorf("shell: %q", errs)
+	}
+}
+
+// A command that only groups subcommands (the program itself, import), run
+// without one, is a usage error: its usage goes to stderr, not stdout, the
+// exit code is 2 and the last line says what to type. Every such command in
+// the tree is checked; --help still prints the help as a success.
+func TestGroupWithoutSubcommandIsUsageError(t *testing.T) {
+	var groups [][]string
+	var walk func(c *cobra.Command, path []string)
+	walk = func(c *cobra.Command, path []string) {
+		if c.HasAvailableSubCommands() {
+			groups = append(groups, path)
+		}
+		for _, sub := range c.Commands() {
+			if sub.IsAvailableCommand() {
+				walk(sub, append(slices.Clone(path), sub.Name()))
+			}
+		}
+	}
+	walk(newRootCmd(&env{}), nil)
+	if len(groups) < 2 {
+		t.Fatalf("found the groups %v; want at least the program and import", groups)
+	}
+	for _, args := range groups {
+		out, errs, code := runIn("", args...)
+		lines := strings.Split(strings.TrimSuffix(errs, "\n"), "\n")
+		last := lines[len(lines)-1]
+		if code != ExitUsage || out != "" || !strings.HasPrefix(errs, "Usage:\n") || !strings.Contains(errs, "Available Commands:") ||
+			!strings.HasPrefix(last, "trendsql: ") || !strings.Contains(last, "no command given") {
+			t.Errorf("%v: exit %d, stdout %q, stderr %q; want exit 2, the usage on stderr and a last line saying no command was given", args, code, out, errs)
+		}
+		if help, errs, code := runIn("", append(slices.Clone(args), "--help")...); code != 0 || !strings.Contains(help, "Available Commands:") || errs != "" {
+			t.Errorf("%v --help: exit %d, stdout %q, stderr %q", args, code, help, errs)
+		}
+	}
+	_, errs, _ := runIn("", "import")
+	if !strings.Contains(errs, "`trendsql import stations FILE.csv` or `trendsql import readings FILE.csv`") {
+		t.Errorf("import alone: stderr %q; want the two kinds named", errs)
 	}
 }

@@ -160,10 +160,27 @@ review govern decisions about water supply and flood risk.`,
 		}
 		return &usageMarker{fmt.Errorf("%w (see `%s --help`)", err, c.CommandPath())}
 	})
+	// Without a command, the usage goes to stderr with exit code 2 (only
+	// --help and `trendsql help` print it as a success).
+	root.RunE = func(cmd *cobra.Command, args []string) error {
+		return missingSubcommand(cmd, "name a command, e.g. `trendsql demo` or `trendsql query \"SELECT …\"`")
+	}
 	for _, newCmd := range commands {
 		root.AddCommand(newCmd(e))
 	}
 	return root
+}
+
+// missingSubcommand is what a command that groups subcommands (the program
+// itself, import) does when none is named: it prints its usage to stderr
+// and returns a usage error (exit code 2) that says what to type.
+func missingSubcommand(cmd *cobra.Command, what string) error {
+	fmt.Fprint(cmd.ErrOrStderr(), cmd.UsageString())
+	prefix := ""
+	if cmd.HasParent() {
+		prefix = commandName(cmd) + ": "
+	}
+	return usageErr("%sno command given: %s (see `%s --help`)", prefix, what, cmd.CommandPath())
 }
 
 // commandName is a command's path without the program name ("query",
