@@ -1,8 +1,10 @@
 package main
 
 import (
+	"cmp"
 	"context"
 	"fmt"
+	"slices"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -24,7 +26,13 @@ func newFunctionsCmd(e *env) *cobra.Command {
 		Short: "List the SQL functions trendsql registers, with signature and summary",
 		Long: `List the SQL functions trendsql registers: name, signature, kind and
 summary, in the same formats and with the same output flags as query.
-With TEXT, only the functions whose name or summary mention it.`,
+With TEXT, only the functions whose name or summary mention it (a plain
+text, not a pattern; case is ignored), e.g. "kendall" or "autocorrelation".
+
+The list of functions is fixed for a given trendsql, so a TEXT that no
+function mentions is a mistake, not an empty answer: it is a usage error
+(exit code 2) that names the closest function names, and nothing is
+written to standard output or --out.`,
 		Args: func(cmd *cobra.Command, args []string) error {
 			if len(args) > 1 {
 				return usageErr("functions: expected at most one TEXT, got %d arguments", len(args))
@@ -49,7 +57,12 @@ func runFunctions(_ context.Context, e *env, o functionsOptions) error {
 	if err != nil {
 		return err
 	}
-	_, err = writeRows(w, functionRows(o.match), opt)
+	rows := functionRows(o.match)
+	if len(rows.rows) == 0 {
+		finish(false) // no --out file is left behind
+		return usageErr("functions: %s", noFunctionMessage(o.match))
+	}
+	_, err = writeRows(w, rows, opt)
 	if ferr := finish(err == nil); err == nil {
 		err = ferr
 	}
@@ -67,6 +80,55 @@ func functionRows(match string) *memRows {
 		}
 	}
 	return r
+}
+
+// noFunctionMessage words a TEXT that no function's name or summary
+// mentions, with the closest function names, e.g. `no SQL function mentions
+// "ljungbox" (closest: ljung_box, ljung_box_p)`.
+func noFunctionMessage(match string) string {
+	var names []string
+	for _, d := range sqlfuncs.List() {
+		names = append(names, d.Name)
+	}
+	msg := fmt.Sprintf("no SQL function mentions %q", match)
+	if near := closestFunctions(match, names, 3); len(near) > 0 {
+		return msg + " (closest: " + strings.Join(near, ", ") + ")"
+	}
+	return msg + fmt.Sprintf(" and no function name is close to it (`trendsql functions` lists all %d)", len(names))
+}
+
+// closestFunctions returns up to n names nearest to text by edit distance
+// (case-insensitive), measured against the whole name and against each of
+// its words between underscores, so "kendal" also finds mann_kendall and
+// "ljungbox" finds ljung_box; only names within a third of text's length
+// (at least 2 edits, and fewer edits than text has characters) are offered.
+func closestFunctions(text string, names []string, n int) []string {
+	text = strings.ToLower(strings.TrimSpace(text))
+	limit := max(2, len([]rune(text))/3)
+	limit = min(limit, len([]rune(text))-1)
+	type scored struct {
+		name      string
+		d, dWhole int // nearest of name and words; to the whole name
+	}
+	var near []scored
+	for _, name := range names {
+		low := strings.ToLower(name)
+		whole := editDistance(text, low)
+		d := whole
+		for _, w := range strings.Split(low, "_") {
+			d = min(d, editDistance(text, w))
+		}
+		if d <= limit {
+			near = append(near, scored{name, d, whole})
+		}
+	}
+	// Nearest first; among equals, the name nearest as a whole.
+	slices.SortStableFunc(near, func(a, b scored) int { return cmp.Or(a.d-b.d, a.dWhole-b.dWhole) })
+	var out []string
+	for _, c := range near[:min(n, len(near))] {
+		out = append(out, c.name)
+	}
+	return out
 }
 
 // memRows is a result set held in memory.

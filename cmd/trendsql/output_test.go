@@ -281,3 +281,42 @@ SELECT 1`
 		t.Errorf("tie outside the store's readings: %q", errs)
 	}
 }
+
+// A TEXT that no function mentions is a usage error naming the closest
+// function names (the list is fixed, so an empty list is always a mistake);
+// nothing goes to stdout or to --out. The shell's :functions says the same.
+func TestFunctionsNoMatchIsUsageError(t *testing.T) {
+	for _, c := range []struct{ text, want string }{
+		{"ljungbox", `functions: no SQL function mentions "ljungbox" (closest: ljung_box)`},
+		{"kendal1", `functions: no SQL function mentions "kendal1" (closest: mann_kendall, seasonal_kendall, censored_mann_kendall)`},
+		{"sen slpe", `functions: no SQL function mentions "sen slpe" (closest: sen_slope)`},
+		{"zzz", `functions: no SQL function mentions "zzz" and no function name is close to it (` + "`trendsql functions`" + ` lists all `},
+	} {
+		out, errs, code := runIn("", "functions", c.text)
+		if code != ExitUsage || out != "" || !strings.HasPrefix(errs, "trendsql: "+c.want) || strings.Count(errs, "\n") != 1 {
+			t.Errorf("functions %q: exit %d, stdout %q, stderr %q; want exit 2 and %q", c.text, code, out, errs, c.want)
+		}
+	}
+	// Any TEXT some name or summary mentions still lists, in any case.
+	if out, errs, code := runIn("", "functions", "--format", "csv", "AUTOCORRELATION"); code != 0 || !strings.Contains(out, "\nsample_acf,") {
+		t.Errorf("functions AUTOCORRELATION: exit %d, stdout %q, stderr %q", code, out, errs)
+	}
+	// No --out file is left behind, and flag errors still come first.
+	file := filepath.Join(t.TempDir(), "none.csv")
+	if _, _, code := runIn("", "functions", "--out", file, "zzz"); code != ExitUsage {
+		t.Errorf("functions --out FILE zzz: exit %d", code)
+	}
+	if entries, _ := os.ReadDir(filepath.Dir(file)); len(entries) != 0 {
+		t.Errorf("functions --out with no match left %v", entries)
+	}
+	if _, errs, code := runIn("", "functions", "--format", "xml", "zzz"); code != ExitUsage || !strings.Contains(errs, "--format must be") {
+		t.Errorf("functions --format xml zzz: exit %d, stderr %q", code, errs)
+	}
+	db := filepath.Join(t.TempDir(), "s.db")
+	initStore(t, db)
+	out, errs, code := runIn(":functions zzz\n:functions ljungbox\n", "--db", db, "shell")
+	if code != ExitFailed || out != "" || !strings.Contains(errs, `:functions: no SQL function mentions "zzz"`) ||
+		!strings.Contains(errs, `:functions: no SQL function mentions "ljungbox" (closest: ljung_box)`) {
+		t.Errorf("shell :functions with no match: exit %d, stdout %q, stderr %q", code, out, errs)
+	}
+}

@@ -27,7 +27,8 @@ Shell commands (one per line, not ended by ';'):
   :format [FORMAT]    show or set the result format: table, csv, json or fields
   :out FILE           send the next results to FILE (format from its extension
                       .csv, .json or .txt, else the current one); :out alone cancels
-  :functions [TEXT]   list trendsql's SQL functions (only those mentioning TEXT)
+  :functions [TEXT]   list trendsql's SQL functions (only those mentioning TEXT;
+                      a TEXT none mentions is an error naming the closest names)
   :help               show this list
   :quit               leave the shell (Ctrl-D does too)`
 
@@ -452,8 +453,7 @@ func (sh *shell) dispatch(line string) error {
 	case ":functions":
 		rows := functionRows(strings.Join(args, " "))
 		if len(rows.rows) == 0 && len(args) > 0 {
-			fmt.Fprintf(sh.out, "(no SQL function mentions %q)\n", strings.Join(args, " "))
-			return nil
+			return fmt.Errorf(":functions: %s", noFunctionMessage(strings.Join(args, " ")))
 		}
 		_, err := writeRows(sh.out, rows, sh.output())
 		return err
