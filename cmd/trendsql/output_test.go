@@ -253,6 +253,44 @@ func TestShellOutSendsNextResultsToFile(t *testing.T) {
 	}
 }
 
+// :out replaces an existing file only with --force, as --out does; the
+// store itself is never replaced, --force or not.
+func TestShellOutForceReplaces(t *testing.T) {
+	dir := t.TempDir()
+	db := filepath.Join(dir, "s.db")
+	initStore(t, db)
+	file := filepath.Join(dir, "old.csv")
+	if err := os.WriteFile(file, []byte("kept\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, errs, code := runIn(":out "+file+"\nSELECT 1 AS a;\n", "--db", db, "shell")
+	if got, _ := os.ReadFile(file); string(got) != "kept\n" || code != ExitFailed ||
+		!strings.Contains(errs, ":out: "+file+" exists; choose another file or replace it with :out --force "+file) {
+		t.Errorf(":out on an existing file: exit %d, stderr %q, file %q", code, errs, got)
+	}
+	out, errs, code := runIn(":out --force "+file+"\nSELECT 1 AS a;\nSELECT 2 AS b;\n", "--db", db, "shell")
+	if got, _ := os.ReadFile(file); string(got) != "a\n1\n" || code != 0 || !strings.Contains(out, "b") ||
+		!strings.Contains(errs, "1 row written to "+file) {
+		t.Errorf(":out --force: exit %d, stdout %q, stderr %q, file %q", code, out, errs, got)
+	}
+	for _, c := range []struct{ in, want string }{
+		{":out --force\n", ":out --force: name the file to write"},
+		{":out --force " + db + "\n", ":out: " + db + " is the store itself (or its journal); results never replace it, --force or not"},
+		{":out --force " + dir + "\n", ":out: " + dir + " is a directory"},
+		{":out --replace\n", ":out: unknown option --replace"},
+	} {
+		if _, errs, code := runIn(c.in, "--db", db, "shell"); code != ExitFailed || !strings.Contains(errs, c.want) {
+			t.Errorf("%q: exit %d, stderr %q; want %q", c.in, code, errs, c.want)
+		}
+	}
+	if st, err := os.Stat(db); err != nil || st.Size() == 0 {
+		t.Errorf("the store after :out --force on it: %v", err)
+	}
+	if !strings.Contains(shellHelp, ":out --force FILE") {
+		t.Errorf(":help does not list :out --force FILE:\n%s", shellHelp)
+	}
+}
+
 func TestTieMessageNamesTimeAndSeries(t *testing.T) {
 	db := filepath.Join(t.TempDir(), "tie.db")
 	initStore(t, db)

@@ -27,6 +27,7 @@ Shell commands (one per line, not ended by ';'):
   :format [FORMAT]    show or set the result format: table, csv, json or fields
   :out FILE           send the next results to FILE (format from its extension
                       .csv, .json or .txt, else the current one); :out alone cancels
+  :out --force FILE   the same, replacing FILE if it exists (as --out with --force)
   :functions [TEXT]   list trendsql's SQL functions (only those mentioning TEXT;
                       a TEXT none mentions is an error naming the closest names)
   :help               show this list
@@ -111,6 +112,7 @@ type shell struct {
 	out, errw io.Writer
 	format    string
 	outFile   string // :out: the next results go to this file
+	outForce  bool   // :out --force: outFile may replace an existing file
 	tty       bool
 	ran       int // statements and commands run
 	failed    int // of which failed
@@ -349,13 +351,16 @@ func (sh *shell) output() outputOptions {
 // format its extension names (else the current format), and goes back to
 // the screen for the next results.
 func (sh *shell) writeToFile(rows rowSource) error {
-	path := sh.outFile
-	sh.outFile = ""
+	path, force := sh.outFile, sh.outForce
+	sh.outFile, sh.outForce = "", false
 	format := formatForFile(path, sh.format, false)
 	if format == "" {
 		format = sh.format
 	}
-	f, err := createResultFile(path, false)
+	if isStoreFile(path, sh.store.Path) {
+		return fmt.Errorf(":out: %s is the store itself (or its journal); results never replace it, --force or not", path)
+	}
+	f, err := createResultFile(path, force)
 	if err != nil {
 		return fmt.Errorf(":out: %w", err)
 	}
@@ -426,17 +431,35 @@ func (sh *shell) dispatch(line string) error {
 		_, err = writeRows(sh.out, rows, sh.output())
 		return err
 	case ":out":
+		force := len(args) > 0 && args[0] == "--force"
+		if force {
+			args = args[1:]
+		}
 		if err := wantArgs(0, 1); err != nil {
 			return err
 		}
+		if force && len(args) == 0 {
+			return fmt.Errorf(":out --force: name the file to write (see :help)")
+		}
 		if len(args) == 0 {
-			sh.outFile = ""
+			sh.outFile, sh.outForce = "", false
 			return nil
 		}
-		if _, err := os.Stat(args[0]); err == nil {
-			return fmt.Errorf(":out: %s exists; choose another file", args[0])
+		if strings.HasPrefix(args[0], "-") {
+			return fmt.Errorf(":out: unknown option %s (:out --force FILE replaces an existing FILE)", args[0])
 		}
-		sh.outFile = args[0]
+		if isStoreFile(args[0], sh.store.Path) {
+			return fmt.Errorf(":out: %s is the store itself (or its journal); results never replace it, --force or not", args[0])
+		}
+		if st, err := os.Stat(args[0]); err == nil {
+			if st.IsDir() {
+				return fmt.Errorf(":out: %s is a directory", args[0])
+			}
+			if !force {
+				return fmt.Errorf(":out: %s exists; choose another file or replace it with :out --force %s", args[0], args[0])
+			}
+		}
+		sh.outFile, sh.outForce = args[0], force
 	case ":format":
 		if err := wantArgs(0, 1); err != nil {
 			return err
