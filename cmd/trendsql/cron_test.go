@@ -54,6 +54,9 @@ func TestReadmeCronRecipe(t *testing.T) {
 	if out := run(db, " --station VOR-W99"); !strings.Contains(out, "trendsql summarize failed") {
 		t.Errorf("mistyped station printed %q, want the failure line", out)
 	}
+	if out := run(db, ` --where "st.id = 'VOR-W10'"`); !strings.Contains(out, "trendsql summarize failed") {
+		t.Errorf("--where matching no series printed %q, want the failure line", out)
+	}
 	if out := run(filepath.Join(dir, "typo.db"), ""); !strings.Contains(out, "trendsql summarize failed") {
 		t.Errorf("mistyped store printed %q, want the failure line", out)
 	}
@@ -69,7 +72,7 @@ func TestReadmeCronRecipe(t *testing.T) {
 	if msg := quoted[start+1 : start+end+1]; !strings.Contains(string(log), msg) {
 		t.Errorf("README quotes %q; the log says:\n%s", msg, log)
 	}
-	for _, want := range []string{"summarize run", "nothing to do", "no such station (closest: VOR-W09", "no store at this path"} {
+	for _, want := range []string{"summarize run", "nothing to do", "no such station (closest: VOR-W09", "--where matched no series", "no store at this path"} {
 		if !strings.Contains(string(log), want) {
 			t.Errorf("log lacks %q:\n%s", want, log)
 		}

@@ -78,13 +78,42 @@ func TestSummarizeUnknownSelectionIsUsageError(t *testing.T) {
 	if code != ExitUsage || !strings.Contains(errs, "--station VOR-G01 --variable nitrate_n: no such series (VOR-G01 measures stage)") {
 		t.Errorf("known names, no series: exit %d, stderr %q", code, errs)
 	}
-	// A --where that matches nothing stays "nothing to do".
+	// A --where that matches none of the series the other flags select is
+	// a mistake in the condition too, not "nothing to do".
 	_, errs, code = runIn("", "--db", db, "summarize", "--station", "VOR-G01", "--where", "st.id = 'VOR-G02'")
-	if code != ExitNothing || !strings.Contains(errs, "no series match") {
+	if code != ExitUsage || !strings.Contains(errs, "summarize: --where matched no series (none of the 1 series --station/--variable select); no run is recorded") ||
+		strings.Count(errs, "\n") != 1 {
+		t.Errorf("--where matching nothing: exit %d, stderr %q", code, errs)
+	}
+	// The demo store has 49 series (its tour says so).
+	_, errs, code = runIn("", "--db", db, "summarize", "--where", "st.metadata->>'aquifer' = 'no such aquifer'")
+	if code != ExitUsage || !strings.Contains(errs, "summarize: --where matched no series (none of the store's 49 series)") {
 		t.Errorf("--where matching nothing: exit %d, stderr %q", code, errs)
 	}
 	if n := queryInt(t, storetest.View(t, db).DB, `SELECT count(*) FROM summary_runs`); n != 0 {
 		t.Errorf("refused selections recorded %d runs", n)
+	}
+}
+
+// A store with no series yet has nothing to summarize, with --where or
+// without: exit 3, as before the first import. Matched but unchanged stays
+// exit 3 with a --where as well.
+func TestSummarizeNothingToDoWithWhere(t *testing.T) {
+	empty := filepath.Join(t.TempDir(), "empty.db")
+	initStore(t, empty)
+	for _, args := range [][]string{{"summarize"}, {"summarize", "--where", "st.id = 'X'"}} {
+		_, errs, code := runIn("", append([]string{"--db", empty}, args...)...)
+		if code != ExitNothing || !strings.Contains(errs, "summarize: nothing to do: no series match the selection") {
+			t.Errorf("%v on a store without series: exit %d, stderr %q", args, code, errs)
+		}
+	}
+	db := storetest.Copy(t, demoStore(t))
+	args := []string{"--db", db, "summarize", "--changed-only", "--where", "st.id = 'VOR-G01'"}
+	if _, errs, code := runIn("", args...); code != 0 {
+		t.Fatalf("first run: exit %d, stderr %q", code, errs)
+	}
+	if _, errs, code := runIn("", args...); code != ExitNothing || !strings.Contains(errs, "nothing to do: 1 series selected, all 1 unchanged") {
+		t.Errorf("second run with nothing new: exit %d, stderr %q", code, errs)
 	}
 }
 

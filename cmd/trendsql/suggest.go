@@ -102,7 +102,7 @@ type selection struct {
 // no series (a station that does not measure the variable), so a typo in a
 // scheduled job is not taken for "nothing to do". The message offers the
 // closest known names, or what the selected stations do measure. --where
-// is not checked here: a condition that matches nothing is "nothing to do".
+// is checked by summarize once the selection has run (checkWhereMatched).
 func checkSelection(ctx context.Context, q store.Querier, cmd string, sel selection) error {
 	if len(sel.stations) == 0 && len(sel.variables) == 0 && len(sel.series) == 0 {
 		return nil

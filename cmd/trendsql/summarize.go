@@ -5,6 +5,8 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"slices"
+	"strings"
 	"time"
 
 	"github.com/schollz/progressbar/v3"
@@ -13,6 +15,7 @@ import (
 
 	"trendsql/sqlfuncs/stats"
 	"trendsql/sqlfuncs/timefmt"
+	"trendsql/store"
 	"trendsql/store/summaries"
 )
 
@@ -61,11 +64,12 @@ that adjustment with their stored p-values.
 
 Exit codes: 0 run stored; 1 run failed (recorded as failed), or no store
 at --db; 2 usage error, including a --station or --variable the store does
-not know (the message names the closest known ones) and stations and
+not know (the message names the closest known ones), stations and
 variables that hold no series together (it names what the stations
-measure); 3 nothing to do (e.g. --changed-only found no changes, or --where
-matches no series) or another run or writer held the
-store for longer than --wait (default 10s; --wait 0 does not wait).`,
+measure) and a --where that matches none of the series the other flags
+select; 3 nothing to do (--changed-only found no changes, or the store holds
+no series yet) or another run or writer held the store for longer than
+--wait (default 10s; --wait 0 does not wait).`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error { return runSummarize(cmd.Context(), e, o) },
 	}
@@ -185,6 +189,9 @@ func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {
 	case errors.Is(err, summaries.ErrNothingToDo):
 		// One line (cron logs): the reason and exit code 3.
 		if res.Selected == 0 {
+			if err := checkWhereMatched(ctx, s.DB, o); err != nil {
+				return err
+			}
 			return &exitError{code: ExitNothing, err: errors.New("summarize: nothing to do: no series match the selection")}
 		}
 		return &exitError{code: ExitNothing, err: fmt.Errorf("summarize: nothing to do: %d series selected, all %d unchanged since their last summary with the same parameters", res.Selected, res.Skipped)}
@@ -204,6 +211,38 @@ func runSummarize(ctx context.Context, e *env, o summarizeOptions) error {
 		fmt.Fprintln(e.errw, "  (statistical trends are not causal findings; agency procedures and qualified review govern decisions)")
 	}
 	return nil
+}
+
+// checkWhereMatched refuses (exit code 2) a --where that matched no series
+// while --station and --variable alone select some: a condition that
+// matches nothing is a mistake in it (a misspelt value or metadata key),
+// not "nothing to do", so a scheduled job fails loudly instead of passing
+// every night. New readings are what --changed-only follows; --where
+// selects stations and series. With no series to choose from (a store
+// with nothing imported yet) it returns nil: there is nothing to do.
+func checkWhereMatched(ctx context.Context, q store.Querier, o summarizeOptions) error {
+	if strings.TrimSpace(o.where) == "" {
+		return nil
+	}
+	all, err := store.SeriesOf(ctx, q, nil)
+	if err != nil {
+		return err
+	}
+	n := 0
+	for _, r := range all {
+		if (len(o.stations) == 0 || slices.Contains(o.stations, r.StationID)) &&
+			(len(o.variables) == 0 || slices.Contains(o.variables, r.Variable)) {
+			n++
+		}
+	}
+	if n == 0 {
+		return nil
+	}
+	of := fmt.Sprintf("none of the store's %s", plural(n, "series", "series"))
+	if len(o.stations) > 0 || len(o.variables) > 0 {
+		of = fmt.Sprintf("none of the %s --station/--variable select", plural(n, "series", "series"))
+	}
+	return usageErr("summarize: --where matched no series (%s); no run is recorded: check the condition's names and values, e.g. with trendsql query \"SELECT s.id, s.station_id, s.variable FROM series s JOIN stations st ON st.id = s.station_id WHERE …\"", of)
 }
 
 // isTerminalWriter reports whether w is a terminal (progress bars only there).
