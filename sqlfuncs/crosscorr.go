@@ -173,11 +173,11 @@ func crossCorrelogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	b.num("band", 1.96/math.Sqrt(float64(st.N)))
 	var lags strings.Builder
 	lags.WriteByte('[')
-	for h := -int(maxLag); h <= int(maxLag); h++ {
-		if h > -int(maxLag) {
+	for k, c := range stats.CrossAll(x, y, st, int(maxLag)) {
+		h := c.Lag
+		if k > 0 {
 			lags.WriteByte(',')
 		}
-		c := stats.CrossAt(x, y, st, h)
 		lags.WriteString(`{"lag":` + strconv.Itoa(h) + `,"pairs":` + strconv.Itoa(c.Pairs) +
 			`,"ccvf":` + jsonNum(math.Ldexp(c.Cov, kx+ky)) + `,"ccf":` + jsonNum(c.Corr) + `}`)
 	}

@@ -198,9 +198,17 @@ func lagPairsAt(N, h int, miss []int) int {
 }
 
 // SampleACVF returns γ̂(0..maxLag) of the gridded series x (NaN = missing),
-// choosing direct lag sums or the FFT by size. Lags ≥ N are NaN with zero
+// choosing sums over present pairs for a sparsely filled grid
+// (sparse_lags.go), else direct lag sums or the FFT by size. Lags ≥ N are NaN with zero
 // pairs. maxLag < 0 is treated as 0.
 func SampleACVF(x []float64, maxLag int) Autocov {
+	if N, L := len(x), min(maxLag, len(x)-1); L >= 0 {
+		if sparse(N, countPresent(x), L) {
+			a, z, _ := newAutocov(x, maxLag)
+			sparseACVF(&a, z, presentSlots(x), L)
+			return a
+		}
+	}
 	if maxLag >= fftMinLag && len(x) >= fftMinSlots {
 		return SampleACVFFFT(x, maxLag)
 	}
