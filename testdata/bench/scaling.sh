@@ -26,7 +26,10 @@
 # rounds.
 #
 # Environment: TRENDSQL (default ./trendsql), PYTHON (default /usr/bin/python3),
-# ITEM_TIMEOUT (default 5m; a repetition running longer is cancelled).
+# ITEM_TIMEOUT (default 5m; a repetition running longer is cancelled),
+# SCALING_ONLY (default empty: both; "length": only the per-series-n
+# configurations and tables, without the 10M run, the 3M configuration and
+# the total-rows tables).
 set -eu
 if [ $# -lt 1 ]; then
 	echo "usage: $0 OUTDIR [REPS]" >&2
@@ -37,18 +40,24 @@ REPS=${2:-3}
 TRENDSQL=${TRENDSQL:-./trendsql}
 PYTHON=${PYTHON:-/usr/bin/python3}
 ITEM_TIMEOUT=${ITEM_TIMEOUT:-5m}
+ONLY=${SCALING_ONLY:-}
+case $ONLY in
+"") CFGS="100x10000 300x10000 1000x1000 10x100000" ;;
+length) CFGS="1000x1000 100x10000 10x100000" ;;
+*) echo "$0: SCALING_ONLY must be empty or \"length\", not \"$ONLY\"" >&2; exit 2 ;;
+esac
 mkdir -p "$OUT/scaling"
 bench() { # bench SERIES READINGS REPS FILE
 	"$TRENDSQL" bench --stations "$1" --readings "$2" --reps "$3" --item-timeout "$ITEM_TIMEOUT" --quiet --format json > "$4.tmp"
 	mv "$4.tmp" "$4"
 }
-if [ ! -s "$OUT/1000x10000.json" ]; then
+if [ -z "$ONLY" ] && [ ! -s "$OUT/1000x10000.json" ]; then
 	echo "scaling: 1000 series × 10000 readings, $REPS repetitions" >&2
 	bench 1000 10000 "$REPS" "$OUT/1000x10000.json"
 fi
 round=1
 while [ "$round" -le "$REPS" ]; do
-	for cfg in 100x10000 300x10000 1000x1000 10x100000; do
+	for cfg in $CFGS; do
 		f=$OUT/scaling/$cfg.$round.json
 		[ -s "$f" ] && continue
 		echo "scaling: round $round/$REPS, ${cfg%x*} series × ${cfg#*x} readings" >&2
@@ -56,9 +65,9 @@ while [ "$round" -le "$REPS" ]; do
 	done
 	round=$(( round + 1 ))
 done
-"$PYTHON" - "$OUT" "$REPS" <<'PY'
+"$PYTHON" - "$OUT" "$REPS" "$ONLY" <<'PY'
 import json, os, statistics, sys
-out, reps = sys.argv[1], int(sys.argv[2])
+out, reps, only = sys.argv[1], int(sys.argv[2]), sys.argv[3]
 def load(cfg):
     """Per item: the median over the rounds of its wall time, and the rows."""
     if cfg == "1000x10000":
@@ -105,8 +114,10 @@ def table(title, cfgs, ratio=False):
         print("| %s | %s | %s | %s |" % (name, " | ".join(cells), spread, dev))
 total = ["100x10000", "300x10000", "1000x10000"]
 length = ["1000x1000", "100x10000", "10x100000"]
-table("**Total rows grow, 10,000 readings per series**", total)
+if not only:
+    table("**Total rows grow, 10,000 readings per series**", total)
 table("**Per-series n grows, 1M rows in total**", length)
-table("**Total rows grow, as multiples of the same invocation's avg() scan**", total, ratio=True)
+if not only:
+    table("**Total rows grow, as multiples of the same invocation's avg() scan**", total, ratio=True)
 table("**Per-series n grows, as multiples of the same invocation's avg() scan**", length, ratio=True)
 PY
