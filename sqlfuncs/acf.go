@@ -5,7 +5,7 @@ package sqlfuncs
 //
 //	sample_acvf(t, y, lag [, options])          aggregate/window → REAL γ̂(lag)
 //	sample_acf(t, y, lag [, options])           aggregate/window → REAL ρ̂(lag)
-//	correlogram(t, y, max_lag [, options])      aggregate/window → JSON (below)
+//	correlogram(t, y, max_lag [, options])      aggregate/window → JSON (below), max_lag ≤ 100,000
 //	ljung_box(t, y, lags [, fitdf [, options]]) aggregate/window → JSON {q, df, p, n, ...}
 //	box_pierce(t, y, lags [, fitdf [, options]]) aggregate/window → JSON {q, df, p, n, ...}
 //	ljung_box_p(t, y, lags [, fitdf [, options]]) aggregate/window → REAL p
@@ -103,8 +103,14 @@ import (
 	"trendsql/sqlfuncs/timefmt"
 )
 
-// maxLagArg bounds lag arguments.
-const maxLagArg = 1 << 20
+// maxLagArg bounds lag arguments; maxLagListArg bounds the max_lag of the
+// functions that return one JSON object per lag (correlogram,
+// cross_correlogram): 100,000 lags is already about 15 MB of JSON, and
+// lags at or beyond the grid's slots carry no information.
+const (
+	maxLagArg     = 1 << 20
+	maxLagListArg = 100_000
+)
 
 // lagOptions are the parsed trailing arguments of a lag function.
 type lagOptions struct {
@@ -224,7 +230,7 @@ func lagValue(fn string, acf bool) func(r Rows, opts []driver.Value) (driver.Val
 
 func correlogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	const fn = "correlogram"
-	maxLag, err := argInt(fn, "max_lag", opts[0], 0, maxLagArg)
+	maxLag, err := argInt(fn, "max_lag", opts[0], 0, maxLagListArg)
 	if err != nil {
 		return nil, err
 	}

@@ -23,3 +23,22 @@ func TestArgIntOutOfRangeShowsGivenValue(t *testing.T) {
 		}
 	}
 }
+
+// The functions that return one JSON object per lag bound max_lag at
+// 100,000 (maxLagListArg); the bound itself is accepted.
+func TestLagListBound(t *testing.T) {
+	db := fuzzConn(t)
+	for _, fn := range []string{"correlogram(t, y, %d)", "cross_correlogram(t, y, y, %d)"} {
+		var v any
+		q := "SELECT " + strings.Replace(fn, "%d", "100001", 1) + " FROM (SELECT 1 AS t, 2.0 AS y UNION ALL SELECT 2, 3.0)"
+		err := db.QueryRow(q).Scan(&v)
+		if err == nil || !strings.Contains(err.Error(), "max_lag = 100001 is out of range [0, 100000]") {
+			t.Errorf("%s: %v; want the range error", q, err)
+		}
+		q = "SELECT " + strings.Replace(fn, "%d", "100000", 1) + " FROM (SELECT 1 AS t, 2.0 AS y UNION ALL SELECT 2, 3.0)"
+		var s string
+		if err := db.QueryRow(q).Scan(&s); err != nil || !strings.Contains(s, `"lag":100000`) {
+			t.Errorf("%s: %v (result %d bytes); want every lag listed", q, err, len(s))
+		}
+	}
+}

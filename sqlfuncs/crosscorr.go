@@ -8,7 +8,7 @@ package sqlfuncs
 // Arguments. t: INTEGER/REAL unix seconds (UTC) or TEXT time (args.go). x,
 // y: INTEGER, REAL or numeric TEXT — typically two stations joined on time,
 // e.g. FROM readings a JOIN readings b ON b.t = a.t. lag: INTEGER, any
-// sign, |lag| ≤ 2^20; max_lag: INTEGER ≥ 0.
+// sign, |lag| ≤ 2^20; max_lag: INTEGER, 0 ≤ max_lag ≤ 100,000.
 //
 // NULL, short input, order. A row is used only when both x and y are
 // non-NULL (pairs joined on time); a NULL t is an error. Rows may come in
@@ -134,7 +134,7 @@ func crossCorrValue(r Rows, opts []driver.Value) (driver.Value, error) {
 
 func crossCorrelogramValue(r Rows, opts []driver.Value) (driver.Value, error) {
 	const fn = "cross_correlogram"
-	maxLag, err := argInt(fn, "max_lag", opts[0], 0, crossMaxLag)
+	maxLag, err := argInt(fn, "max_lag", opts[0], 0, maxLagListArg)
 	if err != nil {
 		return nil, err
 	}
