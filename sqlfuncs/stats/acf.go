@@ -202,17 +202,15 @@ func lagPairsAt(N, h int, miss []int) int {
 // (sparse_lags.go), else direct lag sums or the FFT by size. Lags ≥ N are NaN with zero
 // pairs. maxLag < 0 is treated as 0.
 func SampleACVF(x []float64, maxLag int) Autocov {
-	if N, L := len(x), min(maxLag, len(x)-1); L >= 0 {
-		if sparse(N, countPresent(x), L) {
-			a, z, _ := newAutocov(x, maxLag)
-			sparseACVF(&a, z, presentSlots(x), L)
-			return a
-		}
+	a, z, miss := newAutocov(x, maxLag)
+	if N, L := len(x), min(maxLag, len(x)-1); L >= 0 && sparse(N, a.N, L) {
+		sparseACVF(&a, z, presentSlots(x), L)
+		return a
 	}
 	if maxLag >= fftMinLag && len(x) >= fftMinSlots {
-		return SampleACVFFFT(x, maxLag)
+		return acvfFFT(a, z, miss)
 	}
-	return SampleACVFDirect(x, maxLag)
+	return acvfDirect(a, z, miss)
 }
 
 func newAutocov(x []float64, maxLag int) (Autocov, []float64, []int) {
@@ -241,8 +239,13 @@ func (a *Autocov) finish(h int, s float64, m int) {
 // Pair counts come from the missing slots (lagPairs).
 func SampleACVFDirect(x []float64, maxLag int) Autocov {
 	a, z, miss := newAutocov(x, maxLag)
-	N := len(x)
-	L := min(maxLag, N-1)
+	return acvfDirect(a, z, miss)
+}
+
+// acvfDirect is SampleACVFDirect on newAutocov's result.
+func acvfDirect(a Autocov, z []float64, miss []int) Autocov {
+	N := len(z)
+	L := min(len(a.ACVF)-1, N-1)
 	if L < 0 {
 		return a
 	}
@@ -331,11 +334,16 @@ func autocorrSums(f *fourier.FFT, v []float64, maxLag int) []float64 {
 // 1e-12·γ̂(0) in absolute terms (tested).
 func SampleACVFFFT(x []float64, maxLag int) Autocov {
 	a, z, miss := newAutocov(x, maxLag)
-	N := len(x)
+	return acvfFFT(a, z, miss)
+}
+
+// acvfFFT is SampleACVFFFT on newAutocov's result.
+func acvfFFT(a Autocov, z []float64, miss []int) Autocov {
+	N := len(z)
 	if N == 0 {
 		return a
 	}
-	L := min(maxLag, N-1)
+	L := min(len(a.ACVF)-1, N-1)
 	f := fourier.NewFFT(fftSize(2 * N))
 	s := autocorrSums(f, z, L)
 	var pairs []int
