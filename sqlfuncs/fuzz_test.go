@@ -138,6 +138,9 @@ func fuzzValue(b []byte) float64 {
 	mant := float64(int32(u)) / (1 << 16)
 	exp := int(int16(u>>32)) % 331
 	v := mant * math.Pow(10, float64(exp))
+	if math.IsNaN(v) { // a zero mantissa times 10^309 and above (0·∞)
+		return 0
+	}
 	if math.IsInf(v, 0) {
 		return math.Copysign(math.MaxFloat64, v)
 	}
