@@ -347,6 +347,15 @@ func (sh *shell) output() outputOptions {
 	return outputOptions{format: sh.format, width: terminalWidth(sh.out)}
 }
 
+// refuseStoreFile refuses a results file that is the store or its journal
+// (checked when :out names it and again when the results are written).
+func (sh *shell) refuseStoreFile(path string) error {
+	if isStoreFile(path, sh.store.Path) {
+		return fmt.Errorf(":out: %s is the store itself (or its journal); results never replace it, --force or not", path)
+	}
+	return nil
+}
+
 // writeToFile sends one result set to the file named by :out, in the
 // format its extension names (else the current format), and goes back to
 // the screen for the next results.
@@ -357,8 +366,8 @@ func (sh *shell) writeToFile(rows rowSource) error {
 	if format == "" {
 		format = sh.format
 	}
-	if isStoreFile(path, sh.store.Path) {
-		return fmt.Errorf(":out: %s is the store itself (or its journal); results never replace it, --force or not", path)
+	if err := sh.refuseStoreFile(path); err != nil {
+		return err
 	}
 	f, err := createResultFile(path, force)
 	if err != nil {
@@ -448,8 +457,8 @@ func (sh *shell) dispatch(line string) error {
 		if strings.HasPrefix(args[0], "-") {
 			return fmt.Errorf(":out: unknown option %s (:out --force FILE replaces an existing FILE)", args[0])
 		}
-		if isStoreFile(args[0], sh.store.Path) {
-			return fmt.Errorf(":out: %s is the store itself (or its journal); results never replace it, --force or not", args[0])
+		if err := sh.refuseStoreFile(args[0]); err != nil {
+			return err
 		}
 		if st, err := os.Stat(args[0]); err == nil {
 			if st.IsDir() {

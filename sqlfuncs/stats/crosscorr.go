@@ -89,15 +89,21 @@ func CrossAt(x, y []float64, st CrossStats, h int) CrossCov {
 		c.Pairs++
 		sum += (xv - st.MeanX) * (yv - st.MeanY)
 	}
+	c.finish(sum, st)
+	return c
+}
+
+// finish sets Cov = S_xy(h)/(m(h)+|h|) and Corr from the lag sum (both stay
+// NaN when there are no pairs).
+func (c *CrossCov) finish(sum float64, st CrossStats) {
 	if c.Pairs == 0 {
-		return c
+		return
 	}
-	c.Cov = sum / float64(c.Pairs+a)
+	c.Cov = sum / float64(c.Pairs+abs(c.Lag))
 	if st.VarX > 0 && st.VarY > 0 {
 		r := c.Cov / math.Sqrt(st.VarX*st.VarY)
 		c.Corr = math.Max(-1, math.Min(1, r))
 	}
-	return c
 }
 
 func abs(h int) int {

@@ -105,16 +105,7 @@ func CrossAll(x, y []float64, st CrossStats, maxLag int) []CrossCov {
 		}
 	}
 	for k := range out {
-		c := &out[k]
-		if c.Pairs == 0 {
-			continue
-		}
-		a := abs(c.Lag)
-		c.Cov = sum[k] / float64(c.Pairs+a)
-		if st.VarX > 0 && st.VarY > 0 {
-			r := c.Cov / math.Sqrt(st.VarX*st.VarY)
-			c.Corr = math.Max(-1, math.Min(1, r))
-		}
+		out[k].finish(sum[k], st)
 	}
 	return out
 }
